@@ -1,0 +1,228 @@
+"""The immutable, exact `Model`: what a `.pk` file says, as sympy objects.
+
+Built only by :mod:`proofkit.lang` (or by tests from sympy objects directly).
+Every number in it is exact (sympy ``Integer``/``Rational`` or an exact
+constant such as ``pi``); no float ever enters. Constants and ``let``
+shorthands are already substituted into equations, sets and points;
+parameters stay symbolic until :meth:`Model.at_nominal`.
+
+This module must never parse text, call a solver, or evaluate user strings.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass, field, replace
+from typing import Literal
+
+import sympy as sp
+
+from proofkit.errors import ModelError, SourceSpan
+
+__all__ = [
+    "Claim",
+    "ClaimKind",
+    "Condition",
+    "Constant",
+    "Equation",
+    "Equilibrium",
+    "Let",
+    "Model",
+    "Param",
+    "Region",
+]
+
+ClaimKind = Literal["stable", "unstable", "globally stable", "attracts", "no cycle", "cycle"]
+Relation = Literal["<=", "<", ">=", ">"]
+
+
+@dataclass(frozen=True)
+class Constant:
+    name: str
+    value: sp.Expr
+    span: SourceSpan | None = field(default=None, compare=False)
+
+
+@dataclass(frozen=True)
+class Param:
+    """A parameter: nominal value and, if uncertain, the closed range ``[low, high]``."""
+
+    name: str
+    nominal: sp.Expr
+    low: sp.Expr | None = None
+    high: sp.Expr | None = None
+    span: SourceSpan | None = field(default=None, compare=False)
+
+    @property
+    def symbol(self) -> sp.Symbol:
+        return sp.Symbol(self.name, real=True)
+
+    @property
+    def is_uncertain(self) -> bool:
+        return self.low is not None
+
+
+@dataclass(frozen=True)
+class Let:
+    """A shorthand; ``expr`` has earlier constants and lets substituted."""
+
+    name: str
+    expr: sp.Expr
+    span: SourceSpan | None = field(default=None, compare=False)
+
+
+@dataclass(frozen=True)
+class Equation:
+    """``state' = rhs``; ``rhs`` is in state and parameter symbols only."""
+
+    state: str
+    rhs: sp.Expr
+    span: SourceSpan | None = field(default=None, compare=False)
+
+
+@dataclass(frozen=True)
+class Condition:
+    """One condition ``lhs op rhs`` of a set."""
+
+    lhs: sp.Expr
+    op: Relation
+    rhs: sp.Expr
+    span: SourceSpan | None = field(default=None, compare=False)
+
+    def as_nonnegative(self) -> tuple[sp.Expr, bool]:
+        """Return ``(g, strict)`` with the condition equivalent to ``g >= 0`` (``> 0`` if strict)."""
+        g = self.rhs - self.lhs if self.op in ("<=", "<") else self.lhs - self.rhs
+        return sp.expand(g), self.op in ("<", ">")
+
+
+@dataclass(frozen=True)
+class Region:
+    """A conjunction of conditions (a basic semialgebraic set when polynomial)."""
+
+    conditions: tuple[Condition, ...]
+    span: SourceSpan | None = field(default=None, compare=False)
+
+    def __iter__(self) -> Iterator[Condition]:
+        return iter(self.conditions)
+
+    def nonnegative_forms(self) -> tuple[tuple[sp.Expr, bool], ...]:
+        return tuple(c.as_nonnegative() for c in self.conditions)
+
+    def subs(self, mapping: Mapping[sp.Symbol, sp.Expr]) -> Region:
+        return Region(
+            tuple(replace(c, lhs=c.lhs.subs(mapping), rhs=c.rhs.subs(mapping)) for c in self),
+            self.span,
+        )
+
+
+@dataclass(frozen=True)
+class Equilibrium:
+    """A declared equilibrium; ``point`` lists ``(state, value)`` in state order."""
+
+    name: str
+    point: tuple[tuple[str, sp.Expr], ...]
+    span: SourceSpan | None = field(default=None, compare=False)
+
+    def as_dict(self) -> dict[str, sp.Expr]:
+        return dict(self.point)
+
+
+@dataclass(frozen=True)
+class Claim:
+    """A statement to prove, exactly as the file states it.
+
+    ``target`` names the equilibrium (``None`` for cycle claims); ``region``
+    is the set of ``attracts``, ``no cycle`` and ``cycle`` claims; ``text``
+    is the claim as written (without the leading ``claim``).
+    """
+
+    kind: ClaimKind
+    text: str
+    target: str | None = None
+    region: Region | None = None
+    at_nominal: bool = False
+    span: SourceSpan | None = field(default=None, compare=False)
+
+
+@dataclass(frozen=True)
+class Model:
+    """One continuous-time system ``dx/dt = f(x, p)`` and its claims."""
+
+    name: str | None
+    states: tuple[str, ...]
+    equations: tuple[Equation, ...]
+    params: tuple[Param, ...] = ()
+    constants: tuple[Constant, ...] = ()
+    lets: tuple[Let, ...] = ()
+    domain: Region | None = None
+    equilibria: tuple[Equilibrium, ...] = ()
+    claims: tuple[Claim, ...] = ()
+    source: str = field(default="", compare=False)
+    file: str = field(default="<model>", compare=False)
+
+    def __post_init__(self) -> None:
+        if tuple(e.state for e in self.equations) != self.states:
+            raise ModelError("equations must be given one per state, in state order")
+
+    # --- symbols -----------------------------------------------------------
+    @property
+    def state_symbols(self) -> tuple[sp.Symbol, ...]:
+        return tuple(sp.Symbol(s, real=True) for s in self.states)
+
+    @property
+    def param_symbols(self) -> tuple[sp.Symbol, ...]:
+        return tuple(p.symbol for p in self.params)
+
+    @property
+    def field(self) -> tuple[sp.Expr, ...]:
+        """The vector field ``f`` in state order (parameters symbolic)."""
+        return tuple(e.rhs for e in self.equations)
+
+    def equilibrium(self, name: str) -> Equilibrium:
+        for eq in self.equilibria:
+            if eq.name == name:
+                return eq
+        raise KeyError(name)
+
+    # --- derived models ----------------------------------------------------
+    def nominal_values(self) -> dict[sp.Symbol, sp.Expr]:
+        return {p.symbol: p.nominal for p in self.params}
+
+    def at_nominal(self) -> Model:
+        """The same model with every parameter replaced by its nominal value."""
+        values = self.nominal_values()
+        if not values:
+            return self
+
+        def sub(e: sp.Expr) -> sp.Expr:
+            return sp.expand(e.subs(values))
+
+        return replace(
+            self,
+            params=(),
+            equations=tuple(replace(e, rhs=sub(e.rhs)) for e in self.equations),
+            domain=self.domain.subs(values) if self.domain else None,
+            equilibria=tuple(
+                replace(q, point=tuple((s, v.subs(values)) for s, v in q.point))
+                for q in self.equilibria
+            ),
+            claims=tuple(
+                replace(c, region=c.region.subs(values)) if c.region else c for c in self.claims
+            ),
+        )
+
+    # --- structure ---------------------------------------------------------
+    def is_polynomial(self) -> bool:
+        """True when every right-hand side is a polynomial in the states.
+
+        Parameters may enter in any way (they are fixed numbers for the field).
+        """
+        xs = self.state_symbols
+        return all(e.rhs.is_polynomial(*xs) for e in self.equations)
+
+    def degree(self) -> int:
+        """Total degree of the polynomial field in the states."""
+        if not self.is_polynomial():
+            raise ModelError("the vector field is not polynomial in the states")
+        xs = self.state_symbols
+        return max((sp.Poly(e.rhs, *xs).total_degree() for e in self.equations), default=0)
