@@ -1,0 +1,220 @@
+"""Exact algebra for the audit: sparse polynomials, matrices, Routh arrays, LDL'.
+
+Everything works on :class:`~proofkit.audit.numbers.Num` (rationals or one
+quadratic field) with plain Python containers so that a reviewer can check
+each routine against its textbook definition.
+
+This module must never use floating point and imports only the standard
+library and :mod:`proofkit.audit.numbers`.
+"""
+
+from __future__ import annotations
+
+import itertools
+from collections.abc import Sequence
+
+from proofkit.audit.numbers import Num
+
+__all__ = [
+    "Matrix",
+    "Poly",
+    "char_poly",
+    "ldl_pivots",
+    "poly_add",
+    "poly_derivative",
+    "poly_eval",
+    "poly_mul",
+    "poly_scale",
+    "routh_rows",
+    "shift_and_multiply",
+]
+
+Poly = dict[tuple[int, ...], Num]  # exponent vector -> nonzero coefficient
+Matrix = list[list[Num]]
+
+
+# --- sparse polynomials ------------------------------------------------------
+def _clean(p: Poly) -> Poly:
+    return {e: c for e, c in p.items() if not c.is_zero()}
+
+
+def poly_add(p: Poly, q: Poly) -> Poly:
+    out = dict(p)
+    for e, c in q.items():
+        out[e] = out[e] + c if e in out else c
+    return _clean(out)
+
+
+def poly_scale(p: Poly, k: Num) -> Poly:
+    return _clean({e: c * k for e, c in p.items()})
+
+
+def poly_mul(p: Poly, q: Poly) -> Poly:
+    out: Poly = {}
+    for e1, c1 in p.items():
+        for e2, c2 in q.items():
+            e = tuple(a + b for a, b in zip(e1, e2, strict=True))
+            out[e] = out[e] + c1 * c2 if e in out else c1 * c2
+    return _clean(out)
+
+
+def poly_derivative(p: Poly, i: int) -> Poly:
+    """Partial derivative with respect to variable number ``i``."""
+    out: Poly = {}
+    for e, c in p.items():
+        if e[i] > 0:
+            e2 = (*e[:i], e[i] - 1, *e[i + 1 :])
+            out[e2] = c * Num.of(e[i], c.d)
+    return _clean(out)
+
+
+def poly_eval(p: Poly, point: Sequence[Num]) -> Num:
+    total = Num.of(0)
+    for e, c in p.items():
+        term = c
+        for x, k in zip(point, e, strict=True):
+            for _ in range(k):
+                term = term * x
+        total = total + term
+    return total
+
+
+# --- matrices and the characteristic polynomial ------------------------------
+def _matmul(a: Matrix, b: Matrix) -> Matrix:
+    n, m, k = len(a), len(b[0]), len(b)
+    zero = Num.of(0)
+    out = []
+    for i in range(n):
+        row = []
+        for j in range(m):
+            s = zero
+            for t in range(k):
+                s = s + a[i][t] * b[t][j]
+            row.append(s)
+        out.append(row)
+    return out
+
+
+def transpose(a: Matrix) -> Matrix:
+    return [list(col) for col in zip(*a, strict=True)]
+
+
+def mat_add(a: Matrix, b: Matrix) -> Matrix:
+    return [[x + y for x, y in zip(r, s, strict=True)] for r, s in zip(a, b, strict=True)]
+
+
+def matmul(a: Matrix, b: Matrix) -> Matrix:
+    return _matmul(a, b)
+
+
+def char_poly(a: Matrix) -> list[Num]:
+    """``det(sI - A)`` highest degree first, by the Faddeev–LeVerrier recursion.
+
+    M_0 = 0, c_0 = 1; M_k = A M_{k-1} + c_{k-1} I, c_k = -tr(A M_k)/k.
+    """
+    n = len(a)
+    coeffs = [Num.of(1)]
+    m: Matrix = [[Num.of(0)] * n for _ in range(n)]
+    for k in range(1, n + 1):
+        m = _matmul(a, m)
+        for i in range(n):
+            m[i][i] = m[i][i] + coeffs[-1]
+        am = _matmul(a, m)
+        trace = Num.of(0)
+        for i in range(n):
+            trace = trace + am[i][i]
+        coeffs.append(-(trace / Num.of(k)))
+    return coeffs
+
+
+# --- Routh array -------------------------------------------------------------
+def shift_and_multiply(coeffs: Sequence[Num], shift: Num, power: int) -> list[Num]:
+    """Coefficients of ``(s+1)^power * p(s + shift)``, highest degree first.
+
+    The roots of ``p(s + shift)`` are those of ``p`` moved left by ``shift``;
+    the factor ``(s+1)^power`` adds roots at -1 only.
+    """
+    zero = Num.of(0)
+
+    def times_linear(up: list[Num], c0: Num) -> list[Num]:  # up (ascending) * (s + c0)
+        return [
+            (up[i - 1] if i > 0 else zero) + (up[i] * c0 if i < len(up) else zero)
+            for i in range(len(up) + 1)
+        ]
+
+    acc: list[Num] = [zero]  # ascending powers; Horner: acc = acc*(s+shift) + c
+    for c in coeffs:
+        acc = times_linear(acc, shift)
+        acc[0] = acc[0] + c
+    acc = acc[: len(coeffs)]  # the top entry of the first step is always zero
+    for _ in range(power):
+        acc = times_linear(acc, Num.of(1))
+    return acc[::-1]
+
+
+def routh_rows(coeffs: Sequence[Num]) -> list[list[Num]] | None:
+    """The regular Routh array of a polynomial (highest degree first).
+
+    Rows 0 and 1 hold the even- and odd-indexed coefficients; each later
+    entry is ``(b0*a[i+1] - a0*b[i+1]) / b0`` for the two rows above.
+    Returns ``None`` when a first-column entry is zero (a special case).
+    """
+    n = len(coeffs) - 1
+    width = n // 2 + 1
+    zero = Num.of(0)
+
+    def pad(row: list[Num]) -> list[Num]:
+        return row + [zero] * (width - len(row))
+
+    rows = [pad(list(coeffs[0::2])), pad(list(coeffs[1::2]))]
+    while len(rows) < n + 1:
+        a, b = rows[-2], rows[-1]
+        if b[0].is_zero():
+            return None
+        new = [(b[0] * a[i + 1] - a[0] * b[i + 1]) / b[0] for i in range(width - 1)]
+        rows.append([*new, zero])
+    rows = rows[: n + 1]
+    if any(r[0].is_zero() for r in rows):
+        return None
+    return rows
+
+
+def sign_changes(values: Sequence[Num]) -> int:
+    signs = [v.sign() for v in values]
+    return sum(1 for s, t in itertools.pairwise(signs) if s != t)
+
+
+# --- LDL' ---------------------------------------------------------------------
+def ldl_pivots(m: Matrix) -> tuple[list[Num], Matrix] | str:
+    """Exact symmetric elimination ``M = L D L'`` without pivoting.
+
+    Returns ``(d, L)`` (unit lower triangular ``L``) or the reason why ``M``
+    is not positive semidefinite: a negative pivot, or a zero pivot whose
+    column below is not zero (a PSD matrix with a zero diagonal entry has a
+    zero row and column). ``M`` is PSD iff this returns factors; it is
+    positive definite iff moreover every pivot is positive.
+    """
+    n = len(m)
+    a = [list(r) for r in m]
+    lower: Matrix = [[Num.of(1) if i == j else Num.of(0) for j in range(n)] for i in range(n)]
+    pivots: list[Num] = []
+    for k in range(n):
+        p = a[k][k]
+        s = p.sign()
+        if s < 0:
+            return f"negative pivot {p} at position {k + 1}"
+        if s == 0:
+            if any(not a[i][k].is_zero() for i in range(k + 1, n)):
+                return f"zero pivot at position {k + 1} with a nonzero entry below it"
+            pivots.append(p)
+            continue
+        pivots.append(p)
+        for i in range(k + 1, n):
+            lower[i][k] = a[i][k] / p
+        for i in range(k + 1, n):
+            if a[i][k].is_zero():
+                continue
+            f = lower[i][k]
+            for j in range(k + 1, n):
+                a[i][j] = a[i][j] - f * a[k][j]
+    return pivots, lower
