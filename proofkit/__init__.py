@@ -6,6 +6,8 @@ then hand the :class:`Model` to the analysis and proof functions.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from proofkit.errors import (
     CertificateRejected,
     InputError,
@@ -14,7 +16,9 @@ from proofkit.errors import (
     NumericalError,
     ProofkitError,
 )
-from proofkit.model import Model
+
+if TYPE_CHECKING:
+    from proofkit.model import Model
 
 __version__ = "0.1.0"
 
@@ -30,6 +34,16 @@ __all__ = [
     "load",
     "parse",
 ]
+
+
+def __getattr__(name: str) -> object:
+    # ``Model`` (and with it sympy) is imported on first use, so that the light
+    # audit path (``proofkit audit --core-only``) starts without sympy.
+    if name == "Model":
+        from proofkit.model import Model
+
+        return Model
+    raise AttributeError(f"module 'proofkit' has no attribute {name!r}")
 
 
 def parse(text: str, name: str | None = None) -> Model:
