@@ -55,6 +55,7 @@ THEOREMS = {
     ("unstable", "linearization"): "indirect-method-instability",
     ("nonnegative", "sum-of-squares"): "sum-of-squares",
 }
+OPPOSITE = {"stable": "unstable", "unstable": "stable"}
 KINDS = ("stable", "unstable", "globally stable", "attracts", "no cycle", "cycle", "nonnegative")
 
 
@@ -71,7 +72,9 @@ class ClaimVerdict:
     """The audit's decision on one claim: accepted, rejected or not claimed."""
 
     statement: str
-    status: str  # "accepted" | "rejected" | "not claimed"
+    status: (
+        str  # "accepted" | "refuted" (evidence against it accepted) | "rejected" | "not claimed"
+    )
     method: str | None = None
     checked: tuple[str, ...] = ()  # each verified fact, in words
     failed_step: str | None = None
@@ -156,9 +159,8 @@ def _require(cond: bool, step: str, message: str) -> None:
         raise Rejected(step, message)
 
 
-def _check_linearization(claim: dict[str, Any], ctx: _Context, where: str) -> None:
+def _check_linearization(claim: dict[str, Any], kind: str, ctx: _Context, where: str) -> None:
     """Lyapunov's indirect method from an exact Jacobian and an exact Routh array."""
-    kind = claim["kind"]
     _require(ctx.vector_field is not None, "vector field", "no polynomial vector field")
     f: list[Poly] = ctx.vector_field or []
     n = len(ctx.states)
@@ -241,7 +243,7 @@ def _check_lyapunov_matrices(
     ctx.ok("A'P + PA = -Q holds exactly with P > 0 and Q > 0 (exact LDL')")
 
 
-def _check_sos(claim: dict[str, Any], ctx: _Context, where: str) -> None:
+def _check_sos(claim: dict[str, Any], kind: str, ctx: _Context, where: str) -> None:
     """The claimed polynomial ``p`` equals a Gram form with a PSD Gram matrix."""
     ev = _get(claim, "evidence", dict, where)
     w = f"{where}.evidence"
@@ -347,7 +349,7 @@ def _monomial(b: Any, nv: int, where: str) -> list[int]:
     return b
 
 
-CHECKERS: dict[str, Callable[[dict[str, Any], _Context, str], None]] = {
+CHECKERS: dict[str, Callable[[dict[str, Any], str, _Context, str], None]] = {
     "linearization": _check_linearization,
     "sum-of-squares": _check_sos,
 }
@@ -374,6 +376,7 @@ def audit_certificate(data: Any) -> AuditReport:
                 raise FormatError("model.vector_field: one polynomial per state")
             vf = [_poly(p, len(states), 0, f"model.vector_field[{i}]") for i, p in enumerate(raw)]
     verdicts = []
+    status_word = {"proved": "accepted", "refuted": "refuted"}
     for k, claim in enumerate(_get(data, "claims", list, "certificate")):
         where = f"claims[{k}]"
         statement = _get(claim, "statement", str, where)
@@ -387,19 +390,21 @@ def audit_certificate(data: Any) -> AuditReport:
                 raise FormatError(f"{where}: a claim not proved carries no evidence")
             verdicts.append(ClaimVerdict(statement, "not claimed", message=claim["reason"]))
             continue
-        if status != "proved":
-            raise FormatError(f"{where}.status: expected 'proved' or 'not proved'")
+        if status not in ("proved", "refuted"):
+            raise FormatError(f"{where}.status: expected 'proved', 'refuted' or 'not proved'")
         method = _get(claim, "method", str, where)
         ctx = _Context(states, vf, [])
+        # A refuted claim carries evidence for the opposite statement.
+        shown = kind if status == "proved" else OPPOSITE.get(kind, "")
         try:
-            theorem = THEOREMS.get((kind, method))
+            theorem = THEOREMS.get((shown, method))
             _require(theorem is not None, "method", f"method {method!r} cannot prove {kind!r}")
             _require(
                 claim.get("theorem") == theorem,
                 "theorem",
                 f"the theorem for this method is {theorem!r}",
             )
-            CHECKERS[method](claim, ctx, where)
+            CHECKERS[method](claim, shown, ctx, where)
         except Rejected as rej:
             verdicts.append(
                 ClaimVerdict(statement, "rejected", method, tuple(ctx.log), rej.step, rej.message)
@@ -410,7 +415,7 @@ def audit_certificate(data: Any) -> AuditReport:
                 ClaimVerdict(statement, "rejected", method, tuple(ctx.log), "arithmetic", str(exc))
             )
             continue
-        verdicts.append(ClaimVerdict(statement, "accepted", method, tuple(ctx.log)))
+        verdicts.append(ClaimVerdict(statement, status_word[status], method, tuple(ctx.log)))
     return AuditReport(tuple(verdicts))
 
 
