@@ -1,1 +1,1 @@
-"""Placeholder; filled by its issue."""
+"""Exact equilibria, linearization, Routh–Hurwitz and Lyapunov equations."""
