@@ -1,1 +1,95 @@
-"""Placeholder; filled by its issue."""
+"""The model language: ``.pk`` text to the exact, immutable :class:`~proofkit.model.Model`.
+
+Public functions: :func:`parse_model` (text), :func:`load_model` (a file),
+:func:`format_model` (a Model back to text), :func:`format_expr` (one exact
+expression in the language's syntax). Every failure caused by the input is an
+:class:`~proofkit.errors.InputError` (or its :class:`~proofkit.errors.LimitError`)
+with file, line, column, a caret under the fault and a hint.
+
+Nothing in a model file is ever evaluated as Python: the lark tree is turned
+into sympy objects by constructors, never by ``sympify``/``parse_expr``/``eval``.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+from proofkit.errors import InputError, LimitError
+from proofkit.model import Model
+
+from ._diagnostics import Located, make_error
+from ._expr import MAX_EXPONENT, MAX_TERMS
+from ._printer import format_condition, format_expr, format_model, format_region
+from ._syntax import MAX_DEPTH, MAX_FILE_CHARS, parse_tree
+
+__all__ = [
+    "MAX_DEPTH",
+    "MAX_EXPONENT",
+    "MAX_FILE_BYTES",
+    "MAX_TERMS",
+    "format_condition",
+    "format_expr",
+    "format_model",
+    "format_region",
+    "load_model",
+    "parse_model",
+]
+
+MAX_FILE_BYTES = MAX_FILE_CHARS
+
+
+def parse_model(text: str, file: str = "<model>") -> Model:
+    """Parse model text into a Model; ``file`` names the text in error messages."""
+    if not isinstance(text, str):
+        raise InputError(f"model text must be a string, not {type(text).__name__} (in {file})")
+    where = Located(text, file)
+    try:
+        from ._build import build_model
+
+        return build_model(where, parse_tree(where))
+    except InputError:
+        raise
+    except RecursionError:
+        raise make_error(
+            where, f"the model is nested too deeply to process (limit {MAX_DEPTH} levels)",
+            None, limit=True,
+        ) from None
+    except MemoryError:
+        raise make_error(where, "the model is too large to process", None, limit=True) from None
+
+
+def load_model(path: str | os.PathLike[str]) -> Model:
+    """Read a ``.pk`` file (UTF-8, at most 1 MiB) and parse it."""
+    p = Path(path)
+    name = str(path)
+    try:
+        size = p.stat().st_size
+        if size > MAX_FILE_BYTES:
+            raise LimitError(
+                f"{name}: the file has {size} bytes; the limit is {MAX_FILE_BYTES}",
+                hint="a model file should be a short text",
+            )
+        data = p.read_bytes()
+    except FileNotFoundError:
+        raise InputError(f"{name}: no such file", hint="check the path") from None
+    except IsADirectoryError:
+        raise InputError(f"{name}: is a directory, not a model file") from None
+    except PermissionError:
+        raise InputError(f"{name}: permission denied; the file cannot be read") from None
+    except OSError as err:
+        raise InputError(f"{name}: cannot be read ({err.strerror or err})") from None
+    if len(data) > MAX_FILE_BYTES:
+        raise LimitError(f"{name}: the file has {len(data)} bytes; the limit is {MAX_FILE_BYTES}")
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as err:
+        line = data[: err.start].count(b"\n") + 1
+        raise InputError(
+            f"{name}:{line}: the file is not UTF-8 text (byte 0x{data[err.start]:02x} at "
+            f"offset {err.start})",
+            hint="save the model as plain ASCII text",
+        ) from None
+    if text.startswith("\ufeff"):
+        text = text[1:]  # a UTF-8 byte order mark is harmless; drop it
+    return parse_model(text, file=name)

@@ -1,0 +1,428 @@
+"""The parse tree of a model file to the immutable :class:`proofkit.model.Model`.
+
+Statements are processed in file order: names must be declared before they
+are used (claims may name equilibria declared anywhere). Checks done here:
+one ``state`` statement, one equation per state, no duplicate names, nominal
+values inside parameter ranges, equilibria where ``f`` vanishes exactly, claims
+that name declared equilibria, and the term-count limit of every expression.
+
+This module must never evaluate model text: expressions are built by
+:class:`proofkit.lang._expr.ExprBuilder` from the tree.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Any
+
+import sympy as sp
+from lark import Token, Tree
+
+from proofkit.errors import InputError, SourceSpan
+from proofkit.lang._diagnostics import Located, closest, make_error
+from proofkit.lang._expr import FUNCTIONS, MAX_TERMS, Binding, ExprBuilder, Val, estimate_terms
+from proofkit.model import (
+    Claim,
+    Condition,
+    Constant,
+    Equation,
+    Equilibrium,
+    Let,
+    Model,
+    Param,
+    Region,
+)
+
+__all__ = ["build_model"]
+
+_CONST = frozenset({"const"})
+_DYNAMIC = frozenset({"const", "param", "state", "let"})
+_POINT = frozenset({"const", "param"})
+_KIND_WORDS = {
+    "const": "a constant",
+    "param": "a parameter",
+    "state": "a state",
+    "let": "a shorthand (let)",
+    "equilibrium": "an equilibrium",
+}
+_CLAIM_KINDS = {
+    "claim_stable": "stable",
+    "claim_unstable": "unstable",
+    "claim_globally_stable": "globally stable",
+    "claim_attracts": "attracts",
+    "claim_no_cycle": "no cycle",
+    "claim_cycle": "cycle",
+}
+_COMMENT = re.compile(r"#[^\n]*")
+
+
+def _span(where: Located, meta: Any) -> SourceSpan:
+    end = meta.end_column if meta.end_line == meta.line else None
+    return where.span(meta.line, meta.column, end)
+
+
+def _tok_span(where: Located, tok: Token) -> SourceSpan:
+    return where.span(tok.line, tok.column, tok.end_column)
+
+
+class _Builder:
+    """Walks the statements of one file in order, keeping what is declared."""
+
+    def __init__(self, where: Located, tree: Tree) -> None:
+        self.where = where
+        self.tree = tree
+        self.env: dict[str, Binding] = {}
+        self.first_decl = self._declarations(tree)
+        self.name: str | None = None
+        self.system_line: int | None = None
+        self.states: list[str] | None = None
+        self.state_tokens: list[Token] = []
+        self.state_line: int | None = None
+        self.equations: dict[str, Equation] = {}
+        self.params: list[Param] = []
+        self.constants: list[Constant] = []
+        self.lets: list[Let] = []
+        self.domain: Region | None = None
+        self.domain_line: int | None = None
+        self.equilibria: list[tuple[Equilibrium, Tree]] = []
+        self.claims: list[tuple[Claim, Token | None]] = []
+
+    # --- helpers ---------------------------------------------------------------
+    @staticmethod
+    def _declarations(tree: Tree) -> dict[str, int]:
+        first: dict[str, int] = {}
+        for st in tree.children:
+            if not isinstance(st, Tree):
+                continue
+            if st.data in ("const", "param", "let", "equilibrium"):
+                tok = st.children[0]
+                first.setdefault(str(tok), tok.line)
+            elif st.data == "state":
+                for tok in st.children:
+                    first.setdefault(str(tok), tok.line)
+        return first
+
+    def err(self, msg: str, tok_or_meta: Any, **kw: Any) -> InputError:
+        t = tok_or_meta
+        end = t.end_column if getattr(t, "end_line", t.line) == t.line else None
+        return make_error(self.where, msg, t.line, t.column, end, **kw)
+
+    def expr(self, tree: Any, allowed: frozenset[str], purpose: str) -> Val:
+        later = {n: ln for n, ln in self.first_decl.items() if n not in self.env}
+        v = ExprBuilder(self.where, self.env, allowed, purpose, later).build(tree)
+        if estimate_terms(v.expr) > MAX_TERMS:
+            end = v.end_column if v.end_line == v.line else None
+            raise make_error(
+                self.where,
+                f"this expression could have more than {MAX_TERMS} terms once expanded",
+                v.line, v.column, end,
+                hint="use smaller powers or fewer factors",
+                limit=True,
+            )
+        return v
+
+    def constant(self, tree: Any, purpose: str) -> sp.Expr:
+        return self.expr(tree, _CONST, purpose).expr
+
+    def declare(self, tok: Token, kind: str, value: sp.Expr | None) -> None:
+        name = str(tok)
+        if name in FUNCTIONS or name == "pi":
+            what = "the constant pi" if name == "pi" else "a built-in function"
+            raise self.err(
+                f"'{name}' is {what} and cannot be declared as a name", tok,
+                hint=f"choose another name, e.g. {name}_1",
+            )
+        old = self.env.get(name)
+        if old is not None:
+            raise self.err(
+                f"'{name}' is already declared as {_KIND_WORDS[old.kind]} on line {old.line}",
+                tok,
+                hint=f"each name is declared once; first declaration at "
+                f"{self.where.file}:{old.line}:{old.column}",
+            )
+        self.env[name] = Binding(kind, value, tok.line, tok.column)
+
+    # --- statements -----------------------------------------------------------
+    def run(self) -> Model:
+        for index, st in enumerate(self.tree.children):
+            if isinstance(st, Tree):
+                getattr(self, "st_" + st.data)(st, index)
+        return self.finish()
+
+    def st_system(self, st: Tree, index: int) -> None:
+        tok = st.children[0]
+        if self.system_line is not None:
+            raise self.err(
+                f"a second system statement (the first is on line {self.system_line})", st.meta,
+                hint="a file describes one system; remove one of the two",
+            )
+        if index != 0:
+            raise self.err(
+                "the system statement must be the first statement of the file", st.meta,
+                hint="move 'system ...' to the top (comments may come before it)",
+            )
+        self.name, self.system_line = str(tok), tok.line
+
+    def st_const(self, st: Tree, index: int) -> None:
+        tok, body = st.children
+        value = self.constant(body, "a constant")
+        self.declare(tok, "const", value)
+        self.constants.append(Constant(str(tok), value, _span(self.where, st.meta)))
+
+    def st_param(self, st: Tree, index: int) -> None:
+        tok, body, *rng = st.children
+        nominal = self.constant(body, "a parameter value")
+        low = high = None
+        if rng:
+            low = self.constant(rng[0], "a parameter range")
+            high = self.constant(rng[1], "a parameter range")
+            if _leq(low, high) is not True:
+                raise self.err(
+                    f"the range [{low}, {high}] of '{tok}' is empty (low > high)", st.meta,
+                    hint="write the range as [low, high]",
+                )
+            if _leq(low, nominal) is not True or _leq(nominal, high) is not True:
+                raise self.err(
+                    f"the nominal value {nominal} of '{tok}' is not in its range "
+                    f"[{low}, {high}]",
+                    st.meta,
+                    hint="the nominal value must satisfy low <= nominal <= high",
+                )
+        sym = sp.Symbol(str(tok), real=True)
+        self.declare(tok, "param", sym)
+        self.params.append(Param(str(tok), nominal, low, high, _span(self.where, st.meta)))
+
+    def st_state(self, st: Tree, index: int) -> None:
+        if self.states is not None:
+            raise self.err(
+                f"a second state statement (the first is on line {self.state_line})", st.meta,
+                hint="list all states in one statement: state x, y, ...",
+            )
+        for tok in st.children:
+            self.declare(tok, "state", sp.Symbol(str(tok), real=True))
+        self.states = [str(t) for t in st.children]
+        self.state_tokens = list(st.children)
+        self.state_line = st.meta.line
+
+    def st_let(self, st: Tree, index: int) -> None:
+        tok, body = st.children
+        value = self.expr(body, _DYNAMIC, "a shorthand").expr
+        self.declare(tok, "let", value)
+        self.lets.append(Let(str(tok), value, _span(self.where, st.meta)))
+
+    def st_equation(self, st: Tree, index: int) -> None:
+        tok, _prime, body = st.children
+        name = str(tok)
+        binding = self.env.get(name)
+        if binding is None or binding.kind != "state":
+            if binding is not None:
+                raise self.err(
+                    f"'{name}' is {_KIND_WORDS[binding.kind]}, not a state; only states "
+                    "have equations", tok,
+                )
+            if self.states is None:
+                raise self.err(
+                    f"equation for '{name}' before the state statement", tok,
+                    hint="declare the states first, e.g. state x, y",
+                )
+            guess = closest(name, self.states)
+            raise self.err(
+                f"'{name}' is not a state", tok,
+                hint=f"did you mean '{guess}'?" if guess else
+                f"the states are: {', '.join(self.states)}",
+            )
+        if name in self.equations:
+            first = self.equations[name].span
+            assert first is not None
+            raise self.err(
+                f"a second equation for '{name}' (the first is on line {first.line})", st.meta,
+                hint=f"each state has exactly one equation; first one at {first}",
+            )
+        rhs = self.expr(body, _DYNAMIC, "an equation").expr
+        self.equations[name] = Equation(name, rhs, _span(self.where, st.meta))
+
+    def region(self, st: Tree, purpose: str) -> Region:
+        conditions: list[Condition] = []
+        for cond in st.children:
+            parts = cond.children
+            values = [self.expr(p, _DYNAMIC, purpose).expr for p in parts[0::2]]
+            ops = [str(o) for o in parts[1::2]]
+            if len(ops) == 2 and (ops[0][0] != ops[1][0]):
+                raise self.err(
+                    "a chained condition must compare in one direction", cond.meta,
+                    hint="write a <= x <= b or a >= x >= b, or split it with 'and'",
+                )
+            span = _span(self.where, cond.meta)
+            for i, op in enumerate(ops):
+                conditions.append(Condition(values[i], op, values[i + 1], span))  # type: ignore[arg-type]
+        return Region(tuple(conditions), _span(self.where, st.meta))
+
+    def st_domain(self, st: Tree, index: int) -> None:
+        if self.domain is not None:
+            raise self.err(
+                f"a second domain statement (the first is on line {self.domain_line})", st.meta,
+                hint="join all conditions into one domain with 'and'",
+            )
+        self.domain = self.region(st.children[0], "a domain")
+        self.domain_line = st.meta.line
+
+    def st_equilibrium(self, st: Tree, index: int) -> None:
+        tok, *assigns = st.children
+        if self.states is None:
+            raise self.err(
+                "equilibrium before the state statement", st.meta,
+                hint="declare the states first, e.g. state x, y",
+            )
+        given: dict[str, sp.Expr] = {}
+        for a in assigns:
+            stok, body = a.children
+            sname = str(stok)
+            if sname not in self.states:
+                guess = closest(sname, self.states)
+                raise self.err(
+                    f"'{sname}' is not a state", stok,
+                    hint=f"did you mean '{guess}'?" if guess else
+                    f"the states are: {', '.join(self.states)}",
+                )
+            if sname in given:
+                raise self.err(f"'{sname}' is given twice in this point", stok)
+            given[sname] = self.expr(body, _POINT, "an equilibrium point").expr
+        missing = [s for s in self.states if s not in given]
+        if missing:
+            raise self.err(
+                f"the point '{tok}' does not give {', '.join(missing)}", st.meta,
+                hint="give every state: " + ", ".join(f"{s} = ..." for s in self.states),
+            )
+        self.declare(tok, "equilibrium", None)
+        point = tuple((s, given[s]) for s in self.states)
+        self.equilibria.append((Equilibrium(str(tok), point, _span(self.where, st.meta)), st))
+
+    def st_claim(self, st: Tree, index: int) -> None:
+        body = st.children[0]
+        at_nominal = len(st.children) > 1
+        kind = _CLAIM_KINDS[body.data]
+        target_tok = body.children[0] if isinstance(body.children[0], Token) else None
+        sets = [c for c in body.children if isinstance(c, Tree)]
+        region = self.region(sets[0], "a claim") if sets else None
+        raw = self.where.text[body.meta.start_pos : st.meta.end_pos]
+        text = " ".join(_COMMENT.sub(" ", raw).split())
+        claim = Claim(
+            kind,  # type: ignore[arg-type]
+            text,
+            str(target_tok) if target_tok is not None else None,
+            region,
+            at_nominal,
+            _span(self.where, st.meta),
+        )
+        self.claims.append((claim, target_tok))
+
+    # --- whole-file checks ---------------------------------------------------------
+    def finish(self) -> Model:
+        if self.states is None:
+            raise make_error(
+                self.where, "the model has no state statement", 1, 1,
+                hint="declare the state variables, e.g. state x, y",
+            )
+        for tok in self.state_tokens:
+            if str(tok) not in self.equations:
+                raise self.err(
+                    f"state '{tok}' has no equation", tok,
+                    hint=f"add a line {tok}' = ... giving its time derivative",
+                )
+        equations = tuple(self.equations[s] for s in self.states)
+        for eq, st in self.equilibria:
+            self.check_equilibrium(eq, st, equations)
+        names = [e.name for e, _ in self.equilibria]
+        for claim, tok in self.claims:
+            if tok is not None and claim.target not in names:
+                guess = closest(str(tok), names)
+                kind = self.env.get(str(tok))
+                what = f"; '{tok}' is {_KIND_WORDS[kind.kind]}" if kind else ""
+                raise self.err(
+                    f"the claim names '{tok}', which is not a declared equilibrium{what}", tok,
+                    hint=f"did you mean '{guess}'?" if guess else
+                    f"declare it: equilibrium {tok} at "
+                    + ", ".join(f"{s} = ..." for s in self.states),
+                )
+        return Model(
+            name=self.name,
+            states=tuple(self.states),
+            equations=equations,
+            params=tuple(self.params),
+            constants=tuple(self.constants),
+            lets=tuple(self.lets),
+            domain=self.domain,
+            equilibria=tuple(e for e, _ in self.equilibria),
+            claims=tuple(c for c, _ in self.claims),
+            source=self.where.text,
+            file=self.where.file,
+        )
+
+    def check_equilibrium(self, eq: Equilibrium, st: Tree, equations: tuple[Equation, ...]) -> None:
+        """f must vanish exactly at the declared point, for every parameter value."""
+        point = {sp.Symbol(s, real=True): v for s, v in eq.point}
+        residuals = [(e.state, e.rhs.subs(point)) for e in equations]
+        verdicts = [(s, r, _is_zero(r)) for s, r in residuals]
+        if all(v is True for _, _, v in verdicts):
+            return
+        shown = ", ".join(f"{s}' = {_plain(r)}" for s, r, _ in verdicts)
+        undecided = all(v is not False for _, _, v in verdicts)
+        if undecided:
+            raise self.err(
+                f"could not show exactly that f vanishes at '{eq.name}': residual {shown}",
+                st.meta,
+                hint="give the point in a simpler exact form",
+            )
+        raise self.err(
+            f"'{eq.name}' is not an equilibrium: f does not vanish there; residual {shown}",
+            st.meta,
+            hint="an equilibrium needs every right-hand side to be exactly 0 at the point "
+            "(for every parameter value)",
+        )
+
+
+def _plain(e: sp.Expr) -> str:
+    from proofkit.lang._printer import format_expr
+
+    return format_expr(sp.expand(e))
+
+
+def _is_zero(e: sp.Expr) -> bool | None:
+    """Exact zero test: True, False, or None when it cannot be decided."""
+    if e == 0:
+        return True
+    e = sp.expand(e)
+    if e == 0:
+        return True
+    if e.is_number:
+        z = e.is_zero
+        if z is not None:
+            return bool(z)
+    elif e.is_polynomial():
+        # a polynomial in the parameters is zero iff every coefficient is
+        coeffs = sp.Poly(e, *sorted(e.free_symbols, key=str)).coeffs()
+        verdicts = [_is_zero(c) for c in coeffs]
+        if any(v is False for v in verdicts):
+            return False
+        return True if all(v is True for v in verdicts) else None
+    if sp.count_ops(e) <= 400:
+        s = sp.simplify(e)
+        if s == 0:
+            return True
+        if s.is_number and s.is_zero is False:
+            return False
+    return None
+
+
+def _leq(a: sp.Expr, b: sp.Expr) -> bool | None:
+    """Exact ``a <= b`` for constant expressions (None when undecidable)."""
+    d = sp.expand(b - a)
+    if d.is_Rational:
+        return bool(d >= 0)
+    nonneg = d.is_nonnegative
+    return None if nonneg is None else bool(nonneg)
+
+
+def build_model(where: Located, tree: Tree) -> Model:
+    """Build the Model of a parsed file (raises InputError on any semantic fault)."""
+    return _Builder(where, tree).run()

@@ -1,0 +1,400 @@
+"""Expression trees to exact sympy objects, with name resolution and safety limits.
+
+A lark :class:`~lark.Transformer` builds sympy values directly from the
+tree (``sp.Integer``, ``sp.Rational``, ``sp.Add``, ``sp.Mul``, ``sp.Pow``,
+``sp.sin`` ...). Decimal literals become exact rationals from their digits.
+The limits (exponent size, number size, term count after expansion) are
+checked before anything could grow large.
+
+This module must never call ``sympify``, ``parse_expr``, ``eval`` or ``exec``,
+and never expands an expression whose size it has not bounded first.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+from typing import Any
+
+import sympy as sp
+from lark import Token, Transformer, Tree, v_args
+from lark.exceptions import VisitError
+
+from proofkit.errors import InputError
+from proofkit.lang._diagnostics import Located, closest, make_error
+
+__all__ = [
+    "FUNCTIONS",
+    "MAX_EXPONENT",
+    "MAX_TERMS",
+    "Binding",
+    "ExprBuilder",
+    "Val",
+    "estimate_terms",
+    "exact_number",
+]
+
+MAX_EXPONENT = 64  # largest |n| in x^n
+MAX_TERMS = 10_000  # terms of an expanded right-hand side or condition
+MAX_LITERAL_DIGITS = 1000
+MAX_LITERAL_EXPONENT = 1000  # |e| in a literal like 1e-3
+MAX_NUMBER_BITS = 100_000  # size of an exact number produced by a power
+
+FUNCTIONS: dict[str, Callable[[sp.Expr], sp.Expr]] = {
+    "sin": sp.sin,
+    "cos": sp.cos,
+    "tan": sp.tan,
+    "exp": sp.exp,
+    "log": sp.log,
+    "sqrt": sp.sqrt,
+    "tanh": sp.tanh,
+    "abs": sp.Abs,
+}
+_NUMBER_RE = re.compile(r"([0-9]*)(?:\.([0-9]*))?(?:[eE]([+-]?[0-9]+))?")
+_NOT_REAL = (sp.I, sp.zoo, sp.nan, sp.oo, sp.S.NegativeInfinity)
+
+_KIND_WORDS = {
+    "const": "a constant",
+    "param": "a parameter",
+    "state": "a state",
+    "let": "a shorthand (let)",
+    "equilibrium": "an equilibrium",
+}
+
+
+@dataclass(frozen=True)
+class Binding:
+    """What a name means at a point of the file."""
+
+    kind: str  # const, param, state, let, equilibrium
+    value: sp.Expr | None
+    line: int
+    column: int
+
+
+@dataclass(frozen=True)
+class Val:
+    """A built sympy value with the source position it came from."""
+
+    expr: sp.Expr
+    line: int
+    column: int
+    end_line: int
+    end_column: int
+
+
+def exact_number(text: str, where: Located, line: int, column: int) -> sp.Rational:
+    """The exact rational written by a number literal (digits as integers; no float)."""
+    m = _NUMBER_RE.fullmatch(text)
+    if m is None:  # pragma: no cover - the lexer only yields valid literals
+        raise make_error(where, f"malformed number {text!r}", line, column)
+    whole, frac, exp = m.group(1) or "", m.group(2) or "", m.group(3)
+    digits = (whole + frac).lstrip("0") or "0"
+    end = column + len(text)
+    if len(digits) > MAX_LITERAL_DIGITS:
+        raise make_error(
+            where,
+            f"a number with {len(digits)} digits; the limit is {MAX_LITERAL_DIGITS}",
+            line, column, end, limit=True,
+        )
+    power = 0
+    if exp is not None:
+        if len(exp.lstrip("+-").lstrip("0")) > 6 or abs(int(exp)) > MAX_LITERAL_EXPONENT:
+            raise make_error(
+                where,
+                f"the exponent of {text} is too large; the limit is {MAX_LITERAL_EXPONENT}",
+                line, column, end, limit=True,
+            )
+        power = int(exp)
+    power -= len(frac)
+    n = int(digits)
+    if power >= 0:
+        return sp.Integer(n * 10**power)
+    return sp.Rational(n, 10**-power)
+
+
+def _comb_capped(n: int, k: int, cap: int) -> int:
+    """``min(comb(n, k), cap + 1)`` computed without building huge numbers."""
+    k = min(k, n - k)
+    if k < 0:
+        return 0
+    value = 1
+    for i in range(1, k + 1):
+        value = value * (n - k + i) // i
+        if value > cap:
+            return cap + 1
+    return value
+
+
+def estimate_terms(expr: sp.Expr, cap: int = MAX_TERMS) -> int:
+    """An upper bound (capped at ``cap + 1``) on the number of terms of ``expand(expr)``.
+
+    Multinomial counting: a sum adds, a product multiplies, ``b^n`` has at most
+    ``comb(t + n - 1, n)`` terms for a ``t``-term base, further bounded by the
+    number of monomials of the degree reached. Function arguments and
+    negative or fractional powers are opaque factors whose insides are bounded
+    too. Nothing is expanded.
+    """
+    memo: dict[sp.Expr, tuple[int, int, bool]] = {}
+    worst = 0
+
+    def go(e: sp.Expr) -> tuple[int, int, bool]:
+        """(terms bound, degree bound, opaque factors present)."""
+        nonlocal worst
+        if e in memo:
+            return memo[e]
+        if e.is_Atom:
+            res = (1, 0 if e.is_number else 1, False)
+        elif e.is_Add:
+            parts = [go(a) for a in e.args]
+            res = (
+                min(sum(p[0] for p in parts), cap + 1),
+                max(p[1] for p in parts),
+                any(p[2] for p in parts),
+            )
+        elif e.is_Mul:
+            terms, deg, opaque = 1, 0, False
+            for a in e.args:
+                t, d, o = go(a)
+                terms = min(terms * t, cap + 1)
+                deg = min(deg + d, 10**9)
+                opaque = opaque or o
+            res = (terms, deg, opaque)
+        elif e.is_Pow and e.exp.is_Integer and e.exp > 0:
+            t, d, o = go(e.base)
+            n = int(e.exp)
+            if not o and e.base.free_symbols:
+                t = min(t, _comb_capped(len(e.base.free_symbols) + d, d, cap))
+            terms = 1 if t <= 1 else _comb_capped(t + n - 1, n, cap)
+            res = (terms, min(d * n, 10**9), o)
+        else:  # functions, negative or fractional powers: one opaque factor
+            inner = [go(a)[0] for a in e.args]
+            worst = max([worst, *inner])
+            res = (1, 1, True)
+        memo[e] = res
+        return res
+
+    terms, deg, opaque = go(expr)
+    if not opaque and expr.free_symbols:
+        terms = min(terms, _comb_capped(len(expr.free_symbols) + deg, deg, cap))
+    return min(max(terms, worst), cap + 1)
+
+
+def _pos(meta: Any) -> tuple[int, int, int, int]:
+    return meta.line, meta.column, meta.end_line, meta.end_column
+
+
+@v_args(meta=True)
+class ExprBuilder(Transformer):
+    """Builds sympy values from an expression tree for one statement.
+
+    ``env`` maps every name declared so far to its :class:`Binding`;
+    ``allowed`` lists the kinds of names this statement may use; ``later``
+    maps names declared further down the file to their line (for hints);
+    ``purpose`` words the statement in messages ("a constant", ...).
+    """
+
+    def __init__(
+        self,
+        where: Located,
+        env: Mapping[str, Binding],
+        allowed: frozenset[str],
+        purpose: str,
+        later: Mapping[str, int],
+    ) -> None:
+        super().__init__(visit_tokens=False)
+        self.where = where
+        self.env = env
+        self.allowed = allowed
+        self.purpose = purpose
+        self.later = later
+
+    # --- helpers -------------------------------------------------------------
+    def _err(self, msg: str, line: int, col: int, end: int | None = None, **kw: Any) -> InputError:
+        return make_error(self.where, msg, line, col, end, **kw)
+
+    def _err_val(self, msg: str, v: Val, **kw: Any) -> InputError:
+        end = v.end_column if v.end_line == v.line else None
+        return self._err(msg, v.line, v.column, end, **kw)
+
+    def _real(self, expr: sp.Expr, v: Val) -> sp.Expr:
+        if expr.has(*_NOT_REAL) or (expr.is_number and expr.is_extended_real is False):
+            raise self._err_val(
+                "this expression is not a finite real number (division by zero, "
+                "or a root or logarithm of a negative number)",
+                v,
+            )
+        return expr
+
+    def build(self, tree: Tree | Token) -> Val:
+        """Transform one expression tree; names that are bare tokens are handled too."""
+        if not isinstance(tree, Tree):
+            return self._token_value(tree)
+        try:
+            return self.transform(tree)
+        except VisitError as err:
+            if isinstance(err.orig_exc, InputError):
+                raise err.orig_exc from None
+            raise
+
+    def _token_value(self, tok: Token) -> Val:
+        line, col = tok.line, tok.column
+        end_line, end = tok.end_line, tok.end_column
+        if tok.type == "NUMBER":
+            value: sp.Expr = exact_number(str(tok), self.where, line, col)
+        elif tok.type == "NAME":
+            value = self._resolve(tok)
+        else:  # pragma: no cover - the grammar allows no other bare token here
+            raise self._err(f"unexpected {tok!s}", line, col, end)
+        return Val(value, line, col, end_line, end)
+
+    def _resolve(self, tok: Token) -> sp.Expr:
+        name = str(tok)
+        line, col, end = tok.line, tok.column, tok.end_column
+        if name == "pi":
+            return sp.pi
+        if name in FUNCTIONS:
+            raise self._err(
+                f"'{name}' is a function; call it with an argument, as in {name}(x)",
+                line, col, end,
+            )
+        binding = self.env.get(name)
+        if binding is None:
+            if name in self.later:
+                raise self._err(
+                    f"'{name}' is used before it is declared (on line {self.later[name]})",
+                    line, col, end,
+                    hint=f"move the declaration of '{name}' above this line",
+                )
+            known = [n for n, b in self.env.items() if b.kind in self.allowed]
+            guess = closest(name, [*known, "pi", *FUNCTIONS])
+            hint = f"did you mean '{guess}'?" if guess else (
+                "declare it with const, param, state or let before using it"
+            )
+            raise self._err(f"unknown name '{name}'", line, col, end, hint=hint)
+        if binding.kind not in self.allowed:
+            allowed = sorted(_KIND_WORDS[k] for k in self.allowed)
+            may = ", ".join(allowed) if allowed else "numbers only"
+            raise self._err(
+                f"'{name}' is {_KIND_WORDS[binding.kind]}, which {self.purpose} cannot use",
+                line, col, end,
+                hint=f"{self.purpose} may use numbers, pi and {may}",
+            )
+        assert binding.value is not None
+        return binding.value
+
+    def __default__(self, data: Any, children: Any, meta: Any) -> Any:  # pragma: no cover
+        raise self._err(f"unexpected construct {data}", meta.line, meta.column)
+
+    # --- rules -----------------------------------------------------------------
+    def number(self, meta: Any, children: list[Token]) -> Val:
+        return self._token_value(children[0])
+
+    def name(self, meta: Any, children: list[Token]) -> Val:
+        return self._token_value(children[0])
+
+    def _val(self, child: Val | Token) -> Val:
+        return child if isinstance(child, Val) else self._token_value(child)
+
+    def sum(self, meta: Any, children: list[Any]) -> Val:
+        terms = [self._val(children[0]).expr]
+        for op, child in zip(children[1::2], children[2::2], strict=True):
+            value = self._val(child).expr
+            terms.append(value if str(op) == "+" else -value)
+        return Val(sp.Add(*terms), *_pos(meta))
+
+    def product(self, meta: Any, children: list[Any]) -> Val:
+        factors = [self._val(children[0]).expr]
+        for op, child in zip(children[1::2], children[2::2], strict=True):
+            v = self._val(child)
+            if str(op) == "*":
+                factors.append(v.expr)
+                continue
+            if v.expr.is_zero:
+                raise self._err_val("division by zero", v)
+            factors.append(sp.Pow(v.expr, -1))
+        out = Val(sp.Mul(*factors), *_pos(meta))
+        return Val(self._real(out.expr, out), *_pos(meta))
+
+    def sign(self, meta: Any, children: list[Any]) -> Val:
+        v = self._val(children[1])
+        return Val(-v.expr if str(children[0]) == "-" else v.expr, *_pos(meta))
+
+    def pow(self, meta: Any, children: list[Any]) -> Val:
+        base, exp = self._val(children[0]), self._val(children[2])
+        e = exp.expr
+        if e.free_symbols:
+            raise self._err_val(
+                "an exponent must be a constant (a number or a constant expression)", exp,
+                hint="write the power as a product, or use exp(...) and log(...)",
+            )
+        if not e.is_Rational:
+            raise self._err_val(
+                f"the exponent {e} is not a rational number", exp,
+                hint="exponents must be integers or fractions such as 1/2",
+            )
+        p, q = int(e.p), int(e.q)
+        if abs(p) > MAX_EXPONENT or q > MAX_EXPONENT:
+            raise self._err_val(
+                f"the exponent {e} exceeds the limit of {MAX_EXPONENT} in absolute value", exp,
+                hint="a file may not ask for huge powers",
+                limit=True,
+            )
+        b = base.expr
+        if b.is_Rational:
+            bits = max(int(b.p).bit_length(), int(b.q).bit_length()) * abs(p)
+            if bits > MAX_NUMBER_BITS:
+                raise self._err_val(
+                    f"this power would be a number of about {bits} bits; the limit is "
+                    f"{MAX_NUMBER_BITS}",
+                    base, limit=True,
+                )
+            if b.is_zero and p < 0:
+                raise self._err_val("zero raised to a negative power (division by zero)", base)
+        if q != 1 and b.is_number and b.is_negative:
+            raise self._err_val(
+                "a negative number raised to a fractional power is not real", base
+            )
+        out = Val(sp.Pow(b, e), *_pos(meta))
+        return Val(self._real(out.expr, out), *_pos(meta))
+
+    def call(self, meta: Any, children: list[Any]) -> Val:
+        fname = children[0]
+        args = [a for a in children[1:] if a is not None]
+        name = str(fname)
+        line, col, end = fname.line, fname.column, fname.end_column
+        if name not in FUNCTIONS:
+            binding = self.env.get(name)
+            if binding is not None or name == "pi":
+                kind = "a constant" if name == "pi" else _KIND_WORDS[binding.kind]  # type: ignore[union-attr]
+                raise self._err(
+                    f"'{name}' is {kind}, not a function, so it cannot be called",
+                    line, col, end,
+                    hint=f"for a product write {name}*(...)",
+                )
+            guess = closest(name, FUNCTIONS)
+            hint = f"did you mean '{guess}'?" if guess else (
+                "known functions: " + ", ".join(FUNCTIONS)
+            )
+            raise self._err(f"unknown name '{name}': not a known function", line, col, end,
+                            hint=hint)
+        if len(args) != 1:
+            raise self._err(
+                f"{name} takes exactly one argument, got {len(args)}", line, col, end,
+                hint=f"write {name}(x)",
+            )
+        arg = args[0]
+        if isinstance(arg, Token) and arg.type == "STRING":
+            raise self._err(
+                "quoted text is not part of the language", arg.line, arg.column,
+                arg.end_column, hint=f"give {name} an expression, as in {name}(x)",
+            )
+        v = self._val(arg)
+        if name in ("sqrt", "log") and v.expr.is_number and v.expr.is_negative:
+            raise self._err_val(f"{name} of a negative number is not real", v)
+        if name == "log" and v.expr.is_zero:
+            raise self._err_val("log(0) is not a finite number", v)
+        out = Val(FUNCTIONS[name](v.expr), *_pos(meta))
+        return Val(self._real(out.expr, out), *_pos(meta))

@@ -1,0 +1,231 @@
+"""Model text to a lark parse tree with positions; lark's errors become teaching errors.
+
+Steps: size and character checks, lexing with the grammar's basic lexer,
+removal of the newlines that continue a statement (inside brackets or after
+an operator), LALR parsing through lark's interactive parser (so the token
+before an error is known for hints), and a nesting-depth check done
+iteratively (the later recursive stages then cannot overflow the stack).
+
+This module must never evaluate model text; it only tokenises and parses.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+
+from lark import Lark, Token, Tree
+from lark.exceptions import LarkError, UnexpectedCharacters, UnexpectedEOF, UnexpectedToken
+
+from proofkit.errors import InputError
+from proofkit.lang._diagnostics import Located, closest, describe_expected, make_error, non_ascii_error
+
+__all__ = ["KEYWORDS", "MAX_DEPTH", "MAX_FILE_CHARS", "parse_tree"]
+
+MAX_FILE_CHARS = 1 << 20  # 1 MiB of text
+MAX_DEPTH = 100  # nesting levels of an expression tree
+
+KEYWORDS = frozenset(
+    "system const param state let domain equilibrium at claim stable unstable globally "
+    "attracts no cycle in nominal and".split()
+)
+# A newline right after one of these tokens continues the statement.
+_CONTINUE_AFTER = frozenset(
+    {"ADDOP", "MULOP", "POW", "REL", "COMMA", "EQUAL", "AND", "LPAR", "LSQB", "IN"}
+)
+_OPEN = {"LPAR", "LSQB"}
+_CLOSE = {"RPAR", "RSQB"}
+_ALLOWED_CONTROL = {"\n", "\t", "\r", "\f"}
+_STATEMENT_WORDS = ("system", "const", "param", "state", "let", "domain", "equilibrium", "claim")
+
+_parser: Lark | None = None
+
+
+def _get_parser() -> Lark:
+    """The compiled LALR parser, built on first use and then reused."""
+    global _parser
+    if _parser is None:
+        from proofkit.grammar import grammar_text
+
+        _parser = Lark(
+            grammar_text(),
+            parser="lalr",
+            lexer="basic",
+            propagate_positions=True,
+            maybe_placeholders=True,
+        )
+    return _parser
+
+
+def _check_characters(where: Located) -> None:
+    for offset, ch in enumerate(where.text):
+        if (" " <= ch <= "~") or ch in _ALLOWED_CONTROL:
+            continue
+        raise non_ascii_error(where, offset)
+
+
+def _significant_tokens(tokens: Iterator[Token]) -> Iterator[Token]:
+    """Drop the newlines that do not end a statement (line continuation)."""
+    depth = 0
+    prev: Token | None = None
+    for tok in tokens:
+        if tok.type == "_NL":
+            if depth > 0 or (prev is not None and prev.type in _CONTINUE_AFTER):
+                continue
+        elif tok.type in _OPEN:
+            depth += 1
+        elif tok.type in _CLOSE:
+            depth = max(0, depth - 1)
+        prev = tok
+        yield tok
+
+
+def _describe_token(tok: Token) -> str:
+    if tok.type == "$END":
+        return "the end of the file"
+    if tok.type == "_NL":
+        return "the end of the line"
+    if tok.type == "NAME":
+        return f"the name '{tok}'"
+    if tok.type == "NUMBER":
+        return f"the number {tok}"
+    if tok.type == "STRING":
+        return "quoted text"
+    if str(tok) in KEYWORDS:
+        return f"the word '{tok}'"
+    return f"'{tok}'"
+
+
+def _token_error(where: Located, tok: Token, prev: Token | None, expected: set[str]) -> InputError:
+    """A syntax error at ``tok`` with plain words and the best hint we can find."""
+    words = describe_expected(expected)
+    if tok.type == "$END" and prev is not None:
+        line, column = prev.end_line or prev.line, (prev.end_column or prev.column)
+        end = None
+    else:
+        line, column = tok.line, tok.column
+        end = tok.end_column if tok.type != "_NL" else None
+    if tok.type == "_NL" and prev is not None and prev.line == tok.line:
+        column = prev.end_column or column
+    message = f"unexpected {_describe_token(tok)}; expected {words}"
+    hint: str | None = None
+    ptype = prev.type if prev is not None else None
+    if ptype == "NUMBER" and tok.type in {"NAME", "LPAR"}:
+        hint = f"write {prev}*{tok} for a product: multiplication is never implicit"
+        message = f"a number directly followed by {_describe_token(tok)}; expected {words}"
+    elif ptype in {"NAME", "RPAR", "NUMBER"} and tok.type in {"NAME", "NUMBER", "LPAR"}:
+        if str(tok) in KEYWORDS or tok.type == "NUMBER" and ptype == "NUMBER":
+            pass
+        else:
+            hint = f"put an operator between {prev} and {tok}, e.g. {prev}*{tok}"
+    if hint is None and tok.type in {t for t in _keyword_types()} and "NAME" in expected:
+        hint = f"'{tok}' is a reserved word of the language and cannot be used as a name"
+    if hint is None and tok.type == "EQUAL" and "REL" in expected:
+        hint = "a set condition compares with <=, <, >= or >"
+    if hint is None and tok.type == "EQUAL" and ptype == "NAME" and prev is not None:
+        hint = (
+            f"a state equation is written {prev}' = ...; a constant is "
+            f"const {prev} = ...; a shorthand is let {prev} = ..."
+        )
+    if hint is None and tok.type == "MULOP" and ptype == "MULOP":
+        hint = "write ^ (or **) for a power"
+    if hint is None and tok.type == "NAME" and prev is None or (
+        hint is None and tok.type == "NAME" and ptype == "_NL"
+    ):
+        guess = closest(str(tok), _STATEMENT_WORDS)
+        if guess:
+            hint = f"did you mean '{guess}'?"
+        else:
+            hint = (
+                "a statement starts with system, const, param, state, let, domain, "
+                "equilibrium, claim, or a state name followed by ' (as in x' = ...)"
+            )
+    if hint is None and tok.type in {"_NL", "$END"}:
+        hint = "the statement is incomplete"
+    return make_error(where, message, line, column, end, hint=hint)
+
+
+def _keyword_types() -> frozenset[str]:
+    return frozenset(k.upper() for k in KEYWORDS)
+
+
+def _char_error(where: Located, err: UnexpectedCharacters) -> InputError:
+    ch = where.text[err.pos_in_stream] if err.pos_in_stream < len(where.text) else ""
+    hints = {
+        ";": "one statement per line: start a new line instead of ';'",
+        "&": "join conditions with the word 'and'",
+        "|": "only conjunctions ('and') of conditions are supported",
+        "!": "there is no '!' operator; conditions use <=, <, >= or >",
+        "{": "group with parentheses ( )",
+        "}": "group with parentheses ( )",
+        "%": "there is no '%' operator",
+        '"': "quoted text is not part of the language",
+        "\\": "continue a line by ending it with an operator or inside parentheses",
+        "$": "names use ASCII letters, digits and '_'",
+        "@": "there is no '@' operator",
+        "?": "there is no '?' operator",
+        "~": "there is no '~' operator",
+        "`": "there is no '`' operator",
+    }
+    return make_error(
+        where,
+        f"unexpected character {ch!r}",
+        err.line,
+        err.column,
+        hint=hints.get(ch, "this character is not part of the language"),
+    )
+
+
+def _tree_depth_check(where: Located, tree: Tree) -> None:
+    """Reject trees nested deeper than MAX_DEPTH (iterative walk, no recursion)."""
+    stack: list[tuple[Tree, int]] = [(tree, 0)]
+    while stack:
+        node, depth = stack.pop()
+        if depth > MAX_DEPTH + 2:  # start, statement and set levels are not nesting
+            meta = node.meta
+            raise make_error(
+                where,
+                f"expression nested more than {MAX_DEPTH} levels deep",
+                getattr(meta, "line", None),
+                getattr(meta, "column", None),
+                hint="simplify the expression, or split it with let shorthands",
+                limit=True,
+            )
+        for child in node.children:
+            if isinstance(child, Tree):
+                stack.append((child, depth + 1))
+
+
+def parse_tree(where: Located) -> Tree:
+    """Parse model text to a lark tree, raising only InputError (or LimitError)."""
+    if len(where.text) > MAX_FILE_CHARS:
+        raise make_error(
+            where,
+            f"the model text has {len(where.text)} characters; the limit is {MAX_FILE_CHARS}",
+            None,
+            limit=True,
+        )
+    _check_characters(where)
+    parser = _get_parser()
+    text = where.text if where.text.endswith("\n") else where.text + "\n"
+    prev: Token | None = None
+    try:
+        interactive = parser.parse_interactive("")
+        for tok in _significant_tokens(parser.lex(text)):
+            try:
+                interactive.feed_token(tok)
+            except UnexpectedToken as err:
+                raise _token_error(where, tok, prev, set(err.expected)) from None
+            prev = tok
+        eof = Token.new_borrow_pos("$END", "", prev) if prev is not None else Token("$END", "")
+        try:
+            tree = interactive.feed_eof(prev)
+        except UnexpectedToken as err:
+            raise _token_error(where, eof, prev, set(err.expected)) from None
+    except UnexpectedCharacters as err:
+        raise _char_error(where, err) from None
+    except UnexpectedEOF as err:  # pragma: no cover - the interactive parser reports tokens
+        raise make_error(where, "the file ended too early", None, hint=str(err)) from None
+    except LarkError as err:  # pragma: no cover - any other lark failure is still bad input
+        raise make_error(where, f"could not parse the model: {err}", None) from None
+    _tree_depth_check(where, tree)
+    return tree
