@@ -186,8 +186,24 @@ class RealAlgebraicField:
                 self._sympy_gen = sp.CRootOf(poly, self.index)
         return self._sympy_gen
 
+    def locate(self, p: flint.fmpq_poly) -> tuple[tuple[str, ...], int]:
+        """A canonical key of p(alpha): (its minimal polynomial's coefficients, root index).
+
+        Two elements of any two fields are equal exactly when their keys agree.
+        """
+        m = self.minimal_polynomial(p)
+        key = tuple(str(c) for c in m.coeffs())
+        if m.degree() == 1:
+            return key, 0
+        for sub in RealAlgebraicField.real_roots_of(m):
+            below = self.sign(self.reduce(p - flint.fmpq_poly([sub.lo])))
+            above = self.sign(self.reduce(flint.fmpq_poly([sub.hi]) - p))
+            if below > 0 and above > 0:
+                return key, sub.index
+        raise ArithmeticError("value not located among the roots of its minimal polynomial")
+
     def to_sympy(self, p: flint.fmpq_poly) -> sp.Expr:
-        """An exact sympy expression for p(alpha): simplest form of its own minimal polynomial."""
+        """An exact sympy expression for p(alpha): rational, a + b*sqrt(d), or via CRootOf."""
         if p.degree() <= 0:
             v = p.coeffs()[0] if p.degree() == 0 else flint.fmpq(0)
             return sp.Rational(int(v.p), int(v.q))
@@ -199,13 +215,9 @@ class RealAlgebraicField:
             r = self.sympy_generator()
             cs = p.coeffs()
             return sp.Add(*[sp.Rational(int(v.p), int(v.q)) * r**k for k, v in enumerate(cs)])
-        # a smaller (or quadratic) subfield: locate the value among its own minpoly's roots
-        for sub in RealAlgebraicField.real_roots_of(m):
-            below = self.sign(self.reduce(p - flint.fmpq_poly([sub.lo])))
-            above = self.sign(self.reduce(flint.fmpq_poly([sub.hi]) - p))
-            if below > 0 and above > 0:
-                return sub.sympy_generator()
-        raise ArithmeticError("value not located among the roots of its minimal polynomial")
+        # a quadratic or smaller subfield: the value is a root of its own minimal polynomial
+        _key, index = self.locate(p)
+        return RealAlgebraicField.real_roots_of(m)[index].sympy_generator()
 
     def minimal_polynomial(self, p: flint.fmpq_poly) -> flint.fmpq_poly:
         """The monic minimal polynomial over Q of p(alpha)."""
