@@ -187,7 +187,8 @@ def _solve_zero_dim(
         extra = []
         for x, m in zip(xs, minpolys, strict=True):
             s = _sqfree(m)
-            extra.append(sp.Add(*[sp.Rational(int(c.p), int(c.q)) * x**k for k, c in enumerate(s.coeffs())]))
+            terms = [sp.Rational(int(c.p), int(c.q)) * x**k for k, c in enumerate(s.coeffs())]
+            extra.append(sp.Add(*terms))
         G = _groebner([*G.exprs, *extra], xs, limits)
         Qa = _Quotient(to_ring(G.polys), R, n, limits)
     D = Qa.D

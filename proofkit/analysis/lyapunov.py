@@ -21,6 +21,7 @@ from proofkit.analysis.algebraic import AlgNum, RealAlgebraicField, field_of_exp
 __all__ = ["LyapunovSolution", "solve_lyapunov", "solve_lyapunov_in"]
 
 Mat = list[list[AlgNum]]
+_NOT_UNIQUE = "the Lyapunov equation has no unique solution (A has lambda_i = -lambda_j)"
 
 
 @dataclass(frozen=True)
@@ -67,7 +68,7 @@ def _gauss_solve(M: Mat, rhs: list[AlgNum]) -> list[AlgNum]:
     for col in range(N):
         piv = next((r for r in range(col, N) if not aug[r][col].is_zero()), None)
         if piv is None:
-            raise ValueError("the Lyapunov equation has no unique solution (A has lambda_i = -lambda_j)")
+            raise ValueError(_NOT_UNIQUE)
         aug[col], aug[piv] = aug[piv], aug[col]
         inv = aug[col][col].inverse()
         aug[col] = [v * inv for v in aug[col]]
@@ -111,7 +112,7 @@ def solve_lyapunov_in(A: Mat, Q: Mat, K: RealAlgebraicField) -> tuple[Mat, list[
         fm = flint.fmpq_mat(N, N, [v.rational() for row in M for v in row])
         fb = flint.fmpq_mat(N, 1, [v.rational() for v in rhs])
         if fm.rank() < N:
-            raise ValueError("the Lyapunov equation has no unique solution (A has lambda_i = -lambda_j)")
+            raise ValueError(_NOT_UNIQUE)
         sol = fm.solve(fb)
         values = [K(sol[i, 0]) for i in range(N)]
     else:
