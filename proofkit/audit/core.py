@@ -222,7 +222,8 @@ def _check_linearization(claim: dict[str, Any], kind: str, ctx: _Context, where:
             _check_lyapunov_matrices(ev["lyapunov"], jac, d, n, ctx, f"{w}.lyapunov")
     else:
         _require(changes >= 1, "theorem", "no sign change: no root in the right half plane shown")
-        ctx.ok(f"{changes} root(s) of det(sI - J) have real part > {shift} >= 0")
+        where_roots = "> 0" if shift.is_zero() else f"> {shift} > 0"
+        ctx.ok(f"{changes} root(s) of det(sI - J) have real part {where_roots}: J is not stable")
         _require("lyapunov" not in ev, "evidence", "a Lyapunov matrix belongs to stability claims")
 
 
