@@ -55,6 +55,12 @@ FUNCTIONS: dict[str, Callable[[sp.Expr], sp.Expr]] = {
 _NUMBER_RE = re.compile(r"([0-9]*)(?:\.([0-9]*))?(?:[eE]([+-]?[0-9]+))?")
 _NOT_REAL = (sp.I, sp.zoo, sp.nan, sp.oo, sp.S.NegativeInfinity)
 
+_PLURAL = {
+    "const": "constants",
+    "param": "parameters",
+    "state": "states",
+    "let": "shorthands (let)",
+}
 _KIND_WORDS = {
     "const": "a constant",
     "param": "a parameter",
@@ -263,24 +269,31 @@ class ExprBuilder(Transformer):
         binding = self.env.get(name)
         if binding is None:
             if name in self.later:
+                if self.later[name] == line:
+                    raise self._err(
+                        f"'{name}' cannot be used in its own definition", line, col, end
+                    )
                 raise self._err(
                     f"'{name}' is used before it is declared (on line {self.later[name]})",
                     line, col, end,
                     hint=f"move the declaration of '{name}' above this line",
                 )
             known = [n for n, b in self.env.items() if b.kind in self.allowed]
-            guess = closest(name, [*known, "pi", *FUNCTIONS])
-            hint = f"did you mean '{guess}'?" if guess else (
-                "declare it with const, param, state or let before using it"
-            )
+            guess = closest(name, [*known, *self.later, "pi", *FUNCTIONS])
+            if guess in self.later:
+                hint = f"did you mean '{guess}' (declared later, on line {self.later[guess]})?"
+            elif guess:
+                hint = f"did you mean '{guess}'?"
+            else:
+                hint = "declare it with const, param, state or let before using it"
             raise self._err(f"unknown name '{name}'", line, col, end, hint=hint)
         if binding.kind not in self.allowed:
-            allowed = sorted(_KIND_WORDS[k] for k in self.allowed)
-            may = ", ".join(allowed) if allowed else "numbers only"
+            may = ", ".join(_PLURAL[k] for k in ("const", "param", "state", "let")
+                            if k in self.allowed)
             raise self._err(
                 f"'{name}' is {_KIND_WORDS[binding.kind]}, which {self.purpose} cannot use",
                 line, col, end,
-                hint=f"{self.purpose} may use numbers, pi and {may}",
+                hint=f"{self.purpose} may use numbers, pi, functions and {may}",
             )
         assert binding.value is not None
         return binding.value

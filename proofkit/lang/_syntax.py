@@ -95,53 +95,68 @@ def _describe_token(tok: Token) -> str:
     return f"'{tok}'"
 
 
-def _token_error(where: Located, tok: Token, prev: Token | None, expected: set[str]) -> InputError:
-    """A syntax error at ``tok`` with plain words and the best hint we can find."""
+def _token_error(
+    where: Located, tok: Token, prev: Token | None, before: Token | None, expected: set[str]
+) -> InputError:
+    """A syntax error at ``tok`` with plain words and the best hint we can find.
+
+    ``prev`` is the token before ``tok`` and ``before`` the one before that.
+    """
     words = describe_expected(expected)
-    if tok.type == "$END" and prev is not None:
-        line, column = prev.end_line or prev.line, (prev.end_column or prev.column)
-        end = None
+    if tok.type in {"$END", "_NL"} and prev is not None:
+        line, column, end = prev.end_line or prev.line, prev.end_column or prev.column, None
     else:
-        line, column = tok.line, tok.column
-        end = tok.end_column if tok.type != "_NL" else None
-    if tok.type == "_NL" and prev is not None and prev.line == tok.line:
-        column = prev.end_column or column
-    message = f"unexpected {_describe_token(tok)}; expected {words}"
+        line, column, end = tok.line, tok.column, tok.end_column
+    message = f"expected {words}, found {_describe_token(tok)}"
     hint: str | None = None
     ptype = prev.type if prev is not None else None
-    if ptype == "NUMBER" and tok.type in {"NAME", "LPAR"}:
+    at_statement_start = prev is not None and (before is None or before.type == "_NL")
+    if tok.type == "NAME" and at_statement_start and ptype == "NAME":
+        guess = closest(str(prev), _STATEMENT_WORDS)
+        hint = f"did you mean '{guess}'?" if guess else (
+            "a statement starts with system, const, param, state, let, domain, "
+            "equilibrium, claim, or a state name followed by ' (as in x' = ...)"
+        )
+    elif ptype == "NUMBER" and tok.type in {"NAME", "LPAR"}:
         hint = f"write {prev}*{tok} for a product: multiplication is never implicit"
         message = f"a number directly followed by {_describe_token(tok)}; expected {words}"
-    elif ptype in {"NAME", "RPAR", "NUMBER"} and tok.type in {"NAME", "NUMBER", "LPAR"}:
-        if str(tok) in KEYWORDS or tok.type == "NUMBER" and ptype == "NUMBER":
-            pass
-        else:
-            hint = f"put an operator between {prev} and {tok}, e.g. {prev}*{tok}"
-    if hint is None and tok.type in {t for t in _keyword_types()} and "NAME" in expected:
+    elif (
+        ptype in {"NAME", "RPAR", "NUMBER"}
+        and tok.type in {"NAME", "NUMBER", "LPAR"}
+        and not (tok.type == "NUMBER" and ptype == "NUMBER")
+    ):
+        hint = f"put an operator between {prev} and {tok}, e.g. {prev}*{tok}"
+    elif tok.type in _keyword_types() and "NAME" in expected:
         hint = f"'{tok}' is a reserved word of the language and cannot be used as a name"
-    if hint is None and tok.type == "EQUAL" and "REL" in expected:
+    elif tok.type == "EQUAL" and "REL" in expected:
         hint = "a set condition compares with <=, <, >= or >"
-    if hint is None and tok.type == "EQUAL" and ptype == "NAME" and prev is not None:
+    elif tok.type == "EQUAL" and ptype == "NAME" and at_statement_start:
         hint = (
             f"a state equation is written {prev}' = ...; a constant is "
             f"const {prev} = ...; a shorthand is let {prev} = ..."
         )
-    if hint is None and tok.type == "MULOP" and ptype == "MULOP":
+    elif tok.type == "MULOP" and ptype == "MULOP":
         hint = "write ^ (or **) for a power"
-    if hint is None and tok.type == "NAME" and prev is None or (
-        hint is None and tok.type == "NAME" and ptype == "_NL"
-    ):
+    elif tok.type == "NAME" and (prev is None or ptype == "_NL"):
         guess = closest(str(tok), _STATEMENT_WORDS)
-        if guess:
-            hint = f"did you mean '{guess}'?"
-        else:
-            hint = (
-                "a statement starts with system, const, param, state, let, domain, "
-                "equilibrium, claim, or a state name followed by ' (as in x' = ...)"
-            )
-    if hint is None and tok.type in {"_NL", "$END"}:
+        hint = f"did you mean '{guess}'?" if guess else (
+            "a statement starts with system, const, param, state, let, domain, "
+            "equilibrium, claim, or a state name followed by ' (as in x' = ...)"
+        )
+    elif tok.type in {"_NL", "$END"}:
         hint = "the statement is incomplete"
     return make_error(where, message, line, column, end, hint=hint)
+
+
+def _syntax_error(where: Located, parser: Lark, tokens: list[Token], tok: Token) -> InputError:
+    """Replay the accepted tokens to learn exactly which terminals could have come next."""
+    replay = parser.parse_interactive("")
+    for t in tokens:
+        replay.feed_token(t)
+    expected = set(replay.accepts())
+    prev = tokens[-1] if tokens else None
+    before = tokens[-2] if len(tokens) > 1 else None
+    return _token_error(where, tok, prev, before, expected)
 
 
 def _keyword_types() -> frozenset[str]:
@@ -207,20 +222,21 @@ def parse_tree(where: Located) -> Tree:
     _check_characters(where)
     parser = _get_parser()
     text = where.text if where.text.endswith("\n") else where.text + "\n"
-    prev: Token | None = None
+    tokens: list[Token] = []
     try:
         interactive = parser.parse_interactive("")
         for tok in _significant_tokens(parser.lex(text)):
             try:
                 interactive.feed_token(tok)
-            except UnexpectedToken as err:
-                raise _token_error(where, tok, prev, set(err.expected)) from None
-            prev = tok
+            except UnexpectedToken:
+                raise _syntax_error(where, parser, tokens, tok) from None
+            tokens.append(tok)
+        prev = tokens[-1] if tokens else None
         eof = Token.new_borrow_pos("$END", "", prev) if prev is not None else Token("$END", "")
         try:
             tree = interactive.feed_eof(prev)
-        except UnexpectedToken as err:
-            raise _token_error(where, eof, prev, set(err.expected)) from None
+        except UnexpectedToken:
+            raise _syntax_error(where, parser, tokens, eof) from None
     except UnexpectedCharacters as err:
         raise _char_error(where, err) from None
     except UnexpectedEOF as err:  # pragma: no cover - the interactive parser reports tokens
