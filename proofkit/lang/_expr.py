@@ -12,7 +12,6 @@ and never expands an expression whose size it has not bounded first.
 
 from __future__ import annotations
 
-import math
 import re
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass

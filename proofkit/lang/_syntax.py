@@ -17,7 +17,13 @@ from lark import Lark, Token, Tree
 from lark.exceptions import LarkError, UnexpectedCharacters, UnexpectedEOF, UnexpectedToken
 
 from proofkit.errors import InputError
-from proofkit.lang._diagnostics import Located, closest, describe_expected, make_error, non_ascii_error
+from proofkit.lang._diagnostics import (
+    Located,
+    closest,
+    describe_expected,
+    make_error,
+    non_ascii_error,
+)
 
 __all__ = ["KEYWORDS", "MAX_DEPTH", "MAX_FILE_CHARS", "parse_tree"]
 
@@ -25,8 +31,10 @@ MAX_FILE_CHARS = 1 << 20  # 1 MiB of text
 MAX_DEPTH = 100  # nesting levels of an expression tree
 
 KEYWORDS = frozenset(
-    "system const param state let domain equilibrium at claim stable unstable globally "
-    "attracts no cycle in nominal and".split()
+    {
+        "system", "const", "param", "state", "let", "domain", "equilibrium", "at", "claim",
+        "stable", "unstable", "globally", "attracts", "no", "cycle", "in", "nominal", "and",
+    }
 )
 # A newline right after one of these tokens continues the statement.
 _CONTINUE_AFTER = frozenset(
