@@ -1,0 +1,280 @@
+"""Certified equilibria of a non-polynomial field in a box: exclusion plus the Krawczyk test.
+
+The search box is split (bisection of the widest side, with a budget on the
+number of boxes). A box is *excluded* when the ball enclosure of some f_i
+over it misses 0. A box is *certified* to hold exactly one zero when the
+Krawczyk operator K(X) = m - Y f(m) + (I - Y J(X)) (X - m) (Krawczyk 1969;
+Moore's existence test) lands strictly inside X; it is excluded when K(X)
+misses X. Y is a floating-point inverse of J(m): any Y is valid, so floats
+only steer the test, ball arithmetic decides. The list is complete when
+every part of the box was excluded or certified.
+
+A certified root is named exactly when a simple exact candidate (a rational,
+or a rational multiple of pi) lies in its box and makes every f_i vanish
+identically by sympy's exact evaluation.
+
+This module must never report a root that the ball arithmetic did not certify.
+"""
+
+from __future__ import annotations
+
+import itertools
+from collections.abc import Sequence
+from dataclasses import dataclass
+from fractions import Fraction
+
+import flint
+import numpy as np
+import sympy as sp
+
+from proofkit.analysis.intervals import arb_value, compile_arb
+
+__all__ = ["BoxResult", "CertifiedRoot", "box_search"]
+
+Box = list[tuple[flint.fmpq, flint.fmpq]]
+_SPLIT = flint.fmpq(19, 37)
+
+
+@dataclass(frozen=True, eq=False)
+class CertifiedRoot:
+    """A box that holds exactly one zero; ``exact`` is that zero when identified."""
+
+    box: tuple[tuple[sp.Rational, sp.Rational], ...]
+    exact: tuple[sp.Expr, ...] | None
+
+
+@dataclass(frozen=True)
+class BoxResult:
+    roots: tuple[CertifiedRoot, ...]
+    complete: bool
+    reason: str
+    boxes: int
+
+
+def _arb_to_q(a: flint.arb) -> tuple[flint.fmpq, flint.fmpq]:
+    """Exact rational bounds of a ball (mid - rad, mid + rad)."""
+    m, e = a.mid().man_exp()
+    r, f = a.rad().man_exp()
+    mid = _dyadic(int(m), int(e))
+    rad = _dyadic(int(r), int(f))
+    return mid - rad, mid + rad
+
+
+def _dyadic(m: int, e: int) -> flint.fmpq:
+    return flint.fmpq(m * 2**e) if e >= 0 else flint.fmpq(m, 2 ** (-e))
+
+
+def _ball(lo: flint.fmpq, hi: flint.fmpq) -> flint.arb:
+    return flint.arb(lo).union(flint.arb(hi))
+
+
+def _to_rational(q: flint.fmpq) -> sp.Rational:
+    return sp.Rational(int(q.p), int(q.q))
+
+
+class _Krawczyk:
+    def __init__(self, fs: Sequence[sp.Expr], xs: Sequence[sp.Symbol]) -> None:
+        self.n = len(xs)
+        self.f = [compile_arb(f, xs) for f in fs]
+        self.J = [[compile_arb(sp.diff(f, x), xs) for x in xs] for f in fs]
+
+    def excluded_by_range(self, X: list[flint.arb]) -> bool:
+        for f in self.f:
+            v = f(X)
+            if v.is_finite() and not v.contains(0):
+                return True
+        return False
+
+    def step(self, box: Box) -> tuple[str, Box | None]:
+        """One Krawczyk test: ('unique', K∩X), ('none', None), ('contained', K∩X) or 'unknown'.
+
+        'contained' gives K∩X, which holds every zero in X, without proving one exists.
+        """
+        n = self.n
+        X = [_ball(lo, hi) for lo, hi in box]
+        mids = [(lo + hi) / 2 for lo, hi in box]
+        M = [flint.arb(m) for m in mids]
+        fm = [f(M) for f in self.f]
+        JX = [[J(X) for J in row] for row in self.J]
+        Jm = [[J(M) for J in row] for row in self.J]
+        try:
+            Jf = np.array([[float(v.mid()) for v in row] for row in Jm])
+            Y = np.linalg.inv(Jf)
+        except (np.linalg.LinAlgError, ValueError, OverflowError):
+            return "unknown", None
+        if not np.all(np.isfinite(Y)):
+            return "unknown", None
+        Ya = [[flint.arb(float(v)) for v in row] for row in Y]
+        out: Box = []
+        inside = True
+        for i in range(n):
+            k = M[i]
+            for j in range(n):
+                k = k - Ya[i][j] * fm[j]
+            for j in range(n):
+                c = flint.arb(1 if i == j else 0)
+                for m in range(n):
+                    c = c - Ya[i][m] * JX[m][j]
+                k = k + c * (X[j] - M[j])
+            if not k.is_finite():
+                return "unknown", None
+            lo, hi = _arb_to_q(k)
+            blo, bhi = box[i]
+            if hi < blo or lo > bhi:
+                return "none", None
+            if not (blo < lo and hi < bhi):
+                inside = False
+            out.append((max(lo, blo), min(hi, bhi)))
+        return ("unique", out) if inside else ("contained", out)
+
+
+def _candidates(lo: flint.fmpq, hi: flint.fmpq) -> list[sp.Expr]:
+    """Simple exact numbers near [lo, hi]: small-denominator rationals, rational multiples of pi."""
+    mid = Fraction(int(((lo + hi) / 2).p), int(((lo + hi) / 2).q))
+    out: list[sp.Expr] = []
+    for den in (1, 2, 3, 4, 6, 8, 12):
+        q = Fraction(round(mid * den), den)
+        out.append(sp.Rational(q.numerator, q.denominator))
+        qp = Fraction(round(float(mid) / np.pi * den), den)
+        out.append(sp.Rational(qp.numerator, qp.denominator) * sp.pi)
+    return list(dict.fromkeys(out))
+
+
+def _identify(
+    fs: Sequence[sp.Expr], xs: Sequence[sp.Symbol], box: Box
+) -> tuple[sp.Expr, ...] | None:
+    per_coord = []
+    for lo, hi in box:
+        cands = []
+        for c in _candidates(lo, hi):
+            ball = arb_value(c, 320)
+            clo, chi = _arb_to_q(ball)
+            if lo <= clo and chi <= hi:
+                cands.append(c)
+        if not cands:
+            return None
+        per_coord.append(cands[:3])
+    for combo in itertools.product(*per_coord):
+        subs = dict(zip(xs, combo, strict=True))
+        if all(sp.expand(f.subs(subs)) == 0 for f in fs):
+            return tuple(combo)
+    return None
+
+
+def box_search(
+    fs: Sequence[sp.Expr],
+    xs: Sequence[sp.Symbol],
+    box: Sequence[tuple[sp.Rational, sp.Rational]],
+    budget: int = 20000,
+    min_width: Fraction = Fraction(1, 2**30),
+) -> BoxResult:
+    """Every zero of fs in the box, each certified unique in a small box; and is that all?"""
+    kr = _Krawczyk(fs, xs)
+    start: Box = [
+        (flint.fmpq(int(lo.p), int(lo.q)), flint.fmpq(int(hi.p), int(hi.q))) for lo, hi in box
+    ]
+    stack = [start]
+    found: list[Box] = []
+    processed = 0
+    unresolved = 0
+    mw = flint.fmpq(min_width.numerator, min_width.denominator)
+    old = flint.ctx.prec
+    flint.ctx.prec = 80
+    try:
+        while stack:
+            if processed >= budget:
+                break
+            b = stack.pop()
+            processed += 1
+            X = [_ball(lo, hi) for lo, hi in b]
+            if kr.excluded_by_range(X):
+                continue
+            verdict, kbox = kr.step(b)
+            if verdict == "none":
+                continue
+            if verdict != "unique":
+                # epsilon-inflation: a unique zero in a slightly larger box covers this box
+                # too (and catches zeros on a face shared by two boxes)
+                wide = [(lo - (hi - lo) / 8, hi + (hi - lo) / 8) for lo, hi in b]
+                verdict, kbox = kr.step(wide)
+            if verdict == "unique":
+                assert kbox is not None
+                found.append(_refine(kr, kbox))
+                continue
+            widths = [hi - lo for lo, hi in b]
+            k = max(range(len(b)), key=lambda i: widths[i])
+            if widths[k] < mw:
+                unresolved += 1
+                continue
+            lo, hi = b[k]
+            mid = lo + (hi - lo) * _SPLIT  # off-centre: rational zeros rarely sit on a face
+            left, right = list(b), list(b)
+            left[k], right[k] = (lo, mid), (mid, hi)
+            stack.extend([right, left])
+        roots, merge_ok = _merge(kr, found)
+        inside = [r for r in roots if _within(r, start)]
+        straddle = [r for r in roots if not _within(r, start) and _meets(r, start)]
+        roots = inside
+        merge_ok = merge_ok and not straddle
+    finally:
+        flint.ctx.prec = old
+    complete = not stack and unresolved == 0 and merge_ok
+    box_text = " x ".join(f"[{_to_rational(lo)}, {_to_rational(hi)}]" for lo, hi in start)
+    if complete:
+        reason = (
+            f"the box {box_text} is covered by {processed} boxes, each certified free of "
+            f"equilibria or holding exactly one (Krawczyk test): {len(roots)} equilibria"
+        )
+    elif stack:
+        reason = f"incomplete: budget reached ({budget} boxes) in the box {box_text}"
+    elif unresolved:
+        reason = f"incomplete: {unresolved} tiny boxes in {box_text} could not be decided"
+    else:
+        reason = "incomplete: two root enclosures could not be separated"
+    out = []
+    for rb in roots:
+        exact = _identify(fs, xs, rb)
+        out.append(
+            CertifiedRoot(
+                box=tuple((_to_rational(lo), _to_rational(hi)) for lo, hi in rb), exact=exact
+            )
+        )
+    return BoxResult(tuple(out), complete, reason, processed)
+
+
+def _refine(kr: _Krawczyk, box: Box, rounds: int = 6) -> Box:
+    """Shrink a box known to hold exactly one zero: X <- K(X) ∩ X keeps that zero."""
+    for _ in range(rounds):
+        verdict, kbox = kr.step(box)
+        if verdict not in ("unique", "contained") or kbox is None:
+            break
+        box = kbox
+    return box
+
+
+def _merge(kr: _Krawczyk, boxes: list[Box]) -> tuple[list[Box], bool]:
+    """Drop duplicates: overlapping certified boxes whose hull is certified hold one root."""
+    out: list[Box] = []
+    ok = True
+    for b in boxes:
+        dup = False
+        for k, c in enumerate(out):
+            if _meets(b, c):
+                hull = [(min(p[0], q[0]), max(p[1], q[1])) for p, q in zip(b, c, strict=True)]
+                verdict, _kb = kr.step(hull)
+                if verdict == "unique":
+                    out[k] = hull
+                    dup = True
+                    break
+                ok = False
+        if not dup:
+            out.append(b)
+    return out, ok
+
+
+def _within(b: Box, c: Box) -> bool:
+    return all(cl <= bl and bh <= ch for (bl, bh), (cl, ch) in zip(b, c, strict=True))
+
+
+def _meets(b: Box, c: Box) -> bool:
+    return all(bl <= ch and cl <= bh for (bl, bh), (cl, ch) in zip(b, c, strict=True))
