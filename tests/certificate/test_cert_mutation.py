@@ -1,0 +1,135 @@
+"""Every change to an exact number, and every dropped term, makes the audit reject.
+
+The numeric leaves of real certificates (stable with a Lyapunov matrix,
+unstable, irrational in Q(sqrt 2), a shifted Routh array, a sum-of-squares
+identity) are enumerated and mutated one by one.
+"""
+
+from __future__ import annotations
+
+import copy
+import json
+from fractions import Fraction
+
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from proofkit.certificate import dumps
+
+from .conftest import (
+    BISTABLE_TEXT,
+    companion_text,
+    full_audit_ok,
+    get_in,
+    numeric_leaves,
+    prove_text,
+    set_in,
+)
+from .test_cert_handwritten import motzkin_times_certificate, parrilo_lecture_certificate
+
+
+def _bump(value, delta: Fraction = Fraction(1)):
+    """A different exact value: integers move by one (staying >= 0), rationals by delta."""
+    if isinstance(value, int):
+        return value + 1 if delta > 0 or value == 0 else value - 1
+    return str(Fraction(value) + delta)
+
+
+@pytest.fixture(scope="module")
+def certificates():
+    shifted = prove_text(companion_text(["5", "0", "-20", "-16"], "unstable"))
+    from .conftest import SQRT_TEXT
+
+    return {
+        "bistable": prove_text(BISTABLE_TEXT).certificate,
+        "sqrt": prove_text(SQRT_TEXT).certificate,
+        "shifted": shifted.certificate,
+        "sos": parrilo_lecture_certificate(),
+    }
+
+
+def test_every_certificate_starts_accepted(certificates) -> None:
+    for name, cert in certificates.items():
+        assert full_audit_ok(dumps(cert)), name
+
+
+@pytest.mark.parametrize("name", ["bistable", "sqrt", "shifted", "sos"])
+def test_every_numeric_leaf_mutation_is_rejected(certificates, name) -> None:
+    cert = certificates[name]
+    leaves = numeric_leaves(cert)
+    assert len(leaves) > 20
+    for path in leaves:
+        mutated = copy.deepcopy(cert)
+        set_in(mutated, path, _bump(get_in(cert, path)))
+        assert not full_audit_ok(dumps(mutated)), f"{name}: mutation at {path} accepted"
+
+
+def _term_lists(obj, path=()):
+    """Paths of lists that hold terms or entries (polynomials, rows, vectors)."""
+    out = []
+    if isinstance(obj, dict):
+        for k, v in obj.items():
+            out += _term_lists(v, (*path, k))
+    elif isinstance(obj, list) and obj:
+        if path and path[-1] not in ("states", "variables", "range") and len(obj) > 0:
+            out.append(path)
+        for i, v in enumerate(obj):
+            if isinstance(v, list | dict):
+                out += _term_lists(v, (*path, i))
+    return out
+
+
+@pytest.mark.parametrize("name", ["bistable", "sqrt", "sos"])
+def test_dropping_any_term_or_entry_is_rejected(certificates, name) -> None:
+    cert = certificates[name]
+    for path in _term_lists(cert):
+        target = get_in(cert, path)
+        if path[-1] == "claims" or (path and path[0] == "model" and "parameters" in path):
+            continue
+        for i in range(len(target)):
+            mutated = copy.deepcopy(cert)
+            del get_in(mutated, path)[i]
+            text = dumps(mutated)
+            # dropping the only Gram/identity can leave nothing to check: still must not pass
+            assert not full_audit_ok(text), f"{name}: dropping {path}[{i}] accepted"
+
+
+def test_dropping_a_claim_is_rejected(certificates) -> None:
+    mutated = copy.deepcopy(certificates["bistable"])
+    del mutated["claims"][1]
+    assert not full_audit_ok(dumps(mutated))
+
+
+def test_editing_the_statement_or_source_is_rejected(certificates) -> None:
+    cert = certificates["bistable"]
+    m1 = copy.deepcopy(cert)
+    m1["claims"][0]["statement"] = "right stable"
+    assert not full_audit_ok(dumps(m1))
+    m2 = copy.deepcopy(cert)
+    m2["model"]["source"] = m2["model"]["source"].replace("x^3", "x^5")
+    assert not full_audit_ok(dumps(m2))
+
+
+@given(
+    name=st.sampled_from(["bistable", "sqrt", "shifted", "sos"]),
+    index=st.integers(min_value=0, max_value=10_000),
+    delta=st.fractions(min_value=-5, max_value=5, max_denominator=7).filter(lambda f: f != 0),
+)
+def test_random_rational_perturbation_is_rejected(certificates, name, index, delta) -> None:
+    cert = certificates[name]
+    leaves = numeric_leaves(cert)
+    path = leaves[index % len(leaves)]
+    mutated = copy.deepcopy(cert)
+    set_in(mutated, path, _bump(get_in(cert, path), delta))
+    assert not full_audit_ok(json.dumps(mutated))
+
+
+def test_motzkin_multiple_mutations_rejected() -> None:
+    # a larger Gram matrix: sample every tenth leaf to keep the run short
+    cert = motzkin_times_certificate()
+    assert full_audit_ok(dumps(cert))
+    for path in numeric_leaves(cert)[::10]:
+        mutated = copy.deepcopy(cert)
+        set_in(mutated, path, _bump(get_in(cert, path)))
+        assert not full_audit_ok(dumps(mutated)), path
