@@ -1,0 +1,551 @@
+"""The survey of a model: every equilibrium, its exact linearization, verdict and type.
+
+``survey(model)`` works on ``model.at_nominal()``. Polynomial fields with
+rational coefficients are solved exactly (``equilibria``); other fields are
+searched in a box with certified ball arithmetic (``boxsearch``). For each
+equilibrium with exact coordinates the Jacobian, characteristic polynomial,
+Routh array and (when stable) the solution of A'P + PA = -I are exact. For a
+root known only by a certified box, the same quantities are certified
+enclosures over that box (sympy ``Interval`` entries) and a verdict is given
+only when every sign needed is certain.
+
+Verdicts follow Lyapunov's indirect method: "stable" (every eigenvalue in
+the open left half plane), "unstable" (one in the open right half plane),
+"inconclusive" (eigenvalues on the imaginary axis, none to the right).
+
+This module must never decide a verdict from floating-point numbers.
+"""
+
+from __future__ import annotations
+
+import itertools
+from dataclasses import dataclass, field
+from typing import Literal
+
+import flint
+import numpy as np
+import sympy as sp
+
+from proofkit.analysis.algebraic import AlgNum, RealAlgebraicField, field_of_exprs
+from proofkit.analysis.boxsearch import _arb_to_q, _ball, box_search
+from proofkit.analysis.equilibria import (
+    FoundPoint,
+    LimitHit,
+    Limits,
+    _eval_poly_at,
+    _fq,
+    solve_polynomial_system,
+)
+from proofkit.analysis.intervals import arb_value, compile_arb
+from proofkit.analysis.lyapunov import LyapunovSolution, solve_lyapunov_in
+from proofkit.analysis.routh import RouthArray, routh_array_in
+from proofkit.model import Claim, Model
+
+__all__ = [
+    "DEFAULT_BOX",
+    "ClaimCheck",
+    "EquilibriumReport",
+    "Survey",
+    "check_claim",
+    "find_equilibria",
+    "survey",
+]
+
+Verdict = Literal["stable", "unstable", "inconclusive"]
+DEFAULT_BOX = (sp.Integer(-10), sp.Integer(10))
+
+
+@dataclass(frozen=True, eq=False)
+class EquilibriumReport:
+    """One equilibrium and its linearization (exact unless ``exact`` is False)."""
+
+    name: str | None
+    point: dict[str, sp.Expr]
+    numeric: dict[str, float]
+    jacobian: sp.Matrix
+    charpoly: tuple[sp.Expr, ...]
+    routh: RouthArray
+    eigenvalues: tuple[complex, ...]
+    verdict: Verdict
+    type: str
+    lyapunov: LyapunovSolution | None
+    exact: bool = True
+    enclosure: tuple[tuple[sp.Rational, sp.Rational], ...] | None = None
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class Survey:
+    equilibria: tuple[EquilibriumReport, ...]
+    complete: bool
+    complete_reason: str
+    at_nominal: bool = True
+    method: str = ""
+    timings: dict[str, float] = field(default_factory=dict, compare=False)
+
+    def by_name(self, name: str) -> EquilibriumReport:
+        for e in self.equilibria:
+            if e.name == name:
+                return e
+        raise KeyError(name)
+
+
+# --- finding ----------------------------------------------------------------
+
+
+def _rational_polynomial(fs: tuple[sp.Expr, ...], xs: tuple[sp.Symbol, ...]) -> bool:
+    for f in fs:
+        if not f.is_polynomial(*xs):
+            return False
+        if not all(isinstance(c, sp.Rational) for c in sp.Poly(f, *xs).coeffs()):
+            return False
+    return True
+
+
+def _outer_rational(v: sp.Expr, up: bool) -> sp.Rational | None:
+    if isinstance(v, sp.Rational):
+        return v
+    try:
+        lo, hi = _arb_to_q(arb_value(v, 128))
+    except Exception:
+        return None
+    return sp.Rational(int((hi if up else lo).p), int((hi if up else lo).q))
+
+
+def search_box(model: Model) -> tuple[list[tuple[sp.Rational, sp.Rational]], str]:
+    """The box to search: bounds read from the domain where it gives them, else DEFAULT_BOX."""
+    xs = model.state_symbols
+    lo: dict[sp.Symbol, sp.Rational] = {}
+    hi: dict[sp.Symbol, sp.Rational] = {}
+    if model.domain is not None:
+        for g, _strict in model.domain.nonnegative_forms():
+            # g >= 0 with g = a*x + b (a bound) or g = c - x^2 (a symmetric bound)
+            free = g.free_symbols
+            if len(free) != 1 or not free <= set(xs):
+                continue
+            (x,) = free
+            if not g.is_polynomial(x):
+                continue
+            p = sp.Poly(g, x)
+            cs = p.all_coeffs()
+            if p.degree() == 1:
+                a, b = cs
+                bound = _outer_rational(-b / a, up=a < 0)
+                if bound is None:
+                    continue
+                if a > 0:
+                    lo[x] = max(lo.get(x, bound), bound)
+                else:
+                    hi[x] = min(hi.get(x, bound), bound)
+            elif p.degree() == 2 and cs[0] < 0 and cs[1] == 0 and cs[2] >= 0:
+                r = _outer_rational(sp.sqrt(-cs[2] / cs[0]), up=True)
+                if r is None:
+                    continue
+                hi[x] = min(hi.get(x, r), r)
+                lo[x] = max(lo.get(x, -r), -r)
+    box, defaulted = [], []
+    for x in xs:
+        a = lo.get(x, DEFAULT_BOX[0])
+        b = hi.get(x, DEFAULT_BOX[1])
+        if x not in lo or x not in hi:
+            defaulted.append(x.name)
+        box.append((a, b))
+    note = (
+        f"default bounds [{DEFAULT_BOX[0]}, {DEFAULT_BOX[1]}] for {', '.join(defaulted)}"
+        if defaulted
+        else "bounds from the domain"
+    )
+    return box, note
+
+
+def find_equilibria(
+    model: Model, limits: Limits | None = None
+) -> tuple[tuple[FoundPoint, ...], bool, str]:
+    """Every equilibrium of ``model.at_nominal()``: (points, complete, reason)."""
+    pts, complete, reason, _method, _t = _find(model.at_nominal(), limits or Limits())
+    return pts, complete, reason
+
+
+def _find(m: Model, limits: Limits) -> tuple[tuple[FoundPoint, ...], bool, str, str, dict]:
+    xs, names, fs = m.state_symbols, m.states, m.field
+    limit_note = ""
+    if _rational_polynomial(fs, xs):
+        try:
+            sol = solve_polynomial_system(fs, xs, names, limits)
+            return sol.points, sol.complete, sol.reason, "groebner", sol.timings
+        except LimitHit as hit:
+            limit_note = f"limit reached in the exact solver ({hit}); "
+    box, note = search_box(m)
+    res = box_search(fs, xs, box)
+    points = []
+    for root in res.roots:
+        lo_hi = root.box
+        mids = {nm: float((a + b) / 2) for nm, (a, b) in zip(names, lo_hi, strict=True)}
+        if root.exact is not None:
+            point = dict(zip(names, root.exact, strict=True))
+            exact = True
+        else:
+            point = {nm: (a + b) / 2 for nm, (a, b) in zip(names, lo_hi, strict=True)}
+            exact = False
+        points.append(FoundPoint(point=point, numeric=mids, enclosure=lo_hi, exact=exact))
+    complete = res.complete and not limit_note
+    reason = limit_note + res.reason + f" ({note})"
+    if res.complete and limit_note:
+        reason += "; equilibria outside the box are not excluded"
+    return tuple(points), complete, reason, "box search", {}
+
+
+# --- linearization -------------------------------------------------------------
+
+
+def _charpoly_in(J: list[list[AlgNum]], K: RealAlgebraicField) -> list[AlgNum]:
+    """det(sI - J), highest degree first (Faddeev–LeVerrier; exact division by k)."""
+    n = len(J)
+    if K.is_rational:
+        M = flint.fmpq_mat(n, n, [v.rational() for row in J for v in row])
+        cs = M.charpoly().coeffs()
+        return [K(c) for c in reversed(cs)]
+    coeffs = [K.one]
+    Mk = [[K.zero] * n for _ in range(n)]
+    for k in range(1, n + 1):
+        c_prev = coeffs[-1]
+        Mk = [
+            [
+                sum((J[i][t] * Mk[t][j] for t in range(n)), K.zero) + (c_prev if i == j else K.zero)
+                for j in range(n)
+            ]
+            for i in range(n)
+        ]
+        tr = sum((sum((J[i][t] * Mk[t][i] for t in range(n)), K.zero) for i in range(n)), K.zero)
+        coeffs.append(-tr / k)
+    return coeffs
+
+
+def _planar_type(J: list[list[AlgNum]]) -> str:
+    tr = J[0][0] + J[1][1]
+    det = J[0][0] * J[1][1] - J[0][1] * J[1][0]
+    sd, st = det.sign(), tr.sign()
+    if sd < 0:
+        return "saddle"
+    if sd == 0:
+        return "degenerate"
+    if st == 0:
+        return "centre-type (linear part)"
+    disc = (tr * tr - det * 4).sign()
+    side = "stable" if st < 0 else "unstable"
+    return f"{side} focus" if disc < 0 else f"{side} node"
+
+
+def _type_for(n: int, rhp: int, imag: int, planar: str | None) -> str:
+    if planar is not None:
+        return planar
+    text = f"{rhp} unstable direction" + ("" if rhp == 1 else "s")
+    if imag:
+        text += f", {imag} eigenvalue{'s' if imag > 1 else ''} on the imaginary axis"
+    return text
+
+
+def _verdict(rhp: int, imag: int) -> Verdict:
+    return "unstable" if rhp > 0 else ("stable" if imag == 0 else "inconclusive")
+
+
+def _exact_report(
+    name: str | None,
+    names: tuple[str, ...],
+    point: dict[str, sp.Expr],
+    numeric: dict[str, float],
+    K: RealAlgebraicField,
+    J: list[list[AlgNum]],
+    note: str = "",
+) -> EquilibriumReport:
+    n = len(J)
+    cp = _charpoly_in(J, K)
+    ra = routh_array_in(cp, K)
+    verdict = _verdict(ra.rhp_count, ra.imag_count)
+    planar = _planar_type(J) if n == 2 else None
+    Jf = np.array([[float(v) for v in row] for row in J], dtype=float).reshape(n, n)
+    eig = tuple(complex(z) for z in np.linalg.eigvals(Jf)) if n else ()
+    lyap = None
+    if verdict == "stable":
+        Qm = [[K.one if i == j else K.zero for j in range(n)] for i in range(n)]
+        P, minors = solve_lyapunov_in(J, Qm, K)
+        pd = all(mn.sign() > 0 for mn in minors)
+        if not pd:  # Lyapunov's theorem: impossible for a Hurwitz matrix
+            raise RuntimeError("internal: P of a Hurwitz matrix is not positive definite")
+        lyap = LyapunovSolution(
+            A=sp.Matrix([[v.to_sympy() for v in row] for row in J]),
+            P=sp.Matrix([[v.to_sympy() for v in row] for row in P]),
+            Q=sp.eye(n),
+            minors=tuple(mn.to_sympy() for mn in minors),
+            positive_definite=pd,
+        )
+    return EquilibriumReport(
+        name=name,
+        point=point,
+        numeric=numeric,
+        jacobian=sp.Matrix(n, n, [v.to_sympy() for row in J for v in row]),
+        charpoly=tuple(c.to_sympy() for c in cp),
+        routh=ra,
+        eigenvalues=eig,
+        verdict=verdict,
+        type=_type_for(n, ra.rhp_count, ra.imag_count, planar),
+        lyapunov=lyap,
+        note=note,
+    )
+
+
+def _interval(a: flint.arb) -> sp.Interval:
+    lo, hi = _arb_to_q(a)
+    return sp.Interval(sp.Rational(int(lo.p), int(lo.q)), sp.Rational(int(hi.p), int(hi.q)))
+
+
+def _asign(a: flint.arb) -> int | None:
+    return 1 if a > 0 else (-1 if a < 0 else None)
+
+
+def _enclosure_report(
+    name: str | None, m: Model, fp: FoundPoint, Jsym: sp.Matrix
+) -> EquilibriumReport:
+    """Linearization over a certified root box: every sign from ball arithmetic, or no verdict."""
+    xs, n = m.state_symbols, len(m.states)
+    assert fp.enclosure is not None
+    old = flint.ctx.prec
+    flint.ctx.prec = 128
+    try:
+        X = [_ball(_fq(a), _fq(b)) for a, b in fp.enclosure]
+        J = [[compile_arb(Jsym[i, j], xs)(X) for j in range(n)] for i in range(n)]
+        coeffs = [flint.arb(1)]
+        Mk = [[flint.arb(0)] * n for _ in range(n)]
+        for k in range(1, n + 1):
+            c = coeffs[-1]
+            Mk = [
+                [sum((J[i][t] * Mk[t][j] for t in range(n)), flint.arb(0)) + (c if i == j else 0)
+                 for j in range(n)]
+                for i in range(n)
+            ]
+            tr = sum((J[i][t] * Mk[t][i] for i in range(n) for t in range(n)), flint.arb(0))
+            coeffs.append(-tr / k)
+        # a regular Routh array, every first-column sign certified, or no verdict
+        width = n // 2 + 1
+        r0 = coeffs[0::2] + [flint.arb(0)] * width
+        r1 = coeffs[1::2] + [flint.arb(0)] * width
+        rows = [r0[:width], r1[:width]] if n >= 1 else [r0[:width]]
+        undecided = False
+        for _i in range(2, n + 1):
+            a, b = rows[-2], rows[-1]
+            if _asign(b[0]) is None:
+                undecided = True
+                break
+            rows.append([(b[0] * a[j + 1] - a[0] * b[j + 1]) / b[0] if j + 1 < width else
+                         flint.arb(0) for j in range(width)])
+        signs = [_asign(r[0]) for r in rows]
+        undecided = undecided or any(s is None for s in signs)
+        planar = None
+        if n == 2:
+            tr2, det2 = J[0][0] + J[1][1], J[0][0] * J[1][1] - J[0][1] * J[1][0]
+            sd, st, sq = _asign(det2), _asign(tr2), _asign(tr2 * tr2 - 4 * det2)
+            if sd == -1:
+                planar = "saddle"
+            elif sd == 1 and st is not None and sq is not None:
+                planar = ("stable " if st < 0 else "unstable ") + ("focus" if sq < 0 else "node")
+            else:
+                planar = "undetermined (interval enclosure)"
+        J_int = sp.Matrix(n, n, [_interval(v) for row in J for v in row])
+        cp_int = tuple(_interval(c) for c in coeffs)
+        rows_int = tuple(tuple(_interval(v) for v in r[: max(1, (n - i) // 2 + 1)])
+                         for i, r in enumerate(rows))
+        Jmid = np.array([[float(v.mid()) for v in row] for row in J]).reshape(n, n)
+    finally:
+        flint.ctx.prec = old
+    if undecided:
+        rhp = -1
+        verdict: Verdict = "inconclusive"
+        special = ("a first-column sign is not certain over the root enclosure",)
+        changes = -1
+        kind = planar if planar and planar in ("saddle",) else "undetermined (interval enclosure)"
+        if planar == "saddle":  # det < 0 for every matrix in the box: a positive eigenvalue
+            verdict, rhp = "unstable", 1
+    else:
+        ss = [s for s in signs if s is not None]
+        changes = sum(1 for p, q in itertools.pairwise(ss) if p != q)
+        rhp, special = changes, ()
+        verdict = _verdict(rhp, 0)
+        kind = _type_for(n, rhp, 0, planar)
+    ra = RouthArray(
+        coefficients=cp_int,
+        rows=rows_int,
+        first_column=tuple(r[0] for r in rows_int),
+        first_column_signs=tuple(s or 0 for s in signs),
+        special=(*special, "entries are certified enclosures over the equilibrium's box"),
+        auxiliary=(),
+        sign_changes=changes,
+        rhp_count=rhp,
+        imag_count=0 if not undecided else -1,
+    )
+    return EquilibriumReport(
+        name=name,
+        point=fp.point,
+        numeric=fp.numeric,
+        jacobian=J_int,
+        charpoly=cp_int,
+        routh=ra,
+        eigenvalues=tuple(complex(z) for z in np.linalg.eigvals(Jmid)) if n else (),
+        verdict=verdict,
+        type=kind,
+        lyapunov=None,
+        exact=False,
+        enclosure=fp.enclosure,
+        note="the equilibrium is known to lie in a certified box (exactly one there); "
+        "the verdict holds for every point of the box",
+    )
+
+
+def _report_for_exact_point(
+    name: str | None, m: Model, point: dict[str, sp.Expr], numeric: dict[str, float],
+    Jsym: sp.Matrix, fp: FoundPoint | None, note: str = "",
+) -> EquilibriumReport | None:
+    names, xs, n = m.states, m.state_symbols, len(m.states)
+    if fp is not None and fp.field is not None and fp.coords is not None:
+        K = fp.field
+        polys = [[sp.Poly(Jsym[i, j], *xs, domain=sp.QQ) for j in range(n)] for i in range(n)]
+        J = [[_eval_poly_at(polys[i][j], fp.coords, K) for j in range(n)] for i in range(n)]
+        return _exact_report(name, names, point, numeric, K, J, note)
+    subs = {x: point[nm] for x, nm in zip(xs, names, strict=True)}
+    entries = [sp.expand(Jsym[i, j].subs(subs)) for i in range(n) for j in range(n)]
+    try:
+        K, elems = field_of_exprs(entries)
+    except (ValueError, NotImplementedError):
+        return None  # not algebraic: use the enclosure
+    J = [elems[i * n : (i + 1) * n] for i in range(n)]
+    return _exact_report(name, names, point, numeric, K, J, note)
+
+
+# --- declared equilibria ------------------------------------------------------
+
+
+def _same_value(v: sp.Expr, fp: FoundPoint, k: int) -> bool:
+    if fp.field is not None and fp.coords is not None:
+        c = fp.coords[k]
+        if isinstance(v, sp.Rational):
+            return c.is_rational() and c.rational() == _fq(v)
+        if c.is_rational():
+            return False
+        try:
+            K2, (e2,) = field_of_exprs([v])
+        except ValueError:
+            return False
+        return K2.locate(e2.p) == fp.field.locate(c.p)
+    return sp.simplify(v - fp.point[list(fp.point)[k]]) == 0 if fp.exact else False
+
+
+def _in_enclosure(point: dict[str, sp.Expr], fp: FoundPoint) -> bool:
+    assert fp.enclosure is not None
+    for v, (a, b) in zip(point.values(), fp.enclosure, strict=True):
+        try:
+            lo, hi = _arb_to_q(arb_value(v, 256))
+        except Exception:
+            return False
+        if not (_fq(a) <= lo and hi <= _fq(b)):
+            return False
+    return True
+
+
+def survey(model: Model, limits: Limits | None = None) -> Survey:
+    """Find, linearize, classify every equilibrium of ``model.at_nominal()``."""
+    import time
+
+    m = model.at_nominal()
+    xs, names = m.state_symbols, m.states
+    t0 = time.perf_counter()
+    points, complete, reason, method, timings = _find(m, limits or Limits())
+    timings = dict(timings)
+    timings["find"] = time.perf_counter() - t0
+    Jsym = sp.Matrix(m.field).jacobian(list(xs)) if names else sp.zeros(0, 0)
+    names_for: dict[int, str] = {}
+    extra: list[tuple[str, dict[str, sp.Expr]]] = []
+    for decl in m.equilibria:
+        dp = decl.as_dict()
+        hit = None
+        for idx, fp in enumerate(points):
+            if fp.enclosure is not None and not fp.exact:
+                if _in_enclosure(dp, fp):
+                    hit = idx
+            elif all(_same_value(dp[nm], fp, k) for k, nm in enumerate(names)):
+                hit = idx
+            if hit is not None:
+                break
+        if hit is None:
+            if complete:
+                raise RuntimeError(
+                    f"internal: declared equilibrium {decl.name} is missing from a complete list"
+                )
+            extra.append((decl.name, dp))
+        else:
+            names_for[hit] = decl.name
+    t0 = time.perf_counter()
+    reports: list[EquilibriumReport] = []
+    for idx, fp in enumerate(points):
+        nm = names_for.get(idx)
+        point, numeric = fp.point, fp.numeric
+        if not fp.exact and nm is not None:  # the declared exact point is this certified root
+            point = m.equilibrium(nm).as_dict()
+            fp = FoundPoint(point=point, numeric=numeric, enclosure=fp.enclosure, exact=True)
+        rep = None
+        if fp.exact:
+            rep = _report_for_exact_point(nm, m, point, numeric, Jsym, fp)
+        if rep is None:
+            rep = _enclosure_report(nm, m, fp, Jsym)
+        reports.append(rep)
+    for nm, dp in extra:
+        numeric = {k: float(arb_value(v, 64).mid()) for k, v in dp.items()}
+        fp_decl = FoundPoint(point=dp, numeric=numeric)
+        rep = _report_for_exact_point(
+            nm, m, dp, numeric, Jsym, fp_decl,
+            note="declared equilibrium not in the found list (the list is incomplete)",
+        )
+        if rep is not None:
+            reports.append(rep)
+    timings["linearize"] = time.perf_counter() - t0
+    return Survey(tuple(reports), complete, reason, True, method, timings)
+
+
+# --- claims ------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class ClaimCheck:
+    """What the linearization says about a ``stable`` / ``unstable`` claim."""
+
+    claim: str
+    status: Literal["proved", "not proved", "refuted"]
+    reason: str
+    evidence: EquilibriumReport | None
+
+
+def check_claim(model: Model, s: Survey, claim: Claim) -> ClaimCheck:
+    """Decide ``claim E stable`` / ``claim E unstable`` from the linearization at nominal values."""
+    if claim.kind not in ("stable", "unstable"):
+        return ClaimCheck(claim.text, "not proved", "not a linearization claim", None)
+    if any(p.is_uncertain for p in model.params) and not claim.at_nominal:
+        return ClaimCheck(
+            claim.text, "not proved",
+            "the analysis is at nominal parameter values; the claim must hold over the "
+            "parameter ranges and parametric proofs are not available yet", None,
+        )
+    try:
+        e = s.by_name(claim.target or "")
+    except KeyError:
+        return ClaimCheck(claim.text, "not proved", f"no equilibrium named {claim.target}", None)
+    if e.verdict == "inconclusive":
+        why = "eigenvalues on the imaginary axis: the linearization does not decide"
+        if not e.exact and e.routh.rhp_count < 0:
+            why = "a sign could not be certified over the equilibrium's enclosure"
+        return ClaimCheck(claim.text, "not proved", why, e)
+    holds = e.verdict == claim.kind
+    how = (
+        "all eigenvalues in the open left half plane (Lyapunov's indirect method)"
+        if e.verdict == "stable"
+        else f"{e.routh.rhp_count} eigenvalue(s) in the open right half plane "
+        "(Lyapunov's indirect method)"
+    )
+    return ClaimCheck(claim.text, "proved" if holds else "refuted", how, e)
