@@ -119,8 +119,9 @@ def test_lyapunov_matrix_not_positive_definite_is_rejected(bistable_run) -> None
     lyap = cert["claims"][0]["evidence"]["lyapunov"]
     neg = {"1": "-1", "0": "0"}
     lyap["Q"] = [[neg.get(x, x) for x in r] for r in lyap["Q"]]
-    lyap["P"] = [[x[1:] if x.startswith("-") else ("-" + x if x != "0" else x) for x in r]
-                 for r in lyap["P"]]
+    lyap["P"] = [
+        [x[1:] if x.startswith("-") else ("-" + x if x != "0" else x) for x in r] for r in lyap["P"]
+    ]
     v = audit_certificate(cert).claims[0]  # A'(-P) + (-P)A = -(-Q) holds, but -P < 0
     assert v.status == "rejected" and v.failed_step == "lyapunov"
 

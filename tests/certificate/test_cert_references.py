@@ -110,8 +110,7 @@ def test_irrational_equilibria_in_a_quadratic_field(sqrt_run) -> None:
 def test_cubic_irrational_point_is_not_proved() -> None:
     # x = cube root of 2 lies outside every quadratic field: the prover must decline.
     text = (
-        "state x, y\nx' = x^3 - 2\ny' = -y\nequilibrium c at x = 2^(1/3), y = 0\n"
-        "claim c unstable\n"
+        "state x, y\nx' = x^3 - 2\ny' = -y\nequilibrium c at x = 2^(1/3), y = 0\nclaim c unstable\n"
     )
     try:
         run = prove_text(text)
@@ -123,8 +122,10 @@ def test_cubic_irrational_point_is_not_proved() -> None:
 
 def test_centre_type_linearization_is_not_proved() -> None:
     # common practice: eigenvalues +-i (x' = y, y' = -x - x^2 y) leave the linear test undecided.
-    run = prove_text("state x, y\nx' = y\ny' = -x - x^2*y\nequilibrium o at x = 0, y = 0\n"
-                     "claim o stable\nclaim o unstable\n")
+    run = prove_text(
+        "state x, y\nx' = y\ny' = -x - x^2*y\nequilibrium o at x = 0, y = 0\n"
+        "claim o stable\nclaim o unstable\n"
+    )
     assert [o.status for o in run.outcomes] == ["not proved", "not proved"]
     assert all("does not decide" in o.detail for o in run.outcomes)
     assert json.loads(run.text)["claims"][0]["status"] == "not proved"
