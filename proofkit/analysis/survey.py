@@ -71,6 +71,7 @@ class EquilibriumReport:
     lyapunov: LyapunovSolution | None
     exact: bool = True
     enclosure: tuple[tuple[sp.Rational, sp.Rational], ...] | None = None
+    jacobian_enclosure: tuple[tuple[sp.Interval, ...], ...] | None = None
     note: str = ""
 
 
@@ -350,7 +351,7 @@ def _enclosure_report(
                 planar = ("stable " if st < 0 else "unstable ") + ("focus" if sq < 0 else "node")
             else:
                 planar = "undetermined (interval enclosure)"
-        J_int = sp.Matrix(n, n, [_interval(v) for row in J for v in row])
+        J_int = tuple(tuple(_interval(v) for v in row) for row in J)
         cp_int = tuple(_interval(c) for c in coeffs)
         rows_int = tuple(tuple(_interval(v) for v in r[: max(1, (n - i) // 2 + 1)])
                          for i, r in enumerate(rows))
@@ -386,7 +387,7 @@ def _enclosure_report(
         name=name,
         point=fp.point,
         numeric=fp.numeric,
-        jacobian=J_int,
+        jacobian=Jsym.subs(dict(zip(xs, fp.point.values(), strict=True))),
         charpoly=cp_int,
         routh=ra,
         eigenvalues=tuple(complex(z) for z in np.linalg.eigvals(Jmid)) if n else (),
@@ -395,8 +396,10 @@ def _enclosure_report(
         lyapunov=None,
         exact=False,
         enclosure=fp.enclosure,
+        jacobian_enclosure=J_int,
         note="the equilibrium is known to lie in a certified box (exactly one there); "
-        "the verdict holds for every point of the box",
+        "point and jacobian are at the box centre (display only); the verdict, the "
+        "characteristic polynomial and the Routh array are certified enclosures over the box",
     )
 
 
