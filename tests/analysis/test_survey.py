@@ -1,0 +1,112 @@
+"""Survey verdicts and types on planar examples, declared names, claims at nominal values."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+import pytest
+import sympy as sp
+
+from proofkit.analysis import check_claim, survey
+from proofkit.model import Claim, Param
+
+from .helpers import model, sym
+
+x, y = sym("x", "y")
+
+# computed by hand from trace/determinant/discriminant; numpy cross-checks each below
+PLANAR = [
+    ([-x, -2 * y], "stable node", "stable"),
+    ([x, 2 * y], "unstable node", "unstable"),
+    ([y, -x - y], "stable focus", "stable"),
+    ([y, -x + y], "unstable focus", "unstable"),
+    ([x, -y], "saddle", "unstable"),
+    ([y, -x], "centre-type (linear part)", "inconclusive"),
+    ([-x, y**2], "degenerate", "inconclusive"),
+    ([-x + y, -y], "stable node", "stable"),  # repeated eigenvalue -1 (a Jordan block)
+]
+
+
+@pytest.mark.parametrize(("rhs", "kind", "verdict"), PLANAR)
+def test_planar_types(rhs: list, kind: str, verdict: str) -> None:
+    s = survey(model("x y", rhs))
+    assert s.complete and len(s.equilibria) == 1
+    e = s.equilibria[0]
+    assert (e.type, e.verdict) == (kind, verdict)
+    ev = np.linalg.eigvals(np.array(e.jacobian, dtype=float))  # computed: numpy eigenvalues
+    assert np.allclose(sorted(ev, key=lambda c: (c.real, c.imag)),
+                       sorted(e.eigenvalues, key=lambda c: (c.real, c.imag)))
+    if verdict == "stable":
+        assert all(v.real < 0 for v in ev)
+        lyap = e.lyapunov
+        assert lyap is not None and lyap.positive_definite
+        A = e.jacobian
+        assert -sp.eye(2) == A.T * lyap.P + lyap.P * A  # exact identity
+    if verdict == "unstable":
+        assert any(v.real > 0 for v in ev) and e.lyapunov is None
+
+
+def test_reversed_time_oscillator_survey() -> None:
+    # published: Khalil, Nonlinear Systems, 3rd ed., section 8.2: A = [[0,-1],[1,-1]] at the
+    # origin and P = [[3/2,-1/2],[-1/2,1]] for Q = I
+    m = model("x1 x2", [-sym("x2")[0], sym("x1")[0] + (sym("x1")[0] ** 2 - 1) * sym("x2")[0]],
+              equilibria={"origin": {"x1": 0, "x2": 0}})
+    s = survey(m)
+    e = s.by_name("origin")
+    assert e.jacobian == sp.Matrix([[0, -1], [1, -1]])
+    assert e.lyapunov is not None
+    assert sp.Matrix([[sp.Rational(3, 2), sp.Rational(-1, 2)],
+                                      [sp.Rational(-1, 2), 1]]) == e.lyapunov.P
+    assert e.routh.first_column == (1, 1, 1) and e.verdict == "stable"
+
+
+def test_declared_names_match_exact_points() -> None:
+    # computed by hand: equilibria of x' = x^2 - 2, y' = -y are (+-sqrt 2, 0)
+    m = model("x y", [x**2 - 2, -y],
+              equilibria={"right": {"x": sp.sqrt(2), "y": 0}, "left": {"x": -sp.sqrt(2), "y": 0}})
+    s = survey(m)
+    assert s.by_name("right").point["x"] == sp.sqrt(2)
+    assert s.by_name("left").verdict == "stable"
+
+
+def test_declared_point_missing_from_complete_list_is_a_bug() -> None:
+    # common practice: a complete list that lacks a true equilibrium must never pass silently
+    m = model("x y", [x**2 - 2, -y], equilibria={"wrong": {"x": 1, "y": 0}})
+    with pytest.raises(RuntimeError):
+        survey(m)
+
+
+def test_declared_point_on_a_curve_is_analysed() -> None:
+    # computed by hand: x' = x y, y' = -y: every (a, 0) rests; at (2, 0) J = [[0, 2], [0, -1]]
+    m = model("x y", [x * y, -y], equilibria={"p": {"x": 2, "y": 0}})
+    s = survey(m)
+    assert not s.complete
+    e = s.by_name("p")
+    assert e.jacobian == sp.Matrix([[0, 2], [0, -1]]) and e.verdict == "inconclusive"
+
+
+def test_claims_from_linearization_and_parameter_ranges() -> None:
+    # computed by hand: x' = -k x + y, y' = -y with k = 2 nominal: stable node at the origin
+    k = sp.Symbol("k", real=True)
+    m = model("x y", [-k * x + y, -y], equilibria={"o": {"x": 0, "y": 0}},
+              params=(Param("k", sp.Integer(2)),))
+    s = survey(m)
+    assert s.at_nominal
+    c = check_claim(m, s, Claim("stable", "o stable", target="o"))
+    assert c.status == "proved" and "indirect method" in c.reason
+    c = check_claim(m, s, Claim("unstable", "o unstable", target="o"))
+    assert c.status == "refuted"
+    ranged = replace(m, params=(Param("k", sp.Integer(2), sp.Integer(1), sp.Integer(3)),))
+    c = check_claim(ranged, survey(ranged), Claim("stable", "o stable", target="o"))
+    assert c.status == "not proved" and "parameter" in c.reason
+    c = check_claim(ranged, survey(ranged),
+                    Claim("stable", "o stable at nominal", target="o", at_nominal=True))
+    assert c.status == "proved"
+
+
+def test_centre_claim_not_proved() -> None:
+    # common practice: eigenvalues +-i leave Lyapunov's indirect method undecided
+    m = model("x y", [y, -x], equilibria={"o": {"x": 0, "y": 0}})
+    c = check_claim(m, survey(m), Claim("stable", "o stable", target="o"))
+    assert c.status == "not proved" and "imaginary axis" in c.reason
