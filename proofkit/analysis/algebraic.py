@@ -376,11 +376,7 @@ def field_of_exprs(exprs: Iterable[sp.Expr]) -> tuple[RealAlgebraicField, list[A
     prec = 64
     while True:
         ball = arb_value(theta, prec)
-        hits = [
-            K
-            for K in candidates
-            if ball.overlaps(flint.arb(K.lo).union(flint.arb(K.hi)))
-        ]
+        hits = [K for K in candidates if ball.overlaps(flint.arb(K.lo).union(flint.arb(K.hi)))]
         if len(hits) == 1:
             K = hits[0]
             break

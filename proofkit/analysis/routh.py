@@ -164,9 +164,7 @@ def routh_array_in(coeffs: Sequence[AlgNum], K: RealAlgebraicField) -> RouthArra
         if all(e.is_zero() for e in row):
             above = rows[i - 1]
             m = power + 1
-            a_expr = sp.Add(
-                *[above[j].to_sympy() * _S ** (m - 2 * j) for j in range(m // 2 + 1)]
-            )
+            a_expr = sp.Add(*[above[j].to_sympy() * _S ** (m - 2 * j) for j in range(m // 2 + 1)])
             aux.append((m, a_expr))
             special.append(
                 f"row of zeros at row s^{power}: auxiliary polynomial A(s) = {a_expr}; "

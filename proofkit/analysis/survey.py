@@ -320,8 +320,10 @@ def _enclosure_report(
         for k in range(1, n + 1):
             c = coeffs[-1]
             Mk = [
-                [sum((J[i][t] * Mk[t][j] for t in range(n)), flint.arb(0)) + (c if i == j else 0)
-                 for j in range(n)]
+                [
+                    sum((J[i][t] * Mk[t][j] for t in range(n)), flint.arb(0)) + (c if i == j else 0)
+                    for j in range(n)
+                ]
                 for i in range(n)
             ]
             tr = sum((J[i][t] * Mk[t][i] for i in range(n) for t in range(n)), flint.arb(0))
@@ -337,8 +339,12 @@ def _enclosure_report(
             if _asign(b[0]) is None:
                 undecided = True
                 break
-            rows.append([(b[0] * a[j + 1] - a[0] * b[j + 1]) / b[0] if j + 1 < width else
-                         flint.arb(0) for j in range(width)])
+            rows.append(
+                [
+                    (b[0] * a[j + 1] - a[0] * b[j + 1]) / b[0] if j + 1 < width else flint.arb(0)
+                    for j in range(width)
+                ]
+            )
         signs = [_asign(r[0]) for r in rows]
         undecided = undecided or any(s is None for s in signs)
         planar = None
@@ -353,8 +359,9 @@ def _enclosure_report(
                 planar = "undetermined (interval enclosure)"
         J_int = tuple(tuple(_interval(v) for v in row) for row in J)
         cp_int = tuple(_interval(c) for c in coeffs)
-        rows_int = tuple(tuple(_interval(v) for v in r[: max(1, (n - i) // 2 + 1)])
-                         for i, r in enumerate(rows))
+        rows_int = tuple(
+            tuple(_interval(v) for v in r[: max(1, (n - i) // 2 + 1)]) for i, r in enumerate(rows)
+        )
         Jmid = np.array([[float(v.mid()) for v in row] for row in J]).reshape(n, n)
     finally:
         flint.ctx.prec = old
@@ -404,8 +411,13 @@ def _enclosure_report(
 
 
 def _report_for_exact_point(
-    name: str | None, m: Model, point: dict[str, sp.Expr], numeric: dict[str, float],
-    Jsym: sp.Matrix, fp: FoundPoint | None, note: str = "",
+    name: str | None,
+    m: Model,
+    point: dict[str, sp.Expr],
+    numeric: dict[str, float],
+    Jsym: sp.Matrix,
+    fp: FoundPoint | None,
+    note: str = "",
 ) -> EquilibriumReport | None:
     names, xs, n = m.states, m.state_symbols, len(m.states)
     if fp is not None and fp.field is not None and fp.coords is not None:
@@ -503,7 +515,12 @@ def survey(model: Model, limits: Limits | None = None) -> Survey:
         numeric = {k: float(arb_value(v, 64).mid()) for k, v in dp.items()}
         fp_decl = FoundPoint(point=dp, numeric=numeric)
         rep = _report_for_exact_point(
-            nm, m, dp, numeric, Jsym, fp_decl,
+            nm,
+            m,
+            dp,
+            numeric,
+            Jsym,
+            fp_decl,
             note="declared equilibrium not in the found list (the list is incomplete)",
         )
         if rep is not None:
@@ -531,9 +548,11 @@ def check_claim(model: Model, s: Survey, claim: Claim) -> ClaimCheck:
         return ClaimCheck(claim.text, "not proved", "not a linearization claim", None)
     if any(p.is_uncertain for p in model.params) and not claim.at_nominal:
         return ClaimCheck(
-            claim.text, "not proved",
+            claim.text,
+            "not proved",
             "the analysis is at nominal parameter values; the claim must hold over the "
-            "parameter ranges and parametric proofs are not available yet", None,
+            "parameter ranges and parametric proofs are not available yet",
+            None,
         )
     try:
         e = s.by_name(claim.target or "")

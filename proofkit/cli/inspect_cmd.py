@@ -68,7 +68,9 @@ def _model_dict(model: Model) -> dict[str, Any]:
 
 def inspect_report(model: Model) -> dict[str, Any]:
     """The JSON object printed by ``inspect --json`` (later stages add keys here)."""
-    return {"file": model.file, "model": _model_dict(model)}
+    from proofkit.analysis.display import model_equilibria_json
+
+    return {"file": model.file, "model": _model_dict(model), **model_equilibria_json(model)}
 
 
 def _table(rows: list[tuple[str, str]], indent: str = "  ") -> list[str]:
@@ -129,6 +131,9 @@ def inspect_text(model: Model) -> str:
             out.append(f"  {i}. {c.text}{note}")
     else:
         out.append("claims: none")
+    from proofkit.analysis.display import model_equilibria_lines
+
+    out += model_equilibria_lines(model)
     return "\n".join(out)
 
 

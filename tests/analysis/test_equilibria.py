@@ -29,7 +29,7 @@ def test_irrational_equilibria_sqrt2() -> None:
     assert neg.lyapunov is not None and neg.lyapunov.positive_definite
     assert pos.verdict == "unstable" and pos.type == "saddle" and pos.routh.rhp_count == 1
     assert pos.lyapunov is None
-    assert neg.numeric["x"] == pytest.approx(-2**0.5)
+    assert neg.numeric["x"] == pytest.approx(-(2**0.5))
 
 
 def test_cubic_root_as_crootof() -> None:

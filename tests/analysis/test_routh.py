@@ -85,11 +85,7 @@ def test_rhp_count_matches_numpy_on_random_integer_polynomials(tail: list[int], 
     assert r.sign_changes == r.rhp_count
 
 
-@given(
-    st.lists(
-        st.fractions(min_value=-5, max_value=5, max_denominator=7), min_size=1, max_size=8
-    )
-)
+@given(st.lists(st.fractions(min_value=-5, max_value=5, max_denominator=7), min_size=1, max_size=8))
 def test_rhp_count_matches_numpy_on_random_rational_polynomials(tail: list) -> None:
     # computed: numpy.roots is the reference; cases within 1e-6 of the axis are skipped here
     coeffs = [sp.Integer(1)] + [sp.Rational(f.numerator, f.denominator) for f in tail]

@@ -35,8 +35,10 @@ def test_planar_types(rhs: list, kind: str, verdict: str) -> None:
     e = s.equilibria[0]
     assert (e.type, e.verdict) == (kind, verdict)
     ev = np.linalg.eigvals(np.array(e.jacobian, dtype=float))  # computed: numpy eigenvalues
-    assert np.allclose(sorted(ev, key=lambda c: (c.real, c.imag)),
-                       sorted(e.eigenvalues, key=lambda c: (c.real, c.imag)))
+    assert np.allclose(
+        sorted(ev, key=lambda c: (c.real, c.imag)),
+        sorted(e.eigenvalues, key=lambda c: (c.real, c.imag)),
+    )
     if verdict == "stable":
         assert all(v.real < 0 for v in ev)
         lyap = e.lyapunov
@@ -50,21 +52,29 @@ def test_planar_types(rhs: list, kind: str, verdict: str) -> None:
 def test_reversed_time_oscillator_survey() -> None:
     # published: Khalil, Nonlinear Systems, 3rd ed., section 8.2: A = [[0,-1],[1,-1]] at the
     # origin and P = [[3/2,-1/2],[-1/2,1]] for Q = I
-    m = model("x1 x2", [-sym("x2")[0], sym("x1")[0] + (sym("x1")[0] ** 2 - 1) * sym("x2")[0]],
-              equilibria={"origin": {"x1": 0, "x2": 0}})
+    m = model(
+        "x1 x2",
+        [-sym("x2")[0], sym("x1")[0] + (sym("x1")[0] ** 2 - 1) * sym("x2")[0]],
+        equilibria={"origin": {"x1": 0, "x2": 0}},
+    )
     s = survey(m)
     e = s.by_name("origin")
     assert e.jacobian == sp.Matrix([[0, -1], [1, -1]])
     assert e.lyapunov is not None
-    assert sp.Matrix([[sp.Rational(3, 2), sp.Rational(-1, 2)],
-                                      [sp.Rational(-1, 2), 1]]) == e.lyapunov.P
+    assert (
+        sp.Matrix([[sp.Rational(3, 2), sp.Rational(-1, 2)], [sp.Rational(-1, 2), 1]])
+        == e.lyapunov.P
+    )
     assert e.routh.first_column == (1, 1, 1) and e.verdict == "stable"
 
 
 def test_declared_names_match_exact_points() -> None:
     # computed by hand: equilibria of x' = x^2 - 2, y' = -y are (+-sqrt 2, 0)
-    m = model("x y", [x**2 - 2, -y],
-              equilibria={"right": {"x": sp.sqrt(2), "y": 0}, "left": {"x": -sp.sqrt(2), "y": 0}})
+    m = model(
+        "x y",
+        [x**2 - 2, -y],
+        equilibria={"right": {"x": sp.sqrt(2), "y": 0}, "left": {"x": -sp.sqrt(2), "y": 0}},
+    )
     s = survey(m)
     assert s.by_name("right").point["x"] == sp.sqrt(2)
     assert s.by_name("left").verdict == "stable"
@@ -89,8 +99,12 @@ def test_declared_point_on_a_curve_is_analysed() -> None:
 def test_claims_from_linearization_and_parameter_ranges() -> None:
     # computed by hand: x' = -k x + y, y' = -y with k = 2 nominal: stable node at the origin
     k = sp.Symbol("k", real=True)
-    m = model("x y", [-k * x + y, -y], equilibria={"o": {"x": 0, "y": 0}},
-              params=(Param("k", sp.Integer(2)),))
+    m = model(
+        "x y",
+        [-k * x + y, -y],
+        equilibria={"o": {"x": 0, "y": 0}},
+        params=(Param("k", sp.Integer(2)),),
+    )
     s = survey(m)
     assert s.at_nominal
     c = check_claim(m, s, Claim("stable", "o stable", target="o"))
@@ -100,8 +114,9 @@ def test_claims_from_linearization_and_parameter_ranges() -> None:
     ranged = replace(m, params=(Param("k", sp.Integer(2), sp.Integer(1), sp.Integer(3)),))
     c = check_claim(ranged, survey(ranged), Claim("stable", "o stable", target="o"))
     assert c.status == "not proved" and "parameter" in c.reason
-    c = check_claim(ranged, survey(ranged),
-                    Claim("stable", "o stable at nominal", target="o", at_nominal=True))
+    c = check_claim(
+        ranged, survey(ranged), Claim("stable", "o stable at nominal", target="o", at_nominal=True)
+    )
     assert c.status == "proved"
 
 
