@@ -1,0 +1,172 @@
+"""Numerical solution of a :class:`SearchProgram` with cvxpy (Clarabel or SCS).
+
+One vectorised equality constraint per identity (``sum A_u @ vec(u) == b``),
+one PSD constraint per Gram matrix, optionally with a common margin ``t``
+(``Q - t I`` PSD, ``t`` maximised, capped) to land strictly inside the cone so
+that exact rounding can succeed. The result reports the solver's status
+honestly: solved, inaccurate, infeasible, unbounded or failed.
+
+Floating-point output is a hint for :mod:`proofkit.exact`, never evidence;
+this module must never report that anything is proved.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, field
+
+import cvxpy as cp
+import numpy as np
+
+from proofkit.sos.program import Identity, Scalar, SearchProgram, SosPoly
+
+__all__ = ["DEFAULT_SOLVER", "SOLVER_SETTINGS", "NumericSolution", "solve_program"]
+
+#: Chosen from tests/perf/bench_sos.py (see tests/perf/README.md).
+DEFAULT_SOLVER = "clarabel"
+
+#: Accuracy settings per solver (tight: rounding needs accurate interior points).
+SOLVER_SETTINGS: dict[str, dict[str, object]] = {
+    "clarabel": {
+        "tol_gap_abs": 1e-9,
+        "tol_gap_rel": 1e-9,
+        "tol_feas": 1e-9,
+        "max_iter": 200,
+    },
+    "scs": {"eps_abs": 1e-9, "eps_rel": 1e-9, "max_iters": 20000, "acceleration_lookback": 10},
+}
+
+_STATUS = {
+    cp.OPTIMAL: "solved",
+    cp.OPTIMAL_INACCURATE: "inaccurate",
+    cp.INFEASIBLE: "infeasible",
+    cp.INFEASIBLE_INACCURATE: "infeasible",
+    cp.UNBOUNDED: "unbounded",
+    cp.UNBOUNDED_INACCURATE: "unbounded",
+}
+
+
+@dataclass
+class NumericSolution:
+    """What the solver returned, in the program's own unknowns (floats)."""
+
+    status: str  # solved | inaccurate | infeasible | unbounded | failed
+    solver: str
+    values: dict[str, np.ndarray] = field(default_factory=dict)
+    margin: float | None = None
+    objective: float | None = None
+    message: str = ""
+    assembly_time: float = 0.0
+    compile_time: float = 0.0
+    solve_time: float = 0.0
+
+    @property
+    def usable(self) -> bool:
+        """Values are present and finite (worth trying to round, whatever the status)."""
+        return bool(self.values) and all(np.all(np.isfinite(v)) for v in self.values.values())
+
+
+def _identity_constraint(ident: Identity, var: dict[int, cp.Expression], par: dict[int, cp.Parameter]):
+    lhs = 0
+    rhs = 0
+    for blk in ident.blocks:
+        if blk.unknown is None:
+            col = -np.asarray(blk.matrix.todense()).ravel()
+            rhs = rhs + (col if blk.level is None else par[blk.level.lid] * col)
+            continue
+        term = blk.matrix @ var[blk.unknown.uid]
+        lhs = lhs + (term if blk.level is None else par[blk.level.lid] * term)
+    if isinstance(lhs, int):
+        return None
+    if isinstance(rhs, int):
+        rhs = np.zeros(ident.monomials.shape[0])
+    return lhs == rhs
+
+
+def solve_program(
+    program: SearchProgram,
+    solver: str | None = None,
+    *,
+    margin: bool = True,
+    margin_cap: float = 1.0,
+    margin_weight: float = 1e-3,
+    settings: dict[str, object] | None = None,
+) -> NumericSolution:
+    """Assemble (if needed) and solve numerically; never raises for solver trouble."""
+    solver = (solver or DEFAULT_SOLVER).lower()
+    if solver not in SOLVER_SETTINGS:
+        raise ValueError(f"unknown solver {solver!r}; choose one of {sorted(SOLVER_SETTINGS)}")
+    asm = program.assemble()
+    var: dict[int, cp.Expression] = {}
+    mats: dict[int, cp.Variable] = {}
+    cons: list = []
+    t = cp.Variable() if margin else None
+    for u in program.unknowns:
+        if isinstance(u, SosPoly):
+            q = cp.Variable((u.size, u.size), symmetric=True, name=u.name)
+            mats[u.uid] = q
+            var[u.uid] = cp.vec(q, order="F")
+            if u.size == 0:
+                continue
+            shift = t * np.eye(u.size) if t is not None else 0
+            cons.append(q - shift >> 0)
+        elif isinstance(u, Scalar):
+            v = cp.Variable(name=u.name)
+            mats[u.uid] = v
+            var[u.uid] = cp.reshape(v, (1,), order="F")
+        else:
+            v = cp.Variable(u.ncols, name=u.name)
+            mats[u.uid] = v
+            var[u.uid] = v
+    par = {lv.lid: cp.Parameter(name=lv.name, value=float(lv.value)) for lv in program.levels}
+    for ident in program.identities:
+        c = _identity_constraint(ident, var, par)
+        if c is not None:
+            cons.append(c)
+    user = 0
+    if program.objective is not None:
+        sense, weights = program.objective
+        user = sum(float(w) * mats[uid] for uid, w in weights.items())
+        if sense == "max":
+            user = -user
+    if t is not None:
+        cons.append(t <= margin_cap)
+        obj = cp.Minimize(user - (margin_weight if program.objective else 1.0) * t)
+    else:
+        obj = cp.Minimize(user)
+    prob = cp.Problem(obj, cons)
+    opts = dict(SOLVER_SETTINGS[solver])
+    opts.update(settings or {})
+    name = {"clarabel": cp.CLARABEL, "scs": cp.SCS}[solver]
+    out = NumericSolution(status="failed", solver=solver, assembly_time=asm)
+    t0 = time.perf_counter()
+    try:
+        prob.solve(solver=name, **opts)
+    except (cp.error.SolverError, ValueError, ArithmeticError) as exc:
+        out.message = f"solver error: {exc}"
+        out.solve_time = time.perf_counter() - t0
+        return out
+    total = time.perf_counter() - t0
+    stats = prob.solver_stats
+    out.solve_time = float(stats.solve_time) if stats and stats.solve_time else total
+    out.compile_time = max(0.0, total - out.solve_time)
+    out.status = _STATUS.get(prob.status, "failed")
+    out.message = f"cvxpy status {prob.status}"
+    if out.status in ("solved", "inaccurate"):
+        for u in program.unknowns:
+            val = mats[u.uid].value
+            if val is None:
+                out.status = "failed"
+                out.message += f"; no value for {u.name}"
+                out.values = {}
+                break
+            out.values[u.name] = np.array(val, dtype=float).reshape(
+                (u.size, u.size) if isinstance(u, SosPoly) else (-1,)
+            )
+        if t is not None and t.value is not None:
+            out.margin = float(t.value)
+        out.objective = float(prob.value) if prob.value is not None else None
+        if out.status != "failed" and not out.usable:
+            out.status = "failed"
+            out.message += "; non-finite values"
+    return out
