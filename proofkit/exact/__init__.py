@@ -17,8 +17,8 @@ where to look.
 
 from __future__ import annotations
 
-from proofkit.exact.ldl import LdlResult, ldl_psd
 from proofkit.exact.check import GramCheck, check_gram, squares_from_ldl
+from proofkit.exact.ldl import LdlResult, ldl_psd
 from proofkit.exact.rounding import (
     DENOMINATOR_LADDER,
     ExactSolution,

@@ -56,7 +56,7 @@ def check_gram(
 
 
 def squares_from_ldl(basis: Sequence[sp.Expr], ldl: LdlResult) -> list[tuple[sp.Rational, sp.Expr]]:
-    """``[(d_k, q_k)]`` with ``q_k = sum_i L_ik b_i``, so ``b'Gb = sum d_k q_k^2``; zero weights left out."""
+    """``[(d_k, q_k)]``, ``q_k = sum_i L_ik b_i``, so ``b'Gb = sum d_k q_k^2`` (no zero weights)."""
     if not ldl.psd or ldl.L is None or ldl.D is None:
         raise ValueError("no LDL' factors: the matrix was not shown PSD")
     out: list[tuple[sp.Rational, sp.Expr]] = []

@@ -102,7 +102,9 @@ def _ldl_plain(rows: list[list[flint.fmpq]], label) -> LdlResult:
             return LdlResult(False, reason=f"negative pivot at {label(k)}", row=k)
         if p == 0:
             if any(c != 0 for c in col):
-                return LdlResult(False, reason=f"zero pivot with nonzero column at {label(k)}", row=k)
+                return LdlResult(
+                    False, reason=f"zero pivot with nonzero column at {label(k)}", row=k
+                )
             dvals.append(zero)
             continue
         dvals.append(p)

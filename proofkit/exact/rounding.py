@@ -65,7 +65,9 @@ class ExactSolution:
         return self.program.space.to_sympy(unknown_poly(self.program.space, u, self.values[u.name]))
 
     def gram(self, u: SosPoly) -> sp.Matrix:
-        return sp.Matrix([[sp.Rational(int(x.p), int(x.q)) for x in r] for r in self.values[u.name]])
+        return sp.Matrix(
+            [[sp.Rational(int(x.p), int(x.q)) for x in r] for r in self.values[u.name]]
+        )
 
     def scalar(self, u: Scalar) -> sp.Rational:
         v = self.values[u.name]
@@ -122,12 +124,18 @@ def _expr_poly(program: SearchProgram, expr, values: dict[str, ExactValue], skip
     return total
 
 
-def verify_exact(program: SearchProgram, values: dict[str, ExactValue]) -> tuple[bool, str | None, dict]:
+def verify_exact(
+    program: SearchProgram, values: dict[str, ExactValue]
+) -> tuple[bool, str | None, dict]:
     """Exact check: every identity expands to 0 and every Gram matrix passes LDL'."""
     for ident in program.identities:
         res = _expr_poly(program, ident.expr, values, None)
         if not res.is_zero():
-            return False, f"{ident.name}: exact identity fails ({len(res)} nonzero coefficients)", {}
+            return (
+                False,
+                f"{ident.name}: exact identity fails ({len(res)} nonzero coefficients)",
+                {},
+            )
     ldls: dict[str, LdlResult] = {}
     for u in program.unknowns:
         if isinstance(u, SosPoly):
@@ -161,7 +169,9 @@ def peyrl_parrilo_projection(
     bad = ukeys[pos_c] != tkeys
     if bad.any():
         e = texps[int(np.argmax(bad))]
-        return f"target monomial with exponents {tuple(int(v) for v in e)} is outside the basis square"
+        return (
+            f"target monomial with exponents {tuple(int(v) for v in e)} is outside the basis square"
+        )
     want = [flint.fmpq(0)] * len(ukeys)
     for p, c in zip(pos_c.tolist(), tcoef, strict=True):
         want[p] = c
@@ -187,9 +197,9 @@ def _pivots(program: SearchProgram) -> dict[int, SosPoly]:
         if not isinstance(u, SosPoly) or len(occ) != 1:
             continue
         k, part = occ[0]
-        if part.dvar is None and part.level is None and part.mult.is_constant() and k not in out:
-            if not part.mult.is_zero():
-                out[k] = u
+        simple = part.dvar is None and part.level is None and part.mult.is_constant()
+        if simple and k not in out and not part.mult.is_zero():
+            out[k] = u
     return out
 
 

@@ -51,7 +51,7 @@ def _in_hull_lp(points: np.ndarray, targets: np.ndarray) -> np.ndarray:
 
 
 def _in_hull(points: np.ndarray, targets: np.ndarray) -> np.ndarray:
-    """Membership of ``targets`` in conv(``points``), with a tolerance that keeps borderline rows."""
+    """Membership of ``targets`` in conv(``points``), keeping borderline rows."""
     pts = points.astype(float)
     tg = targets.astype(float)
     center = pts.mean(axis=0)

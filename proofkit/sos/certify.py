@@ -68,9 +68,14 @@ class Decomposition:
 
 def _sample_negative(p: flint.fmpq_mpoly, nvars: int) -> tuple[flint.fmpq, ...] | None:
     rng = random.Random(20260101)
-    points = [tuple(flint.fmpq(0) for _ in range(nvars)), tuple(flint.fmpq(1) for _ in range(nvars))]
+    points = [
+        tuple(flint.fmpq(0) for _ in range(nvars)),
+        tuple(flint.fmpq(1) for _ in range(nvars)),
+    ]
     for _ in range(24):
-        points.append(tuple(flint.fmpq(rng.randint(-20, 20), rng.randint(1, 8)) for _ in range(nvars)))
+        points.append(
+            tuple(flint.fmpq(rng.randint(-20, 20), rng.randint(1, 8)) for _ in range(nvars))
+        )
     for pt in points:
         if p(*pt) < 0:
             return pt
@@ -133,7 +138,9 @@ def decompose(
                 continue
             margin = sol.margin if sol.margin is not None else 0.0
             if margin < _MARGIN_NEGATIVE and sol.status == "solved":
-                msg = f"best margin {margin:.3g} < 0: no PSD Gram matrix in this basis (numerically)"
+                msg = (
+                    f"best margin {margin:.3g} < 0: no PSD Gram matrix in this basis (numerically)"
+                )
                 attempts.append(Attempt(name, b.shape[0], sol.status, margin, msg))
                 reasons.append(f"{name}: {msg}")
                 break
@@ -145,9 +152,13 @@ def decompose(
                 verdict = check_gram(poly, variables, basis_syms, gmat)
                 timings["exact"] += time.perf_counter() - t0
                 if verdict.ok:
-                    attempts.append(Attempt(name, b.shape[0], sol.status, margin, "exact certificate"))
+                    attempts.append(
+                        Attempt(name, b.shape[0], sol.status, margin, "exact certificate")
+                    )
                     timings["total"] = time.perf_counter() - t_start
-                    return Decomposition(True, basis_syms, gmat, None, attempts, timings, verdict.ldl)
+                    return Decomposition(
+                        True, basis_syms, gmat, None, attempts, timings, verdict.ldl
+                    )
                 reasons.append(f"{name}: final check refused: {verdict.reason}")
                 attempts.append(Attempt(name, b.shape[0], sol.status, margin, verdict.reason or ""))
                 continue

@@ -48,7 +48,7 @@ def encode_exponents(exps: np.ndarray, radix: int) -> np.ndarray:
     if exps.ndim != 2:
         raise ValueError("exponent array must be two-dimensional")
     nvars = exps.shape[1]
-    if nvars and radix ** nvars >= 2**62:
+    if nvars and radix**nvars >= 2**62:
         raise ModelError("too many variables or too high a degree for exponent encoding")
     weights = radix ** np.arange(nvars - 1, -1, -1, dtype=np.int64)
     return exps @ weights
@@ -87,7 +87,9 @@ class PolySpace:
     def from_arrays(self, exps: np.ndarray, coeffs: Sequence[object]) -> flint.fmpq_mpoly:
         """Build from an exponent array and exact coefficients (duplicate rows summed)."""
         acc: dict[tuple[int, ...], flint.fmpq] = {}
-        for row, c in zip(map(tuple, np.asarray(exps, dtype=np.int64).tolist()), coeffs, strict=True):
+        for row, c in zip(
+            map(tuple, np.asarray(exps, dtype=np.int64).tolist()), coeffs, strict=True
+        ):
             acc[row] = acc.get(row, flint.fmpq(0)) + to_fmpq(c)
         return self.ctx.from_dict({k: v for k, v in acc.items() if v != 0})
 

@@ -307,7 +307,8 @@ class SearchProgram:
         if isinstance(monomials, np.ndarray):
             return np.asarray(monomials, np.int64).reshape(-1, self.space.nvars)
         rows = [
-            m if isinstance(m, tuple) else self.space.exponents_of(m) for m in monomials  # type: ignore[union-attr]
+            m if isinstance(m, tuple) else self.space.exponents_of(m)
+            for m in monomials  # type: ignore[union-attr]
         ]
         return np.array(rows, np.int64).reshape(len(rows), self.space.nvars)
 

@@ -66,7 +66,9 @@ class NumericSolution:
         return bool(self.values) and all(np.all(np.isfinite(v)) for v in self.values.values())
 
 
-def _identity_constraint(ident: Identity, var: dict[int, cp.Expression], par: dict[int, cp.Parameter]):
+def _identity_constraint(
+    ident: Identity, var: dict[int, cp.Expression], par: dict[int, cp.Parameter]
+):
     lhs = 0
     rhs = 0
     for blk in ident.blocks:
