@@ -1,10 +1,11 @@
-"""``decompose(p, variables)``: an exact sum-of-squares certificate for one polynomial, or why not.
+"""Exact answers from search programs: ``solve_exactly`` (any program) and ``decompose`` (one p).
 
-Ladder: cheap necessary conditions (odd degree, a negative value at a
-rational sample point), the Newton-polytope basis, a margin-maximising Gram
-program (default solver first, then the other), exact rounding with a
-denominator ladder and Peyrl–Parrilo projection, then facial reduction
-(drop basis monomials whose diagonal the solution forces to zero) and retry.
+``solve_exactly`` climbs a ladder: a margin-maximising solve (default solver),
+exact rounding with a denominator ladder (:func:`proofkit.exact.round_program`),
+then facial reduction (drop Gram basis monomials whose diagonal the solution
+shows forced to zero) and re-solve, then the other solver; when every rung
+fails it says why. ``decompose`` adds cheap necessary conditions (odd degree,
+a negative value at a rational sample point) and the Newton-polytope basis.
 
 ``found=True`` is returned only after :func:`proofkit.exact.check.check_gram`
 passed (identity expanded exactly, LDL' over QQ). This module never trusts a
@@ -24,13 +25,13 @@ import sympy as sp
 
 from proofkit.exact.check import check_gram, squares_from_ldl
 from proofkit.exact.ldl import LdlResult
-from proofkit.exact.rounding import DENOMINATOR_LADDER, round_program
+from proofkit.exact.rounding import DENOMINATOR_LADDER, ExactSolution, round_program
 from proofkit.sos.basis import newton_basis
 from proofkit.sos.poly import PolySpace
-from proofkit.sos.program import SearchProgram
+from proofkit.sos.program import SearchProgram, SosPoly
 from proofkit.sos.solve import DEFAULT_SOLVER, SOLVER_SETTINGS, solve_program
 
-__all__ = ["Attempt", "Decomposition", "decompose"]
+__all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
 
 _MARGIN_NEGATIVE = -1e-7
 _DIAG_ZERO = 1e-7
@@ -82,6 +83,98 @@ def _sample_negative(p: flint.fmpq_mpoly, nvars: int) -> tuple[flint.fmpq, ...] 
     return None
 
 
+@dataclass
+class ProgramOutcome:
+    """Result of :func:`solve_exactly`: ``exact`` is set only when the exact checks passed."""
+
+    exact: ExactSolution | None
+    reason: str | None
+    attempts: list[Attempt] = field(default_factory=list)
+    timings: dict[str, float] = field(default_factory=dict)
+
+    @property
+    def found(self) -> bool:
+        return self.exact is not None and self.exact.ok
+
+
+def _forced_zero(program: SearchProgram, values: dict[str, np.ndarray]) -> dict[int, np.ndarray]:
+    """Per Gram unknown, the mask of basis monomials to keep (those with a visible diagonal)."""
+    out: dict[int, np.ndarray] = {}
+    for u in program.unknowns:
+        if isinstance(u, SosPoly) and u.size:
+            diag = np.diag(values[u.name])
+            scale = max(1.0, float(np.abs(diag).max(initial=0.0)))
+            keep = diag > _DIAG_ZERO * scale
+            if not keep.all():
+                out[u.uid] = keep
+    return out
+
+
+def solve_exactly(
+    program: SearchProgram,
+    *,
+    solver: str | None = None,
+    ladder: Sequence[int] = DENOMINATOR_LADDER,
+    facial_rounds: int = 2,
+) -> ProgramOutcome:
+    """Solve numerically, round exactly, reduce faces and retry; never trusts a float.
+
+    Facial reduction changes the bases of the program's Gram unknowns in place.
+    """
+    order = [(solver or DEFAULT_SOLVER).lower()]
+    order += [s for s in SOLVER_SETTINGS if s not in order]
+    out = ProgramOutcome(None, None)
+    out.timings = {"assembly": 0.0, "compile": 0.0, "solve": 0.0, "exact": 0.0}
+    reasons: list[str] = []
+    size = lambda: sum(u.size for u in program.unknowns if isinstance(u, SosPoly))  # noqa: E731
+    rounds = 0
+    k = 0
+    while k < len(order):
+        name = order[k]
+        sol = solve_program(program, name, margin=True)
+        out.timings["assembly"] += sol.assembly_time
+        out.timings["compile"] += sol.compile_time
+        out.timings["solve"] += sol.solve_time
+        if sol.status in ("infeasible", "unbounded") or not sol.usable:
+            out.attempts.append(Attempt(name, size(), sol.status, None, sol.message))
+            reasons.append(f"{name}: {sol.status} ({sol.message})")
+            if sol.status == "infeasible":
+                break
+            k += 1
+            continue
+        margin = sol.margin if sol.margin is not None else 0.0
+        if margin < _MARGIN_NEGATIVE and sol.status == "solved":
+            msg = (
+                f"best margin {margin:.3g} < 0: no PSD Gram matrices with these bases (numerically)"
+            )
+            out.attempts.append(Attempt(name, size(), sol.status, margin, msg))
+            reasons.append(f"{name}: {msg}")
+            break
+        t0 = time.perf_counter()
+        exact = round_program(program, sol, ladder)
+        out.timings["exact"] += time.perf_counter() - t0
+        if exact.ok:
+            out.attempts.append(Attempt(name, size(), sol.status, margin, "exact solution"))
+            out.exact = exact
+            return out
+        msg = f"rounding failed ({exact.reason})"
+        if sol.status == "inaccurate":
+            msg = f"solver inaccurate; {msg}"
+        out.attempts.append(Attempt(name, size(), sol.status, margin, msg))
+        reasons.append(f"{name}: {msg}")
+        masks = _forced_zero(program, sol.values)
+        if masks and rounds < facial_rounds:
+            rounds += 1
+            for u in program.unknowns:
+                if u.uid in masks:
+                    program.restrict(u, masks[u.uid])  # type: ignore[arg-type]
+            reasons.append(f"facial reduction {rounds}: Gram bases now {size()} monomials in all")
+            continue
+        k += 1
+    out.reason = "; ".join(reasons) or "no solution found"
+    return out
+
+
 def _not_found(reason: str, attempts: list[Attempt], timings: dict[str, float]) -> Decomposition:
     return Decomposition(False, reason=reason, attempts=attempts, timings=timings)
 
@@ -100,81 +193,37 @@ def decompose(
     space = PolySpace(variables)
     poly = space.coerce(p)
     nv = space.nvars
-    attempts: list[Attempt] = []
-    timings: dict[str, float] = {"assembly": 0.0, "compile": 0.0, "solve": 0.0, "exact": 0.0}
+    timings: dict[str, float] = {}
     if poly.is_zero():
         return Decomposition(True, [], sp.zeros(0, 0), _ldl=LdlResult(True, L=[], D=[]))
     if poly.total_degree() % 2:
-        return _not_found(f"odd total degree {poly.total_degree()}", attempts, timings)
+        return _not_found(f"odd total degree {poly.total_degree()}", [], timings)
     neg = _sample_negative(poly, nv)
     if neg is not None:
         pt = ", ".join(f"{v}={c}" for v, c in zip(variables, neg, strict=True))
-        return _not_found(f"negative at the point ({pt}): {poly(*neg)}", attempts, timings)
+        return _not_found(f"negative at the point ({pt}): {poly(*neg)}", [], timings)
     exps, _coef = PolySpace.arrays(poly, nv)
     if basis is None:
         b = newton_basis(exps)
     else:
         b = np.array([space.exponents_of(m) for m in basis], np.int64).reshape(-1, nv)
     timings["basis"] = time.perf_counter() - t_start
-    order = [(solver or DEFAULT_SOLVER).lower()]
-    order += [s for s in SOLVER_SETTINGS if s not in order]
-    reasons: list[str] = []
-    for rnd in range(facial_rounds + 1):
-        if b.shape[0] == 0:
-            reasons.append("empty monomial basis after pruning")
-            break
-        prog = SearchProgram(variables)
-        gram = prog.sos("gram", b)
-        prog.equate(gram, poly, name="target")
-        shrink = None
-        for name in order:
-            sol = solve_program(prog, name, margin=True)
-            timings["assembly"] += sol.assembly_time
-            timings["compile"] += sol.compile_time
-            timings["solve"] += sol.solve_time
-            if sol.status in ("infeasible", "failed", "unbounded") or not sol.usable:
-                attempts.append(Attempt(name, b.shape[0], sol.status, None, sol.message))
-                reasons.append(f"{name}: {sol.status} ({sol.message})")
-                continue
-            margin = sol.margin if sol.margin is not None else 0.0
-            if margin < _MARGIN_NEGATIVE and sol.status == "solved":
-                msg = (
-                    f"best margin {margin:.3g} < 0: no PSD Gram matrix in this basis (numerically)"
-                )
-                attempts.append(Attempt(name, b.shape[0], sol.status, margin, msg))
-                reasons.append(f"{name}: {msg}")
-                break
-            t0 = time.perf_counter()
-            exact = round_program(prog, sol, ladder)
-            if exact.ok:
-                basis_syms = [space.monomial(e) for e in b]
-                gmat = exact.gram(gram)
-                verdict = check_gram(poly, variables, basis_syms, gmat)
-                timings["exact"] += time.perf_counter() - t0
-                if verdict.ok:
-                    attempts.append(
-                        Attempt(name, b.shape[0], sol.status, margin, "exact certificate")
-                    )
-                    timings["total"] = time.perf_counter() - t_start
-                    return Decomposition(
-                        True, basis_syms, gmat, None, attempts, timings, verdict.ldl
-                    )
-                reasons.append(f"{name}: final check refused: {verdict.reason}")
-                attempts.append(Attempt(name, b.shape[0], sol.status, margin, verdict.reason or ""))
-                continue
-            timings["exact"] += time.perf_counter() - t0
-            msg = f"rounding failed ({exact.reason})"
-            if sol.status == "inaccurate":
-                msg = f"solver inaccurate; {msg}"
-            attempts.append(Attempt(name, b.shape[0], sol.status, margin, msg))
-            reasons.append(f"{name}: {msg}")
-            diag = np.diag(sol.values["gram"])
-            small = diag < _DIAG_ZERO * max(1.0, float(np.abs(diag).max(initial=0.0)))
-            if shrink is None and small.any() and not small.all():
-                shrink = ~small
-        if shrink is None:
-            break
-        b = b[shrink]
-        reasons.append(f"facial reduction round {rnd + 1}: basis reduced to {b.shape[0]} monomials")
+    if b.shape[0] == 0:
+        return _not_found("empty monomial basis after Newton-polytope pruning", [], timings)
+    prog = SearchProgram(variables)
+    gram = prog.sos("gram", b)
+    prog.equate(gram, poly, name="target")
+    res = solve_exactly(prog, solver=solver, ladder=ladder, facial_rounds=facial_rounds)
+    timings.update(res.timings)
+    if res.exact is None:
+        timings["total"] = time.perf_counter() - t_start
+        return _not_found(res.reason or "no certificate", res.attempts, timings)
+    t0 = time.perf_counter()
+    basis_syms = [space.monomial(e) for e in gram.basis]
+    gmat = res.exact.gram(gram)
+    verdict = check_gram(poly, variables, basis_syms, gmat)
+    timings["check"] = time.perf_counter() - t0
     timings["total"] = time.perf_counter() - t_start
-    return _not_found("; ".join(reasons) or "no certificate found", attempts, timings)
+    if not verdict.ok:  # cannot happen unless the two exact checks disagree
+        return _not_found(f"final exact check refused: {verdict.reason}", res.attempts, timings)
+    return Decomposition(True, basis_syms, gmat, None, res.attempts, timings, verdict.ldl)

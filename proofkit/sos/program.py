@@ -79,6 +79,9 @@ class Unknown:
     def diff(self, i: int | sp.Symbol) -> PolyExpr:
         return self.expr.diff(i)
 
+    def lie(self, field: Sequence[object]) -> PolyExpr:
+        return self.expr.lie(field)
+
     def __repr__(self) -> str:
         return f"{type(self).__name__}({self.name!r})"
 
@@ -389,6 +392,19 @@ class SearchProgram:
 
     def maximize(self, weights: dict[Scalar, object]) -> None:
         self.objective = ("max", {u.uid: Fraction(str(to_fmpq(w))) for u, w in weights.items()})
+
+    def restrict(self, u: SosPoly, keep: np.ndarray) -> None:
+        """Facial reduction: keep only the basis monomials ``keep`` (mask) of ``u``.
+
+        Used when a solution shows those diagonal entries are forced to zero;
+        the identities are re-assembled on the next solve.
+        """
+        keep = np.asarray(keep, dtype=bool)
+        u.basis = u.basis[keep]
+        u.size = int(u.basis.shape[0])
+        u.ncols = u.size * u.size
+        for ident in self.identities:
+            ident.blocks = []
 
     # -- assembly -------------------------------------------------------
     def assemble(self) -> float:

@@ -76,10 +76,14 @@ def _identity_constraint(
             col = -np.asarray(blk.matrix.todense()).ravel()
             rhs = rhs + (col if blk.level is None else par[blk.level.lid] * col)
             continue
+        if blk.unknown.ncols == 0:
+            continue
         term = blk.matrix @ var[blk.unknown.uid]
         lhs = lhs + (term if blk.level is None else par[blk.level.lid] * term)
     if isinstance(lhs, int):
-        return None
+        if isinstance(rhs, int) or not np.any(rhs if isinstance(rhs, np.ndarray) else 1):
+            return None
+        lhs = cp.Constant(np.zeros(ident.monomials.shape[0]))
     if isinstance(rhs, int):
         rhs = np.zeros(ident.monomials.shape[0])
     return lhs == rhs
@@ -104,6 +108,8 @@ def solve_program(
     cons: list = []
     t = cp.Variable() if margin else None
     for u in program.unknowns:
+        if isinstance(u, SosPoly) and u.size == 0:
+            continue
         if isinstance(u, SosPoly):
             q = cp.Variable((u.size, u.size), symmetric=True, name=u.name)
             mats[u.uid] = q
@@ -156,6 +162,9 @@ def solve_program(
     out.message = f"cvxpy status {prob.status}"
     if out.status in ("solved", "inaccurate"):
         for u in program.unknowns:
+            if u.uid not in mats:
+                out.values[u.name] = np.zeros((0, 0))
+                continue
             val = mats[u.uid].value
             if val is None:
                 out.status = "failed"
