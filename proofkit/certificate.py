@@ -115,6 +115,8 @@ def poly_json(expr: sp.Expr, variables: Sequence[sp.Symbol]) -> list[Any]:
     poly = sp.Poly(sp.expand(expr), *variables)
     out = []
     for monom, coeff in sorted(poly.terms(), reverse=True):
+        if coeff == 0:  # the zero polynomial is the empty list
+            continue
         if not coeff.is_Rational:
             raise NotRepresentable(f"coefficient {coeff} is not rational")
         out.append([list(monom), str(sp.Rational(coeff))])

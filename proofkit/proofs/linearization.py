@@ -188,6 +188,8 @@ def field_polys(model: Model) -> list[Poly]:
         poly = sp.Poly(sp.expand(rhs), *xs)
         terms: Poly = {}
         for monom, c in poly.terms():
+            if c == 0:
+                continue
             if not c.is_Rational:
                 raise NotRepresentable(f"coefficient {c} is not rational")
             terms[tuple(monom)] = Num(Fraction(int(c.p), int(c.q)))

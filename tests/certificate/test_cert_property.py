@@ -1,0 +1,50 @@
+"""Property tests: every emitted certificate audits; verdicts agree with numpy.roots."""
+
+from __future__ import annotations
+
+import numpy as np
+from hypothesis import given
+from hypothesis import strategies as st
+
+from .conftest import companion_text, full_audit_ok, prove_text
+
+coefficients = st.lists(st.integers(min_value=-6, max_value=9), min_size=1, max_size=5)
+
+
+@given(coeffs=coefficients, claim=st.sampled_from(["stable", "unstable"]))
+def test_linear_verdicts_agree_with_numpy_and_always_audit(coeffs, claim) -> None:
+    run = prove_text(companion_text([str(c) for c in coeffs], claim))
+    assert full_audit_ok(run.text)
+    status = run.outcomes[0].status
+    # computed: numpy.roots of s^n + c1 s^(n-1) + ... + cn, as an outside reference
+    real = np.roots([1, *coeffs]).real
+    if real.max() < -1e-6:
+        assert status == ("proved" if claim == "stable" else "counterexample")
+    elif real.max() > 1e-6:
+        # an unstable system is never proven stable; instability is found exactly
+        assert status == ("proved" if claim == "unstable" else "counterexample")
+    elif coeffs[-1] == 0:
+        # an exact zero eigenvalue and nothing to the right: the linear test cannot decide
+        assert status == "not proved"
+
+
+@given(
+    a=st.fractions(min_value=-3, max_value=3, max_denominator=5),
+    b=st.fractions(min_value=-3, max_value=3, max_denominator=5),
+)
+def test_planar_nonlinear_models_audit(a, b) -> None:
+    # x' = y, y' = a x + b y - x^3: at the origin the verdict follows trace b and det -a
+    # (computed by hand: J = [[0, 1], [a, b]]).
+    text = (
+        f"state x, y\nx' = y\ny' = ({a})*x + ({b})*y - x^3\n"
+        "equilibrium o at x = 0, y = 0\nclaim o stable\n"
+    )
+    run = prove_text(text)
+    assert full_audit_ok(run.text)
+    status = run.outcomes[0].status
+    if b < 0 and a < 0:
+        assert status == "proved"
+    elif b > 0 or a > 0:
+        assert status == "counterexample"
+    else:
+        assert status == "not proved"
