@@ -40,6 +40,7 @@ class DocumentMeta:
     certificate_sha256: str
     version: str
     figure: str | None = None  # file name of the phase portrait, if drawn
+    certificate_name: str = "certificate.json"
 
 
 THEOREM_NAMES = {
@@ -345,8 +346,8 @@ def build_document(cert: dict[str, Any], audit: AuditReport, meta: DocumentMeta)
     repro = [(t(f"proofkit version {meta.version}"),), (t("command: "), t(meta.command))]
     if model is not None:
         repro.append((t("SHA-256 of the model source: " + model["source_sha256"]),))
-    repro.append((t("SHA-256 of certificate.json: " + meta.certificate_sha256),))
-    repro.append((t("re-check with: proofkit audit certificate.json"),))
+    repro.append((t(f"SHA-256 of {meta.certificate_name}: " + meta.certificate_sha256),))
+    repro.append((t(f"re-check with: proofkit audit {meta.certificate_name}"),))
     blocks.append(Block("items", items=tuple(repro)))
     if appendix:
         blocks.append(Block("heading", "Appendix: large Gram matrices", 2))
