@@ -48,3 +48,27 @@ def test_planar_nonlinear_models_audit(a, b) -> None:
         assert status == "counterexample"
     else:
         assert status == "not proved"
+
+
+@given(
+    entries=st.lists(st.integers(min_value=-4, max_value=4), min_size=9, max_size=9),
+)
+def test_lyapunov_matrix_matches_scipy_on_random_hurwitz_matrices(entries) -> None:
+    from fractions import Fraction
+
+    import scipy.linalg
+
+    a = np.array(entries, dtype=float).reshape(3, 3) - 5 * np.eye(3)  # usually Hurwitz
+    if np.linalg.eigvals(a).real.max() > -1e-3:
+        return
+    rows = [" + ".join(f"({int(a[i, j])})*x{j + 1}" for j in range(3)) for i in range(3)]
+    text = "state x1, x2, x3\n" + "".join(f"x{i + 1}' = {rows[i]}\n" for i in range(3))
+    text += "equilibrium o at x1 = 0, x2 = 0, x3 = 0\nclaim o stable\n"
+    run = prove_text(text)
+    assert run.outcomes[0].status == "proved"
+    assert full_audit_ok(run.text)
+    p = run.certificate["claims"][0]["evidence"]["lyapunov"]["P"]
+    p_exact = np.array([[float(Fraction(x)) for x in r] for r in p])
+    # computed: scipy.linalg.solve_continuous_lyapunov solves A'P + PA = -I
+    p_ref = scipy.linalg.solve_continuous_lyapunov(a.T, -np.eye(3))
+    assert np.allclose(p_exact, p_ref, rtol=1e-9, atol=1e-12)

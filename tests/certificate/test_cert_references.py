@@ -129,3 +129,14 @@ def test_centre_type_linearization_is_not_proved() -> None:
     assert [o.status for o in run.outcomes] == ["not proved", "not proved"]
     assert all("does not decide" in o.detail for o in run.outcomes)
     assert json.loads(run.text)["claims"][0]["status"] == "not proved"
+
+
+def test_non_polynomial_model_claims_are_not_proved() -> None:
+    # certificates cover polynomial vector fields only (documented limitation)
+    run = prove_text(
+        "state x, y\nx' = y\ny' = -sin(x) - y\nequilibrium o at x = 0, y = 0\nclaim o stable\n"
+    )
+    assert run.outcomes[0].status == "not proved"
+    assert "polynomial" in run.outcomes[0].detail
+    assert run.certificate["model"]["vector_field"] is None
+    assert full_audit_ok(run.text)
