@@ -24,12 +24,13 @@ import numpy as np
 import sympy as sp
 
 from proofkit.exact.check import check_gram, squares_from_ldl
+from proofkit.exact.facial import face_candidates
 from proofkit.exact.ldl import LdlResult
 from proofkit.exact.rounding import DENOMINATOR_LADDER, ExactSolution, round_program
 from proofkit.sos.basis import newton_basis
 from proofkit.sos.poly import PolySpace
 from proofkit.sos.program import SearchProgram, SosPoly
-from proofkit.sos.solve import DEFAULT_SOLVER, SOLVER_SETTINGS, solve_program
+from proofkit.sos.solve import DEFAULT_SOLVER, SOLVER_SETTINGS, NumericSolution, solve_program
 
 __all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
 
@@ -91,6 +92,8 @@ class ProgramOutcome:
     reason: str | None
     attempts: list[Attempt] = field(default_factory=list)
     timings: dict[str, float] = field(default_factory=dict)
+    last_numeric: NumericSolution | None = None
+    last_bases: dict[str, np.ndarray] = field(default_factory=dict)
 
     @property
     def found(self) -> bool:
@@ -143,6 +146,10 @@ def solve_exactly(
             k += 1
             continue
         margin = sol.margin if sol.margin is not None else 0.0
+        out.last_numeric = sol
+        out.last_bases = {
+            u.name: u.basis.copy() for u in program.unknowns if isinstance(u, SosPoly)
+        }
         if margin < _MARGIN_NEGATIVE and sol.status == "solved":
             msg = (
                 f"best margin {margin:.3g} < 0: no PSD Gram matrices with these bases (numerically)"
@@ -173,6 +180,40 @@ def solve_exactly(
         k += 1
     out.reason = "; ".join(reasons) or "no solution found"
     return out
+
+
+def _try_face(
+    space: PolySpace,
+    poly: flint.fmpq_mpoly,
+    variables: Sequence[sp.Symbol],
+    res: ProgramOutcome,
+    ladder: Sequence[int],
+) -> Decomposition | None:
+    """Facial reduction by the numerical kernel (see :mod:`proofkit.exact.facial`)."""
+    sol = res.last_numeric
+    if sol is None or not sol.usable or (sol.margin or 0.0) < _MARGIN_NEGATIVE:
+        return None
+    b = res.last_bases["gram"]
+    t0 = time.perf_counter()
+    basis_syms = [space.monomial(e) for e in b]
+    notes = []
+    for cand, note in face_candidates(space, b, poly, sol.values["gram"], ladder):
+        if cand is None:
+            notes.append(note)
+            continue
+        gmat = sp.Matrix([[sp.Rational(int(x.p), int(x.q)) for x in row] for row in cand])
+        verdict = check_gram(poly, variables, basis_syms, gmat)
+        if verdict.ok:
+            res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
+            att = Attempt(sol.solver, len(b), sol.status, sol.margin, f"exact certificate ({note})")
+            return Decomposition(
+                True, basis_syms, gmat, None, [*res.attempts, att], {}, verdict.ldl
+            )
+        notes.append(f"{note}: {verdict.reason}")
+    res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
+    if notes:
+        res.reason = f"{res.reason}; kernel facial reduction: {notes[-1]}"
+    return None
 
 
 def _not_found(reason: str, attempts: list[Attempt], timings: dict[str, float]) -> Decomposition:
@@ -216,7 +257,11 @@ def decompose(
     res = solve_exactly(prog, solver=solver, ladder=ladder, facial_rounds=facial_rounds)
     timings.update(res.timings)
     if res.exact is None:
+        found = _try_face(space, poly, variables, res, ladder)
         timings["total"] = time.perf_counter() - t_start
+        if found is not None:
+            found.timings = timings
+            return found
         return _not_found(res.reason or "no certificate", res.attempts, timings)
     t0 = time.perf_counter()
     basis_syms = [space.monomial(e) for e in gram.basis]

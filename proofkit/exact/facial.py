@@ -1,0 +1,158 @@
+"""Facial reduction from a numerical kernel: exact Gram matrices that must be singular.
+
+When every Gram matrix of ``p`` is singular (e.g. ``p`` is a single square),
+no interior point exists and rounding plus projection almost never lands on
+a PSD matrix. Here the numerical range of the solver's ``Q`` is turned into
+an exact rational basis ``W`` (reduced row echelon form, entries recovered
+with bounded denominators), the problem is restated as ``p = c' G c`` with
+``c = W' b``, ``G`` is rounded and moved by the exact least-norm correction
+onto ``{G : c' G c = p}`` (``fmpq_mat``), and ``Q = W G W'`` is returned.
+
+Everything returned is only a proposal: the caller must run the exact check
+(:func:`proofkit.exact.check.check_gram`). This module never declares success.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator, Sequence
+from fractions import Fraction
+
+import flint
+import numpy as np
+import scipy.linalg as sla
+
+from proofkit.exact.rounding import round_to
+from proofkit.sos.poly import PolySpace, encode_exponents
+
+__all__ = ["exact_least_norm", "face_candidates", "rational_range"]
+
+
+def rational_range(
+    q: np.ndarray, max_den: int, rel_tol: float = 1e-6
+) -> list[list[Fraction]] | None:
+    """Rows of an exact RREF basis ``W'`` of the numerical range of symmetric ``q``."""
+    q = (q + q.T) / 2
+    w, v = np.linalg.eigh(q)
+    top = float(max(w.max(initial=0.0), 0.0))
+    if top <= 0:
+        return None
+    rng = v[:, w > rel_tol * top]
+    r = rng.shape[1]
+    if r == 0 or r == q.shape[0]:
+        return None
+    _, _, piv = sla.qr(rng.T, pivoting=True)
+    piv = np.sort(piv[:r])
+    coef = np.linalg.solve(rng.T[:, piv], rng.T)  # r x n, identity on pivot columns
+    pivset = {int(j): i for i, j in enumerate(piv)}
+    rows: list[list[Fraction]] = []
+    for i in range(r):
+        row = []
+        for j in range(q.shape[0]):
+            if j in pivset:
+                row.append(Fraction(int(pivset[j] == i)))
+            else:
+                row.append(Fraction(float(coef[i, j])).limit_denominator(max_den))
+        rows.append(row)
+    return rows
+
+
+def exact_least_norm(
+    a_rows: list[list[flint.fmpq]], rhs: list[flint.fmpq]
+) -> list[flint.fmpq] | None:
+    """The least-norm exact ``d`` with ``A d = rhs`` (``None`` when inconsistent)."""
+    ncols = len(a_rows[0]) if a_rows else 0
+    if all(x == 0 for x in rhs):
+        return [flint.fmpq(0)] * ncols
+    if ncols == 0:
+        return None
+    a = flint.fmpq_mat(a_rows)
+    red, rank = a.transpose().rref()
+    piv: list[int] = []
+    for i in range(rank):
+        for j in range(red.ncols()):
+            if red[i, j] != 0:
+                piv.append(j)
+                break
+    ai = flint.fmpq_mat([a_rows[j] for j in piv])
+    y = (ai * ai.transpose()).solve(flint.fmpq_mat([[rhs[j]] for j in piv]))
+    d = ai.transpose() * y
+    check = a * d
+    if any(check[i, 0] != rhs[i] for i in range(len(rhs))):
+        return None
+    return [d[k, 0] for k in range(ncols)]
+
+
+def _scatter(keys: np.ndarray, radix: int, p: flint.fmpq_mpoly, nv: int) -> list:
+    """(row, coefficient) pairs of ``p`` in the sorted monomial key list ``keys``."""
+    e, c = PolySpace.arrays(p, nv)
+    rows = np.searchsorted(keys, encode_exponents(e, radix)).tolist()
+    return list(zip(rows, c, strict=True))
+
+
+def face_candidates(
+    space: PolySpace,
+    basis: np.ndarray,
+    target: flint.fmpq_mpoly,
+    q: np.ndarray,
+    ladder: Sequence[int],
+    range_dens: Sequence[int] = (64, 10**3, 10**5),
+) -> Iterator[tuple[list[list[flint.fmpq]] | None, str]]:
+    """Candidates ``(Q, note)``: exact ``Q = W G W'`` with ``b'Qb == target``, from numerical ``q``.
+
+    ``(None, why)`` is yielded when a range guess cannot work.
+    """
+    nv = space.nvars
+    n = basis.shape[0]
+    mono = [space.from_arrays(e.reshape(1, nv), [1]) for e in basis]
+    for max_den in range_dens:
+        rows = rational_range(q, max_den)
+        if rows is None:
+            yield None, "numerical solution has full rank or no range"
+            return
+        r = len(rows)
+        wt = [[flint.fmpq(x.numerator, x.denominator) for x in row] for row in rows]
+        cpoly = []
+        for row in wt:
+            acc = space.zero()
+            for m, c in zip(mono, row, strict=True):
+                if c != 0:
+                    acc += m * c
+            cpoly.append(acc)
+        pairs = [(k, m) for k in range(r) for m in range(k, r)]
+        prods = [cpoly[k] * cpoly[m] * (1 if k == m else 2) for k, m in pairs]
+        allexp = [PolySpace.arrays(pp, nv)[0] for pp in [*prods, target]]
+        exps = np.unique(np.vstack(allexp), axis=0)
+        radix = int(exps.max(initial=0)) + 1
+        keys = encode_exponents(exps, radix)
+        a_rows = [[flint.fmpq(0)] * len(pairs) for _ in range(len(keys))]
+        for col, pp in enumerate(prods):
+            for row, val in _scatter(keys, radix, pp, nv):
+                a_rows[row][col] = val
+        tvec = [flint.fmpq(0)] * len(keys)
+        for row, val in _scatter(keys, radix, target, nv):
+            tvec[row] = val
+        wmat = np.array([[float(x) for x in row] for row in rows])
+        pinv = np.linalg.pinv(wmat.T)
+        g0 = pinv @ q @ pinv.T
+        wq = flint.fmpq_mat(wt)
+        for den in ladder:
+            g = round_to((g0 + g0.T) / 2, den)
+            x0 = [g[k][m] for k, m in pairs]
+            resid = []
+            for i in range(len(keys)):
+                acc = tvec[i]
+                for j, a in enumerate(a_rows[i]):
+                    if a != 0:
+                        acc -= a * x0[j]
+                resid.append(acc)
+            d = exact_least_norm(a_rows, resid)
+            if d is None:
+                yield None, f"range basis (denominators <= {max_den}) cannot match p"
+                break
+            gm = [[flint.fmpq(0)] * r for _ in range(r)]
+            for (k, m), val, dv in zip(pairs, x0, d, strict=True):
+                gm[k][m] = val + dv
+                gm[m][k] = val + dv
+            qx = wq.transpose() * flint.fmpq_mat(gm) * wq
+            note = f"face of rank {r}, reduced Gram on 1/{den}"
+            yield [[qx[i, j] for j in range(n)] for i in range(n)], note
