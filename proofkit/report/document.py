@@ -13,7 +13,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from proofkit.audit import AuditReport
+from proofkit.audit import AuditReport, audit_certificate
 from proofkit.audit.algebra import ldl_pivots
 from proofkit.audit.numbers import Num, parse_number
 from proofkit.report._math import latex_matrix, latex_name, latex_number, latex_poly
@@ -265,7 +265,8 @@ def _sos_blocks(claim: dict[str, Any], appendix: list[Block]) -> list[Block]:
                     if not low[i][k].is_zero()
                 ]
                 comb = _merge(comb)
-                squares.append(f"{latex_number(_w(dk))}\\left({latex_poly(comb, names)}\\right)^2")
+                weight = "" if _w(dk) == "1" else latex_number(_w(dk))
+                squares.append(f"{weight}\\left({latex_poly(comb, names)}\\right)^2")
             target.append(para(t("Its exact LDL' factorisation gives the squares:")))
             target.append(Block("math", "z^T " + gname + " z = " + " + ".join(squares)))
     return out
@@ -286,6 +287,9 @@ def _merge(terms: list[Any]) -> list[Any]:
 
 def build_document(cert: dict[str, Any], audit: AuditReport, meta: DocumentMeta) -> list[Block]:
     """The proof document; raises ValueError if ``audit`` is not this certificate's report."""
+    fresh = audit_certificate(cert)  # never trust a report handed in: audit again
+    if fresh != audit:
+        raise ValueError("the audit report given does not belong to this certificate")
     _check_consistent(cert, audit)
     model = cert.get("model")
     title = (model or {}).get("name") or "polynomial certificate"
@@ -335,7 +339,8 @@ def build_document(cert: dict[str, Any], audit: AuditReport, meta: DocumentMeta)
                 )
             )
         else:
-            blocks.append(para(t("Conclusion: the claim holds for the model as written.")))
+            scope = "for the model as written" if model is not None else "for every real point"
+            blocks.append(para(t(f"Conclusion: the claim holds {scope}.")))
     if meta.figure:
         blocks.append(Block("heading", "Phase portrait", 2))
         blocks.append(para(t("Illustration only (floating-point streamlines); not evidence.")))
