@@ -25,6 +25,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import flint
 import numpy as np
@@ -33,7 +34,9 @@ import sympy as sp
 from proofkit.exact.ldl import LdlResult, ldl_psd
 from proofkit.sos.poly import PolySpace, encode_exponents
 from proofkit.sos.program import FreePoly, Identity, Scalar, SearchProgram, SosPoly, Unknown
-from proofkit.sos.solve import NumericSolution
+
+if TYPE_CHECKING:
+    from proofkit.sos.solve import NumericSolution
 
 __all__ = [
     "DENOMINATOR_LADDER",

@@ -16,6 +16,10 @@ Public names
 ``solve_program(program, solver)``
     cvxpy with ``"clarabel"`` or ``"scs"``; returns ``NumericSolution`` with an
     honest ``status``: solved, inaccurate, infeasible, unbounded or failed.
+``solve_exactly(program)``
+    the rounding/facial-reduction ladder for any program; ``ProgramOutcome``
+    with ``found``, ``exact`` (an :class:`proofkit.exact.ExactSolution`),
+    ``reason``, ``attempts``, ``timings``.
 ``full_basis``, ``newton_basis``, ``prune_diagonal``
     monomial bases as exponent arrays.
 ``PolySpace``
@@ -28,23 +32,53 @@ The exact side (rounding, projection, LDL', checks) lives in
 
 from __future__ import annotations
 
+import importlib
 from typing import TYPE_CHECKING
 
-from proofkit.sos.basis import full_basis, newton_basis, prune_diagonal
-from proofkit.sos.poly import PolySpace
-from proofkit.sos.program import (
-    FreePoly,
-    Level,
-    PolyExpr,
-    Scalar,
-    SearchProgram,
-    SosPoly,
-    Unknown,
-)
-from proofkit.sos.solve import DEFAULT_SOLVER, NumericSolution, solve_program
+if TYPE_CHECKING:
+    from proofkit.sos.basis import full_basis, newton_basis, prune_diagonal
+    from proofkit.sos.certify import (
+        Attempt,
+        Decomposition,
+        ProgramOutcome,
+        decompose,
+        solve_exactly,
+    )
+    from proofkit.sos.poly import PolySpace
+    from proofkit.sos.program import (
+        FreePoly,
+        Level,
+        PolyExpr,
+        Scalar,
+        SearchProgram,
+        SosPoly,
+        Unknown,
+    )
+    from proofkit.sos.solve import DEFAULT_SOLVER, NumericSolution, solve_program
 
-if TYPE_CHECKING:  # imported lazily below: decompose depends on proofkit.exact
-    from proofkit.sos.certify import Attempt, Decomposition, decompose
+# Names are loaded on first use so that importing a light sub-module (e.g.
+# proofkit.sos.poly from proofkit.exact) does not pull in cvxpy.
+_WHERE = {
+    "full_basis": "basis",
+    "newton_basis": "basis",
+    "prune_diagonal": "basis",
+    "Attempt": "certify",
+    "Decomposition": "certify",
+    "ProgramOutcome": "certify",
+    "decompose": "certify",
+    "solve_exactly": "certify",
+    "PolySpace": "poly",
+    "FreePoly": "program",
+    "Level": "program",
+    "PolyExpr": "program",
+    "Scalar": "program",
+    "SearchProgram": "program",
+    "SosPoly": "program",
+    "Unknown": "program",
+    "DEFAULT_SOLVER": "solve",
+    "NumericSolution": "solve",
+    "solve_program": "solve",
+}
 
 __all__ = [
     "DEFAULT_SOLVER",
@@ -55,6 +89,7 @@ __all__ = [
     "NumericSolution",
     "PolyExpr",
     "PolySpace",
+    "ProgramOutcome",
     "Scalar",
     "SearchProgram",
     "SosPoly",
@@ -63,17 +98,16 @@ __all__ = [
     "full_basis",
     "newton_basis",
     "prune_diagonal",
+    "solve_exactly",
     "solve_program",
 ]
 
-_LAZY = {"Attempt", "Decomposition", "decompose"}
-
 
 def __getattr__(name: str) -> object:
-    if name in _LAZY:
-        import importlib
-
-        _mod = importlib.import_module("proofkit.sos.certify")
-
-        return getattr(_mod, name)
+    if name in _WHERE:
+        return getattr(importlib.import_module(f"proofkit.sos.{_WHERE[name]}"), name)
     raise AttributeError(f"module 'proofkit.sos' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_WHERE))
