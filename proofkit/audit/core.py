@@ -56,6 +56,27 @@ THEOREMS = {
     ("nonnegative", "sum-of-squares"): "sum-of-squares",
 }
 OPPOSITE = {"stable": "unstable", "unstable": "stable"}
+MODEL_KEYS = {
+    "name",
+    "file",
+    "source",
+    "source_sha256",
+    "states",
+    "parameters",
+    "vector_field",
+    "field_note",
+    "domain",
+    "domain_note",
+}
+CLAIM_KEYS = {"statement", "kind", "status", "method", "theorem", "number_field", "evidence"}
+LINEARIZATION_KEYS = {
+    "equilibrium",
+    "point",
+    "jacobian",
+    "characteristic_polynomial",
+    "routh",
+    "lyapunov",
+}
 KINDS = ("stable", "unstable", "globally stable", "attracts", "no cycle", "cycle", "nonnegative")
 
 
@@ -92,6 +113,13 @@ class AuditReport:
 
 
 # --- reading -------------------------------------------------------------------
+def _only_keys(obj: dict[str, Any], allowed: set[str], where: str) -> None:
+    """Reject keys the audit does not check: no unchecked field may carry a number."""
+    extra = sorted(set(obj) - allowed)
+    if extra:
+        raise FormatError(f"{where}: unknown key(s) {extra}; the audit checks no such field")
+
+
 def _get(obj: Any, key: str, kind: type | tuple[type, ...], where: str) -> Any:
     if not isinstance(obj, dict) or key not in obj:
         raise FormatError(f"{where}: missing key {key!r}")
@@ -140,7 +168,9 @@ def _field_of(claim: dict[str, Any], where: str) -> int:
     nf = claim.get("number_field")
     if nf is None:
         return 0
-    return parse_radicand(_get(nf, "sqrt", str, f"{where}.number_field"), where)
+    radicand = parse_radicand(_get(nf, "sqrt", str, f"{where}.number_field"), where)
+    _only_keys(nf, {"sqrt"}, f"{where}.number_field")
+    return radicand
 
 
 # --- the checkers, one per method --------------------------------------------------
@@ -167,6 +197,7 @@ def _check_linearization(claim: dict[str, Any], kind: str, ctx: _Context, where:
     d = _field_of(claim, where)
     ev = _get(claim, "evidence", dict, where)
     w = f"{where}.evidence"
+    _only_keys(ev, LINEARIZATION_KEYS, w)
     point = _vector(_get(ev, "point", list, w), d, f"{w}.point", n)
     for i, fi in enumerate(f):
         r = poly_eval({e: Num(c.a, c.b, d) for e, c in fi.items()}, point)
@@ -184,6 +215,7 @@ def _check_linearization(claim: dict[str, Any], kind: str, ctx: _Context, where:
     ctx.ok("the characteristic polynomial equals det(sI - J) (recomputed)")
 
     ro = _get(ev, "routh", dict, w)
+    _only_keys(ro, {"shift", "multiplier_power", "polynomial", "rows", "sign_changes"}, w)
     shift = parse_number(_get(ro, "shift", (str, list), f"{w}.routh"), d, f"{w}.routh.shift")
     power = _get(ro, "multiplier_power", int, f"{w}.routh")
     _require(0 <= power <= MAX_MULTIPLIER_POWER, "routh", f"multiplier power {power} not allowed")
@@ -231,6 +263,9 @@ def _check_lyapunov_matrices(
     data: Any, jac: Matrix, d: int, n: int, ctx: _Context, where: str
 ) -> None:
     """A'P + PA = -Q with P and Q symmetric positive definite (exact LDL')."""
+    if not isinstance(data, dict):
+        raise FormatError(f"{where}: expected an object with P and Q")
+    _only_keys(data, {"P", "Q"}, where)
     p = _matrix(_get(data, "P", list, where), d, f"{where}.P", n)
     q = _matrix(_get(data, "Q", list, where), d, f"{where}.Q", n)
     for name, m in (("P", p), ("Q", q)):
@@ -248,6 +283,7 @@ def _check_sos(claim: dict[str, Any], kind: str, ctx: _Context, where: str) -> N
     """The claimed polynomial ``p`` equals a Gram form with a PSD Gram matrix."""
     ev = _get(claim, "evidence", dict, where)
     w = f"{where}.evidence"
+    _only_keys(ev, {"variables", "polynomials", "gram_matrices", "identities"}, w)
     polys, identities = _read_identities(ev, ctx, w)
     _require("p" in polys, "evidence", "no polynomial named p")
     ok = any(
@@ -304,6 +340,7 @@ def _read_identities(
     for gname, g in _get(ev, "gram_matrices", dict, w).items():
         gw = f"{w}.gram_matrices.{gname}"
         basis = _get(g, "basis", list, gw)
+        _only_keys(g, {"basis", "matrix"}, gw)
         mons = [tuple(_monomial(b, nv, f"{gw}.basis[{i}]")) for i, b in enumerate(basis)]
         _require(len(set(mons)) == len(mons), "gram", f"{gname}: repeated basis monomial")
         m = _matrix(_get(g, "matrix", list, gw), 0, f"{gw}.matrix", len(mons))
@@ -321,10 +358,12 @@ def _read_identities(
     for k, ident in enumerate(_get(ev, "identities", list, w)):
         iw = f"{w}.identities[{k}]"
         target_terms, target = combination(_get(ident, "target", list, iw), f"{iw}.target")
+        _only_keys(ident, {"target", "sum"}, iw)
         rhs: Poly = {}
         sum_terms = []
         for j, term in enumerate(_get(ident, "sum", list, iw)):
             gname = _get(term, "gram", str, f"{iw}.sum[{j}]")
+            _only_keys(term, {"gram", "multiplier"}, f"{iw}.sum[{j}]")
             _require(gname in grams, "identity", f"unknown Gram matrix {gname!r}")
             mult = None
             part = grams[gname]
@@ -362,12 +401,14 @@ def audit_certificate(data: Any) -> AuditReport:
     if not isinstance(data, dict):
         raise FormatError("a certificate is a JSON object")
     version = _get(data, "proofkit_certificate", int, "certificate")
+    _only_keys(data, {"proofkit_certificate", "generator", "model", "claims"}, "certificate")
     if version != FORMAT_VERSION:
         raise FormatError(f"certificate format {version} is not supported (expected 1)")
     model = data.get("model")
     states: list[str] = []
     vf: list[Poly] | None = None
     if model is not None:
+        _only_keys(model, MODEL_KEYS, "model")
         states = _get(model, "states", list, "model")
         if not states or not all(isinstance(s, str) for s in states):
             raise FormatError("model.states: expected a list of names")
@@ -387,6 +428,7 @@ def audit_certificate(data: Any) -> AuditReport:
         status = _get(claim, "status", str, where)
         if status == "not proved":
             _get(claim, "reason", str, where)
+            _only_keys(claim, {"statement", "kind", "status", "reason"}, where)
             if "evidence" in claim:
                 raise FormatError(f"{where}: a claim not proved carries no evidence")
             verdicts.append(ClaimVerdict(statement, "not claimed", message=claim["reason"]))
@@ -394,6 +436,7 @@ def audit_certificate(data: Any) -> AuditReport:
         if status not in ("proved", "refuted"):
             raise FormatError(f"{where}.status: expected 'proved', 'refuted' or 'not proved'")
         method = _get(claim, "method", str, where)
+        _only_keys(claim, CLAIM_KEYS, where)
         ctx = _Context(states, vf, [])
         # A refuted claim carries evidence for the opposite statement.
         shown = kind if status == "proved" else OPPOSITE.get(kind, "")

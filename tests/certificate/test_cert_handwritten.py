@@ -161,3 +161,25 @@ def test_polynomial_certificate_without_model_has_no_system_claims() -> None:
     cert = parrilo_lecture_certificate()
     cert["claims"][0]["kind"] = "stable"
     assert not check_provenance(cert).ok
+
+
+@pytest.mark.parametrize(
+    "where",
+    [
+        (),
+        ("claims", 0),
+        ("claims", 0, "evidence"),
+        ("claims", 0, "evidence", "routh"),
+        ("claims", 0, "evidence", "lyapunov"),
+        ("model",),
+    ],
+)
+def test_unknown_fields_are_refused(bistable_run, where) -> None:
+    # a field the audit does not check must not carry a number a reader would rely on
+    cert = copy.deepcopy(bistable_run.certificate)
+    obj = cert
+    for k in where:
+        obj = obj[k]
+    obj["margin"] = "1/2"
+    with pytest.raises(FormatError):
+        audit_certificate(cert)
