@@ -48,7 +48,7 @@ def phase_portrait(cert: dict[str, Any], path: Path) -> bool:
             pt = [_to_float(v, c.get("number_field")) for v in ev["point"]]
             points.append((pt, ev.get("equilibrium"), c.get("status")))
     span = max([2.0] + [abs(v) + 1.5 for p, _, _ in points for v in p])
-    xs = np.linspace(-span, span, 60)
+    xs = np.linspace(-span, span, 40)
     gx, gy = np.meshgrid(xs, xs)
     u, v = _evaluate(field[0], gx, gy), _evaluate(field[1], gx, gy)
     fig, ax = plt.subplots(figsize=(5, 5), dpi=110)
@@ -58,7 +58,7 @@ def phase_portrait(cert: dict[str, Any], path: Path) -> bool:
         gy,
         u,
         v,
-        density=1.1,
+        density=0.9,
         color=np.log1p(speed),
         cmap="viridis",
         linewidth=0.7,
