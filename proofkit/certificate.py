@@ -21,6 +21,11 @@ declared variable order. Sum-of-squares evidence (``variables``,
 ``sum c_i P_i = sum M_j (z_j' G_j z_j)``; later proof kinds add claim methods,
 not new formats.
 
+Scope: certificates cover polynomial vector fields with rational coefficients
+at the nominal parameter values. The claims of a non-polynomial model (sin,
+exp, ...) are written "not proved" with that reason for now, and a claim over
+an uncertain parameter range is "not proved" unless it ends with ``at nominal``.
+
 This module builds and reads certificates; it never decides validity (that is
 :mod:`proofkit.audit`) and never evaluates user text.
 """

@@ -110,20 +110,20 @@ def matmul(a: Matrix, b: Matrix) -> Matrix:
 def char_poly(a: Matrix) -> list[Num]:
     """``det(sI - A)`` highest degree first, by the Faddeev–LeVerrier recursion.
 
-    M_0 = 0, c_0 = 1; M_k = A M_{k-1} + c_{k-1} I, c_k = -tr(A M_k)/k.
+    M_1 = I, c_0 = 1; c_k = -tr(A M_k)/k; M_{k+1} = A M_k + c_k I.
     """
     n = len(a)
     coeffs = [Num.of(1)]
-    m: Matrix = [[Num.of(0)] * n for _ in range(n)]
+    m: Matrix = [[Num.of(int(i == j)) for j in range(n)] for i in range(n)]
     for k in range(1, n + 1):
-        m = _matmul(a, m)
-        for i in range(n):
-            m[i][i] = m[i][i] + coeffs[-1]
         am = _matmul(a, m)
         trace = Num.of(0)
         for i in range(n):
             trace = trace + am[i][i]
         coeffs.append(-(trace / Num.of(k)))
+        m = am
+        for i in range(n):
+            m[i][i] = m[i][i] + coeffs[-1]
     return coeffs
 
 

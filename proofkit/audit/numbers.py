@@ -55,6 +55,8 @@ class Num:
         return Num(-self.a, -self.b, self.d)
 
     def __mul__(self, other: Num) -> Num:
+        if not self.b and not other.b:  # both rational: the common case
+            return Num(self.a * other.a, self.b, self.d or other.d)
         d = self._field(other)
         return Num(self.a * other.a + d * self.b * other.b, self.a * other.b + self.b * other.a, d)
 
