@@ -11,7 +11,7 @@ Nothing here decides a sign, an equality or a verdict from floating point.
 from proofkit.analysis.equilibria import FoundPoint, Limits
 from proofkit.analysis.lyapunov import LyapunovSolution, solve_lyapunov
 from proofkit.analysis.routh import RouthArray, routh_array
-from proofkit.analysis.survey import (
+from proofkit.analysis.surveying import (
     ClaimCheck,
     EquilibriumReport,
     Survey,

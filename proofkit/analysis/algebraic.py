@@ -24,6 +24,7 @@ import sympy as sp
 __all__ = ["AlgNum", "RealAlgebraicField", "field_of_exprs", "monic_fmpq_poly"]
 
 _X = sp.Symbol("x")
+_ROOTS_CACHE: dict[tuple[str, ...], list[RealAlgebraicField]] = {}
 
 
 def _fq(value: object) -> flint.fmpq:
@@ -78,6 +79,7 @@ class RealAlgebraicField:
         self.index = index
         self._sign_lo = _sgn(q(self.lo)) if q is not None else 0
         self._sympy_gen: sp.Expr | None = None
+        self._sympy_cache: dict[str, sp.Expr] = {}
 
     # --- construction --------------------------------------------------------
     @property
@@ -118,12 +120,22 @@ class RealAlgebraicField:
 
     @classmethod
     def real_roots_of(cls, q: flint.fmpq_poly) -> list[RealAlgebraicField]:
-        """One field per real root of the irreducible q (degree >= 2), in ascending order."""
-        coeffs = [sp.Rational(int(c.p), int(c.q)) for c in q.coeffs()]
-        poly = sp.Poly(list(reversed(coeffs)), _X, domain=sp.QQ)
-        ivs = sorted(poly.intervals(), key=lambda t: t[0][0])
+        """One field per real root of the irreducible q (degree >= 2), in ascending order.
+
+        Cached per polynomial: the same root is always the same field object.
+        """
         qm = q / q.leading_coefficient()
-        return [cls(qm, a, b, k) for k, ((a, b), _m) in enumerate(ivs)]
+        key = tuple(str(c) for c in qm.coeffs())
+        hit = _ROOTS_CACHE.get(key)
+        if hit is None:
+            coeffs = [sp.Rational(int(c.p), int(c.q)) for c in qm.coeffs()]
+            poly = sp.Poly(list(reversed(coeffs)), _X, domain=sp.QQ)
+            ivs = sorted(poly.intervals(), key=lambda t: t[0][0])
+            hit = [cls(qm, a, b, k) for k, ((a, b), _m) in enumerate(ivs)]
+            if len(_ROOTS_CACHE) > 4096:
+                _ROOTS_CACHE.clear()
+            _ROOTS_CACHE[key] = hit
+        return list(hit)
 
     # --- exact decisions ---------------------------------------------------
     def reduce(self, p: flint.fmpq_poly) -> flint.fmpq_poly:
@@ -204,9 +216,20 @@ class RealAlgebraicField:
 
     def to_sympy(self, p: flint.fmpq_poly) -> sp.Expr:
         """An exact sympy expression for p(alpha): rational, a + b*sqrt(d), or via CRootOf."""
+        key = str(p)
+        hit = self._sympy_cache.get(key)
+        if hit is None:
+            hit = self._to_sympy(p)
+            self._sympy_cache[key] = hit
+        return hit
+
+    def _to_sympy(self, p: flint.fmpq_poly) -> sp.Expr:
         if p.degree() <= 0:
             v = p.coeffs()[0] if p.degree() == 0 else flint.fmpq(0)
             return sp.Rational(int(v.p), int(v.q))
+        if self.q is not None and self.q.degree() == 2:  # a + b*alpha with alpha a radical
+            c0, c1 = (sp.Rational(int(v.p), int(v.q)) for v in p.coeffs())
+            return sp.expand(c0 + c1 * self.sympy_generator())
         m = self.minimal_polynomial(p)
         if m.degree() == 1:
             v = -m.coeffs()[0]

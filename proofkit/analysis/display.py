@@ -1,4 +1,4 @@
-"""Text and JSON views of a :class:`~proofkit.analysis.survey.Survey` for ``proofkit inspect``.
+"""Text and JSON views of a :class:`~proofkit.analysis.surveying.Survey` for ``proofkit inspect``.
 
 Exact numbers are written as exact text (the model language's printer where
 it can, sympy's exact notation for ``CRootOf``); floats appear only in the
@@ -13,7 +13,7 @@ from typing import Any
 
 import sympy as sp
 
-from proofkit.analysis.survey import EquilibriumReport, Survey, survey
+from proofkit.analysis.surveying import EquilibriumReport, Survey, survey
 from proofkit.errors import ModelError
 from proofkit.model import Model
 

@@ -100,7 +100,22 @@ def _det(M: Mat, K: RealAlgebraicField) -> AlgNum:
 
 
 def leading_minors(P: Mat, K: RealAlgebraicField) -> list[AlgNum]:
-    return [_det([row[:k] for row in P[:k]], K) for k in range(1, len(P) + 1)]
+    """Leading principal minors: products of the pivots of elimination without row swaps."""
+    n = len(P)
+    m = [list(r) for r in P]
+    minors: list[AlgNum] = []
+    prod = K.one
+    for col in range(n):
+        if m[col][col].is_zero():  # elimination without swaps stops; finish one by one
+            return minors + [_det([row[:k] for row in P[:k]], K) for k in range(col + 1, n + 1)]
+        prod = prod * m[col][col]
+        minors.append(prod)
+        inv = m[col][col].inverse()
+        for r in range(col + 1, n):
+            if not m[r][col].is_zero():
+                f = m[r][col] * inv
+                m[r] = [v - f * w for v, w in zip(m[r], m[col], strict=True)]
+    return minors
 
 
 def solve_lyapunov_in(A: Mat, Q: Mat, K: RealAlgebraicField) -> tuple[Mat, list[AlgNum]]:

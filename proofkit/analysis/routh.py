@@ -133,8 +133,10 @@ class _Frac:
         def poly(p: kpoly.KPoly) -> sp.Expr:
             return sp.Add(*[c.to_sympy() * EPSILON**k for k, c in enumerate(p)])
 
+        if len(self.den) == 1 and len(self.num) <= 1:
+            return self.num[0].to_sympy() if self.num else sp.Integer(0)
         if len(self.den) == 1:
-            return sp.expand(poly(self.num))
+            return poly(self.num)
         return poly(self.num) / poly(self.den)
 
 

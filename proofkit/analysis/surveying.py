@@ -73,6 +73,7 @@ class EquilibriumReport:
     enclosure: tuple[tuple[sp.Rational, sp.Rational], ...] | None = None
     jacobian_enclosure: tuple[tuple[sp.Interval, ...], ...] | None = None
     note: str = ""
+    field_degree: int = 1  # degree over Q of the field holding the exact data (0: enclosure)
 
 
 @dataclass(frozen=True)
@@ -292,6 +293,7 @@ def _exact_report(
         type=_type_for(n, ra.rhp_count, ra.imag_count, planar),
         lyapunov=lyap,
         note=note,
+        field_degree=K.degree,
     )
 
 
@@ -404,6 +406,7 @@ def _enclosure_report(
         exact=False,
         enclosure=fp.enclosure,
         jacobian_enclosure=J_int,
+        field_degree=0,
         note="the equilibrium is known to lie in a certified box (exactly one there); "
         "point and jacobian are at the box centre (display only); the verdict, the "
         "characteristic polynomial and the Routh array are certified enclosures over the box",
