@@ -36,6 +36,21 @@ def _bump(value, delta: Fraction = Fraction(1)):
     return str(Fraction(value) + delta)
 
 
+# parameters with a range, constants, a domain: their numbers are checked by provenance
+PARAM_TEXT = """\
+const g = 981/100
+param k = 2 in [3/2, 3]
+param c = 2/5
+state x, y
+x' = y
+y' = -k*x + x^3/6 - c*y + 0*g
+domain x^2 <= 4 and y^2 < 9
+equilibrium o at x = 0, y = 0
+claim o stable at nominal
+claim o stable
+"""
+
+
 @pytest.fixture(scope="module")
 def certificates():
     shifted = prove_text(companion_text(["5", "0", "-20", "-16"], "unstable"))
@@ -46,6 +61,7 @@ def certificates():
         "sqrt": prove_text(SQRT_TEXT).certificate,
         "shifted": shifted.certificate,
         "sos": parrilo_lecture_certificate(),
+        "params": prove_text(PARAM_TEXT).certificate,
     }
 
 
@@ -54,7 +70,7 @@ def test_every_certificate_starts_accepted(certificates) -> None:
         assert full_audit_ok(dumps(cert)), name
 
 
-@pytest.mark.parametrize("name", ["bistable", "sqrt", "shifted", "sos"])
+@pytest.mark.parametrize("name", ["bistable", "sqrt", "shifted", "sos", "params"])
 def test_every_numeric_leaf_mutation_is_rejected(certificates, name) -> None:
     cert = certificates[name]
     leaves = numeric_leaves(cert)
@@ -80,12 +96,12 @@ def _term_lists(obj, path=()):
     return out
 
 
-@pytest.mark.parametrize("name", ["bistable", "sqrt", "sos"])
+@pytest.mark.parametrize("name", ["bistable", "sqrt", "sos", "params"])
 def test_dropping_any_term_or_entry_is_rejected(certificates, name) -> None:
     cert = certificates[name]
     for path in _term_lists(cert):
         target = get_in(cert, path)
-        if path[-1] == "claims" or (path and path[0] == "model" and "parameters" in path):
+        if path[-1] == "claims":
             continue
         for i in range(len(target)):
             mutated = copy.deepcopy(cert)
@@ -133,3 +149,11 @@ def test_motzkin_multiple_mutations_rejected() -> None:
         mutated = copy.deepcopy(cert)
         set_in(mutated, path, _bump(get_in(cert, path)))
         assert not full_audit_ok(dumps(mutated)), path
+
+
+def test_flipping_a_strict_domain_condition_is_rejected(certificates) -> None:
+    for i in range(2):
+        mutated = copy.deepcopy(certificates["params"])
+        cond = mutated["model"]["domain"][i]
+        cond["strict"] = not cond["strict"]
+        assert not full_audit_ok(dumps(mutated))

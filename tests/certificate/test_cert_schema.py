@@ -36,3 +36,12 @@ def test_schema_rejects_inexact_numbers(validator, bistable_run) -> None:
     cert = json.loads(bistable_run.text)
     cert["claims"][0]["evidence"]["jacobian"][0][0] = "0.5"
     assert not validator.is_valid(cert)
+
+
+def test_worked_certificates_validate(validator) -> None:
+    from pathlib import Path
+
+    worked = Path(__file__).resolve().parents[2] / "worked"
+    files = sorted(worked.glob("*.certificate.json"))
+    for f in files:
+        validator.validate(json.loads(f.read_text()))

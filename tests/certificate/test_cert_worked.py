@@ -39,3 +39,23 @@ def test_committed_certificate_audits_and_statuses_reproduce(pk_file: Path) -> N
     doc = doc_file.read_text(encoding="utf-8")
     for c in committed["claims"]:
         assert c["statement"] in doc
+
+
+@pytest.mark.parametrize("pk_file", MODELS, ids=[p.stem for p in MODELS])
+def test_certificates_agree_with_the_independent_equilibrium_survey(pk_file: Path) -> None:
+    # computed: proofkit.analysis (Groebner bases, its own exact Routh array) is a separate
+    # implementation; where it decides a declared equilibrium, the certificate must agree.
+    from proofkit.analysis import survey
+
+    model = proofkit.load(str(pk_file))
+    verdicts = {e.name: e.verdict for e in survey(model).equilibria if e.name}
+    committed = json.loads(pk_file.with_name(f"{pk_file.stem}.certificate.json").read_text())
+    for claim, c in zip(model.claims, committed["claims"], strict=True):
+        if c["status"] == "not proved" or claim.target not in verdicts:
+            continue
+        shown = (
+            claim.kind
+            if c["status"] == "proved"
+            else {"stable": "unstable"}.get(claim.kind, "stable")
+        )
+        assert verdicts[claim.target] == shown, claim.text
