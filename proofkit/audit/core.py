@@ -306,6 +306,9 @@ def _read_identities(
         k: _poly(v, nv, 0, f"{w}.polynomials.{k}")
         for k, v in _get(ev, "polynomials", dict, w).items()
     }
+    for k in polys:  # "1" and "lie(NAME)" are computed by the audit, never stated
+        if not k.isidentifier():
+            raise FormatError(f"{w}.polynomials: {k!r} is not a plain name")
     polys["1"] = {(0,) * nv: Num.of(1)}
 
     def resolve(name: str) -> Poly:

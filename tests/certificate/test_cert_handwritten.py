@@ -183,3 +183,40 @@ def test_unknown_fields_are_refused(bistable_run, where) -> None:
     obj["margin"] = "1/2"
     with pytest.raises(FormatError):
         audit_certificate(cert)
+
+
+def test_derived_polynomial_names_cannot_be_stated() -> None:
+    # "lie(V)" is computed by the audit from the vector field; a certificate must not
+    # be able to supply its own value under that name.
+    cert = parrilo_lecture_certificate()
+    ev = cert["claims"][0]["evidence"]
+    ev["polynomials"]["lie(p)"] = ev["polynomials"]["p"]
+    with pytest.raises(FormatError):
+        audit_certificate(cert)
+
+
+def test_lie_derivative_identity_is_recomputed_from_the_vector_field(reversed_run) -> None:
+    # computed (REFERENCES.md): for V = x'Px with P = [[3/2, -1/2], [-1/2, 1]] on the
+    # reversed-time oscillator, Vdot = -(x1^2 + x2^2) - x1^3 x2 + 2 x1^2 x2^2.
+    import proofkit
+    from proofkit.audit.core import _Context, _read_identities
+    from proofkit.proofs.linearization import field_polys
+
+    model = proofkit.parse(reversed_run.certificate["model"]["source"])
+    ctx = _Context(["x1", "x2"], field_polys(model), [])
+    vdot = [[[2, 0], "-1"], [[0, 2], "-1"], [[3, 1], "-1"], [[2, 2], "2"]]
+    ev = {
+        "variables": ["x1", "x2"],
+        "polynomials": {
+            "V": [[[2, 0], "3/2"], [[1, 1], "-1"], [[0, 2], "1"]],
+            "W": vdot,
+        },
+        "gram_matrices": {},
+        "identities": [{"target": [["1", "lie(V)"], ["-1", "W"]], "sum": []}],
+    }
+    _read_identities(ev, ctx, "test")  # holds: lie(V) - W == 0
+    ev["polynomials"]["W"] = [*vdot[:3], [[2, 2], "3"]]
+    from proofkit.audit.core import Rejected
+
+    with pytest.raises(Rejected):
+        _read_identities(ev, ctx, "test")
