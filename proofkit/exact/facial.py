@@ -104,11 +104,12 @@ def face_candidates(
     nv = space.nvars
     n = basis.shape[0]
     mono = [space.from_arrays(e.reshape(1, nv), [1]) for e in basis]
-    for max_den in range_dens:
-        rows = rational_range(q, max_den)
+    tries = [(tol, den) for tol in (1e-6, 1e-3) for den in range_dens]
+    for rel_tol, max_den in tries:
+        rows = rational_range(q, max_den, rel_tol)
         if rows is None:
             yield None, "numerical solution has full rank or no range"
-            return
+            continue
         r = len(rows)
         wt = [[flint.fmpq(x.numerator, x.denominator) for x in row] for row in rows]
         cpoly = []

@@ -35,7 +35,9 @@ from proofkit.sos.solve import DEFAULT_SOLVER, SOLVER_SETTINGS, NumericSolution,
 __all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
 
 _MARGIN_NEGATIVE = -1e-7
-_DIAG_ZERO = 1e-7
+# Relative diagonal sizes treated as forced zeros, tried in turn: degenerate programs
+# are solved only to about the square root of the solver tolerance.
+_DIAG_ZERO = (1e-7, 1e-5, 1e-3)
 
 
 @dataclass(frozen=True)
@@ -92,22 +94,23 @@ class ProgramOutcome:
     reason: str | None
     attempts: list[Attempt] = field(default_factory=list)
     timings: dict[str, float] = field(default_factory=dict)
-    last_numeric: NumericSolution | None = None
-    last_bases: dict[str, np.ndarray] = field(default_factory=dict)
+    numerics: list[tuple[NumericSolution, dict[str, np.ndarray]]] = field(default_factory=list)
 
     @property
     def found(self) -> bool:
         return self.exact is not None and self.exact.ok
 
 
-def _forced_zero(program: SearchProgram, values: dict[str, np.ndarray]) -> dict[int, np.ndarray]:
+def _forced_zero(
+    program: SearchProgram, values: dict[str, np.ndarray], tol: float
+) -> dict[int, np.ndarray]:
     """Per Gram unknown, the mask of basis monomials to keep (those with a visible diagonal)."""
     out: dict[int, np.ndarray] = {}
     for u in program.unknowns:
         if isinstance(u, SosPoly) and u.size:
             diag = np.diag(values[u.name])
             scale = max(1.0, float(np.abs(diag).max(initial=0.0)))
-            keep = diag > _DIAG_ZERO * scale
+            keep = diag > tol * scale
             if not keep.all():
                 out[u.uid] = keep
     return out
@@ -118,7 +121,7 @@ def solve_exactly(
     *,
     solver: str | None = None,
     ladder: Sequence[int] = DENOMINATOR_LADDER,
-    facial_rounds: int = 2,
+    facial_rounds: int = 3,
 ) -> ProgramOutcome:
     """Solve numerically, round exactly, reduce faces and retry; never trusts a float.
 
@@ -131,6 +134,8 @@ def solve_exactly(
     reasons: list[str] = []
     size = lambda: sum(u.size for u in program.unknowns if isinstance(u, SosPoly))  # noqa: E731
     rounds = 0
+    level = 0  # index into _DIAG_ZERO
+    saved: dict[int, np.ndarray] | None = None  # bases before the last facial reduction
     k = 0
     while k < len(order):
         name = order[k]
@@ -146,10 +151,18 @@ def solve_exactly(
             k += 1
             continue
         margin = sol.margin if sol.margin is not None else 0.0
-        out.last_numeric = sol
-        out.last_bases = {
-            u.name: u.basis.copy() for u in program.unknowns if isinstance(u, SosPoly)
-        }
+        bases = {u.name: u.basis.copy() for u in program.unknowns if isinstance(u, SosPoly)}
+        out.numerics.append((sol, bases))
+        if margin < _MARGIN_NEGATIVE and sol.status == "solved" and saved is not None:
+            for u in program.unknowns:
+                if u.uid in saved:
+                    program.rebase(u, saved[u.uid])  # type: ignore[arg-type]
+            saved = None
+            reasons.append(f"{name}: facial reduction went too far (margin {margin:.3g}); undone")
+            out.attempts.append(Attempt(name, size(), sol.status, margin, "reduction undone"))
+            rounds = facial_rounds
+            k += 1
+            continue
         if margin < _MARGIN_NEGATIVE and sol.status == "solved":
             msg = (
                 f"best margin {margin:.3g} < 0: no PSD Gram matrices with these bases (numerically)"
@@ -169,9 +182,14 @@ def solve_exactly(
             msg = f"solver inaccurate; {msg}"
         out.attempts.append(Attempt(name, size(), sol.status, margin, msg))
         reasons.append(f"{name}: {msg}")
-        masks = _forced_zero(program, sol.values)
-        if masks and rounds < facial_rounds:
+        masks: dict[int, np.ndarray] = {}
+        while rounds < facial_rounds and level < len(_DIAG_ZERO) and not masks:
+            masks = _forced_zero(program, sol.values, _DIAG_ZERO[level])
+            if not masks:
+                level += 1
+        if masks:
             rounds += 1
+            saved = {u.uid: u.basis.copy() for u in program.unknowns if isinstance(u, SosPoly)}
             for u in program.unknowns:
                 if u.uid in masks:
                     program.restrict(u, masks[u.uid])  # type: ignore[arg-type]
@@ -190,26 +208,27 @@ def _try_face(
     ladder: Sequence[int],
 ) -> Decomposition | None:
     """Facial reduction by the numerical kernel (see :mod:`proofkit.exact.facial`)."""
-    sol = res.last_numeric
-    if sol is None or not sol.usable or (sol.margin or 0.0) < _MARGIN_NEGATIVE:
-        return None
-    b = res.last_bases["gram"]
     t0 = time.perf_counter()
-    basis_syms = [space.monomial(e) for e in b]
     notes = []
-    for cand, note in face_candidates(space, b, poly, sol.values["gram"], ladder):
-        if cand is None:
-            notes.append(note)
+    ranked = sorted(res.numerics, key=lambda it: it[0].status != "solved")
+    for sol, bases in ranked:
+        if not sol.usable or (sol.margin or 0.0) < _MARGIN_NEGATIVE:
             continue
-        gmat = sp.Matrix([[sp.Rational(int(x.p), int(x.q)) for x in row] for row in cand])
-        verdict = check_gram(poly, variables, basis_syms, gmat)
-        if verdict.ok:
-            res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
-            att = Attempt(sol.solver, len(b), sol.status, sol.margin, f"exact certificate ({note})")
-            return Decomposition(
-                True, basis_syms, gmat, None, [*res.attempts, att], {}, verdict.ldl
-            )
-        notes.append(f"{note}: {verdict.reason}")
+        b = bases["gram"]
+        basis_syms = [space.monomial(e) for e in b]
+        for cand, note in face_candidates(space, b, poly, sol.values["gram"], ladder):
+            if cand is None:
+                notes.append(note)
+                continue
+            gmat = sp.Matrix([[sp.Rational(int(x.p), int(x.q)) for x in row] for row in cand])
+            verdict = check_gram(poly, variables, basis_syms, gmat)
+            if verdict.ok:
+                res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
+                att = Attempt(sol.solver, len(b), sol.status, sol.margin, f"exact ({note})")
+                return Decomposition(
+                    True, basis_syms, gmat, None, [*res.attempts, att], {}, verdict.ldl
+                )
+            notes.append(f"{note}: {verdict.reason}")
     res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
     if notes:
         res.reason = f"{res.reason}; kernel facial reduction: {notes[-1]}"
@@ -227,7 +246,7 @@ def decompose(
     solver: str | None = None,
     basis: Sequence[sp.Expr] | None = None,
     ladder: Sequence[int] = DENOMINATOR_LADDER,
-    facial_rounds: int = 2,
+    facial_rounds: int = 3,
 ) -> Decomposition:
     """Search for an exact SOS certificate of ``p`` (a sympy polynomial) in ``variables``."""
     t_start = time.perf_counter()

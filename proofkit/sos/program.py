@@ -399,8 +399,11 @@ class SearchProgram:
         Used when a solution shows those diagonal entries are forced to zero;
         the identities are re-assembled on the next solve.
         """
-        keep = np.asarray(keep, dtype=bool)
-        u.basis = u.basis[keep]
+        self.rebase(u, u.basis[np.asarray(keep, dtype=bool)])
+
+    def rebase(self, u: SosPoly, basis: np.ndarray) -> None:
+        """Give ``u`` a new basis (exponent array); identities are re-assembled on next solve."""
+        u.basis = np.asarray(basis, dtype=np.int64).reshape(-1, self.space.nvars)
         u.size = int(u.basis.shape[0])
         u.ncols = u.size * u.size
         for ident in self.identities:
