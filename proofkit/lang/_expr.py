@@ -262,8 +262,8 @@ class ExprBuilder(Transformer):
             return sp.pi
         if name in FUNCTIONS:
             raise self._err(
-                f"'{name}' is a function; call it with an argument, as in {name}(x)",
-                line, col, end,
+                f"'{name}' is a function, not a value", line, col, end,
+                hint=f"call it with an argument, as in {name}(x); a variable needs another name",
             )
         binding = self.env.get(name)
         if binding is None:

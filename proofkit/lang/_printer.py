@@ -118,7 +118,7 @@ def _fmt(e: sp.Expr) -> tuple[str, int]:
 
 def format_expr(e: sp.Expr) -> str:
     """``e`` in the model language's syntax (parses back to the same expression)."""
-    return _fmt(sp.sympify(e) if isinstance(e, int) else e)[0]
+    return _fmt(sp.Integer(e) if isinstance(e, int) else e)[0]
 
 
 def format_condition(c: Condition) -> str:

@@ -1,0 +1,295 @@
+"""Every kind of input error: file, line, column, the caret, plain words and the hint.
+
+The expected positions are counted by hand from the test texts (common
+practice: 1-based lines and columns, as compilers report them).
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from proofkit.errors import InputError, LimitError
+from proofkit.lang import load_model, parse_model
+
+
+def fails(text: str, line: int, column: int, message: str, hint: str | None = None,
+          *, width: int | None = None, limit: bool = False) -> InputError:
+    """Assert that ``text`` fails at line:column with the message, caret and hint."""
+    with pytest.raises(InputError) as info:
+        parse_model(text, file="m.pk")
+    err = info.value
+    assert isinstance(err, LimitError) == limit, str(err)
+    assert err.span is not None, str(err)
+    assert (err.span.file, err.span.line, err.span.column) == ("m.pk", line, column), str(err)
+    assert message in err.message, str(err)
+    rendered = str(err).splitlines()
+    assert rendered[0].startswith(f"m.pk:{line}:{column}: error: ")
+    assert rendered[1] == "    " + text.split("\n")[line - 1].rstrip("\r")
+    caret = rendered[2]
+    assert caret.startswith("    " + " " * (column - 1) + "^"), str(err)
+    if width is not None:
+        assert caret.strip() == "^" * width, str(err)
+    if hint is None:
+        assert err.hint is None or err.hint, str(err)
+    else:
+        assert err.hint is not None and hint in err.hint, str(err)
+        assert rendered[-1] == f"hint: {err.hint}"
+    return err
+
+
+# --- syntax -------------------------------------------------------------------------------
+def test_implicit_multiplication() -> None:
+    err = fails("state x\nx' = 2x\n", 2, 7, "a number directly followed by the name 'x'",
+                "2*x", width=1)
+    assert "expected an operator or the end of the line" in err.message
+
+
+def test_implicit_multiplication_before_parenthesis() -> None:
+    fails("state x\nx' = 3(x + 1)\n", 2, 7, "directly followed by '('", "3*(")
+
+
+def test_missing_operator_between_names() -> None:
+    fails("state x, y\nx' = x y\ny' = 0\n", 2, 8, "expected an operator", "x*y")
+
+
+def test_incomplete_line_after_operator_at_end_of_file() -> None:
+    fails("state x\nx' = x +\n", 2, 9, "expected a number, a name or '(', found the end of the file",
+          "incomplete")
+
+
+def test_unclosed_parenthesis() -> None:
+    fails("state x\nx' = (x + 1\n", 2, 12, "expected an operator or ')'", "incomplete")
+
+
+def test_reserved_word_as_name() -> None:
+    fails("state in, x\n", 1, 7, "expected a name, found the word 'in'", "reserved word", width=2)
+
+
+def test_equals_in_a_set() -> None:
+    fails("state x\nx' = -x\ndomain x = 1\n", 3, 10, "found '='", "<=, <, >= or >")
+
+
+def test_misspelt_statement_word() -> None:
+    fails("stat x\n", 1, 6, "expected a prime", "did you mean 'state'?")
+
+
+def test_assignment_instead_of_equation() -> None:
+    fails("state x\nx = 1\n", 2, 3, "expected a prime", "x' = ...")
+
+
+def test_unexpected_character() -> None:
+    fails("state x; x' = -x\n", 1, 8, "unexpected character ';'", "one statement per line")
+    fails("state x\nx' = x & 1\n", 2, 8, "unexpected character '&'", "'and'")
+
+
+def test_typographic_characters_are_named_with_code_point() -> None:
+    err = fails("state x\nx' = \u2212x\n", 2, 6, "minus sign (U+2212)", "'-'")
+    assert "ASCII" in err.message
+    fails("state x\nx' = 2\u00d7x\n", 2, 7, "multiplication sign (U+00D7)", "'*'")
+    fails("state x\nx' = x\u00f72\n", 2, 7, "division sign (U+00F7)", "'/'")
+    fails("state x\nx\u2019 = -x\n", 2, 2, "right single quotation mark (U+2019)", "\"'\"")
+    fails("state x\nx' = \u201cx\u201d\n", 2, 6, "left double quotation mark (U+201C)", "'\"'")
+    fails("state x\nx' =\u00a0-x\n", 2, 5, "no-break space (U+00A0)", "ordinary space")
+    fails("state \u00e9\n", 1, 7, "(latin small letter e with acute, U+00E9)", "ASCII letters")
+    fails("state x\u0000\n", 1, 8, "control character U+0000", "remove")
+
+
+# --- names ----------------------------------------------------------------------------------
+def test_unknown_name_suggests_closest() -> None:
+    fails("param damping = 1\nstate x, y\nx' = y\ny' = -x - dampng*y\n", 4, 11,
+          "unknown name 'dampng'", "did you mean 'damping'?", width=6)
+
+
+def test_name_declared_later() -> None:
+    fails("state x, y\nx' = y\ny' = -x - damping*y\nparam damping = 1\n", 3, 11,
+          "'damping' is used before it is declared (on line 4)", "move the declaration")
+
+
+def test_name_in_its_own_definition() -> None:
+    fails("state x\nlet a = a + x\nx' = -x\n", 2, 9, "'a' cannot be used in its own definition")
+
+
+def test_python_builtins_are_unknown_names() -> None:
+    fails('state x\nx\' = __import__("os")\n', 2, 6, "unknown name '__import__'",
+          "known functions", width=10)
+    fails("state x\nx' = eval(x)\n", 2, 6, "unknown name 'eval'")
+
+
+def test_unknown_function_suggests_closest() -> None:
+    fails("state x\nx' = sinn(x)\n", 2, 6, "unknown name 'sinn'", "did you mean 'sin'?")
+
+
+def test_function_name_used_as_variable() -> None:
+    fails("state x\nx' = sin*x\n", 2, 6, "'sin' is a function", "sin(x)", width=3)
+
+
+def test_variable_called_like_a_function() -> None:
+    fails("state x\nx' = x(2)\n", 2, 6, "'x' is a state, not a function", "x*(...)")
+
+
+def test_function_arity_and_quoted_argument() -> None:
+    fails("state x\nx' = sin(x, x)\n", 2, 6, "sin takes exactly one argument, got 2")
+    fails("state x\nx' = sin()\n", 2, 6, "sin takes exactly one argument, got 0")
+    fails('state x\nx\' = sin("x")\n', 2, 10, "quoted text is not part of the language")
+
+
+def test_builtin_names_cannot_be_declared() -> None:
+    fails("const pi = 3\nstate x\nx' = -x\n", 1, 7, "'pi' is the constant pi", "pi_1")
+    fails("state exp\nexp' = 1\n", 1, 7, "'exp' is a built-in function")
+
+
+def test_duplicate_name_points_at_first_declaration() -> None:
+    fails("param a = 1\nconst a = 2\nstate x\nx' = -x\n", 2, 7,
+          "'a' is already declared as a parameter on line 1", "m.pk:1:7")
+
+
+def test_wrong_kind_of_name() -> None:
+    fails("state x\nconst c = x\nx' = -x\n", 2, 11, "'x' is a state, which a constant cannot use",
+          "constants")
+    fails("param k = 1\nparam j = k\nstate x\nx' = -x\n", 2, 11, "'k' is a parameter")
+    fails("state x\nx' = -x\nequilibrium O at x = 0\nclaim O attracts O <= 1\n", 4, 18,
+          "'O' is an equilibrium")
+    fails("state x\nx' = -x\nequilibrium O at x = x\n", 3, 22, "'x' is a state")
+
+
+# --- statements -------------------------------------------------------------------------
+def test_state_without_equation() -> None:
+    fails("state x, y\nx' = y\n", 1, 10, "state 'y' has no equation", "y' = ...")
+
+
+def test_duplicate_equation() -> None:
+    fails("state x\nx' = -x\nx' = x\n", 3, 1, "a second equation for 'x' (the first is on line 2)",
+          "m.pk:2:1")
+
+
+def test_equation_for_non_state() -> None:
+    fails("param k = 1\nstate x\nx' = -x\nk' = 1\n", 4, 1, "'k' is a parameter, not a state")
+    fails("state speed\nsped' = 1\n", 2, 1, "'sped' is not a state", "did you mean 'speed'?")
+    fails("x' = 1\nstate x\n", 1, 1, "equation for 'x' before the state statement",
+          "declare the states first")
+
+
+def test_missing_and_second_state_statement() -> None:
+    fails("const a = 1\n", 1, 1, "the model has no state statement", "state x, y")
+    fails("", 1, 1, "the model has no state statement")
+    fails("state x\nstate y\nx' = -x\ny' = -y\n", 2, 1, "a second state statement", "one statement")
+
+
+def test_system_must_be_first_and_single() -> None:
+    fails("state x\nsystem foo\nx' = -x\n", 2, 1, "must be the first statement", "top")
+    fails("system a\nsystem b\nstate x\nx' = -x\n", 2, 1, "a second system statement")
+
+
+def test_second_domain() -> None:
+    fails("state x\nx' = -x\ndomain x <= 1\ndomain x >= -1\n", 4, 1, "a second domain statement",
+          "'and'")
+
+
+def test_nominal_outside_range() -> None:
+    fails("param a = 5 in [1, 3]\nstate x\nx' = -a*x\n", 1, 1,
+          "the nominal value 5 of 'a' is not in its range [1, 3]", "low <= nominal <= high")
+    fails("param a = 2 in [3, 1]\nstate x\nx' = -a*x\n", 1, 1, "is empty", "[low, high]")
+
+
+def test_equilibrium_residual_is_shown_per_state() -> None:
+    err = fails("state x, y\nx' = y - 1\ny' = x\nequilibrium E at x = 0, y = 0\n", 4, 1,
+                "'E' is not an equilibrium", "exactly 0")
+    assert "residual x' = -1, y' = 0" in err.message
+
+
+def test_equilibrium_must_hold_for_every_parameter_value() -> None:
+    err = fails("param k = 1\nstate x\nx' = x - k\nequilibrium E at x = 1\n", 4, 1,
+                "'E' is not an equilibrium", "every parameter value")
+    assert "x' = 1 - k" in err.message
+
+
+def test_equilibrium_point_must_give_every_state_once() -> None:
+    fails("state x, y\nx' = -x\ny' = -y\nequilibrium E at x = 0\n", 4, 1,
+          "does not give y", "x = ..., y = ...")
+    fails("state x\nx' = -x\nequilibrium E at x = 0, x = 0\n", 3, 25, "'x' is given twice")
+    fails("state x\nx' = -x\nequilibrium E at y = 0\n", 3, 18, "'y' is not a state",
+          "the states are: x")
+
+
+def test_claim_must_name_declared_equilibrium() -> None:
+    fails("state x\nx' = -x\nequilibrium origin at x = 0\nclaim orign stable\n", 4, 7,
+          "'orign', which is not a declared equilibrium", "did you mean 'origin'?")
+    fails("state x\nx' = -x\nclaim x stable\n", 3, 7, "'x' is a state", "equilibrium x at")
+
+
+def test_chained_condition_must_keep_direction() -> None:
+    fails("state x\nx' = -x\ndomain 0 < x > 1\n", 3, 8, "one direction", "a <= x <= b")
+
+
+def test_non_real_values() -> None:
+    fails("state x\nx' = x/0\n", 2, 8, "division by zero", width=1)
+    fails("state x\nx' = sqrt(-1)*x\n", 2, 11, "sqrt of a negative number")
+    fails("state x\nx' = log(0)*x\n", 2, 10, "log(0)")
+    fails("state x\nx' = (-8)^(1/3)*x\n", 2, 7, "negative number raised to a fractional power")
+    fails("state x\nx' = 0^(-1)*x\n", 2, 6, "zero raised to a negative power")
+
+
+def test_exponent_must_be_a_rational_constant() -> None:
+    fails("state x\nx' = 2^x\n", 2, 8, "an exponent must be a constant", "exp(...)")
+    fails("state x\nx' = x^pi\n", 2, 8, "not a rational number")
+
+
+# --- limits ----------------------------------------------------------------------------------
+def test_exponent_limit() -> None:
+    fails("state x\nx' = x^65\n", 2, 8, "exceeds the limit of 64", limit=True, width=2)
+    fails("state x\nx' = x^(-65)\n", 2, 9, "exceeds the limit of 64", limit=True)
+    parse_model("state x\nx' = x^64 - x^(-64)\n")  # the limit itself is allowed
+
+
+def test_term_count_limit_without_expanding() -> None:
+    # computed: (x+y+z+1)^60 has comb(63, 3) = 39711 terms, more than 10 000
+    fails("state x, y, z\nlet a = (x+y+z+1)^60\nx' = a\ny' = 0\nz' = 0\n", 2, 9,
+          "more than 10000 terms", "smaller powers", limit=True)
+    # a product of powers that would explode: refused by counting, instantly
+    fails("state x, y, z\nlet a = (x+y+z+1)^30\nx' = a*a*a\ny' = 0\nz' = 0\n", 3, 6,
+          "more than 10000 terms", limit=True)
+    # computed: (x + y)^64 has 65 terms, well within the limit
+    parse_model("state x, y\nx' = (x + y)^64\ny' = 0\n")
+
+
+def test_nesting_limit() -> None:
+    deep = "-(" * 150 + "x" + ")" * 150
+    err = fails(f"state x\nx' = {deep}\n", 2, 208, "nested more than 100 levels", limit=True)
+    assert "let" in (err.hint or "")
+    parse_model("state x\nx' = " + "-(" * 40 + "x" + ")" * 40 + "\n")
+
+
+def test_number_size_limits() -> None:
+    fails("state x\nx' = 1e99999*x\n", 2, 6, "the exponent of 1e99999 is too large", limit=True)
+    fails("state x\nx' = " + "9" * 1001 + "*x\n", 2, 6, "1001 digits", limit=True)
+    fails("state x\nx' = ((10^64)^64)^64*x\n", 2, 7, "bits", limit=True)
+
+
+def test_file_size_limit(tmp_path) -> None:
+    big = "state x\nx' = -x\n" + "# padding\n" * 120_000
+    with pytest.raises(LimitError, match="limit is 1048576"):
+        parse_model(big)
+    p = tmp_path / "big.pk"
+    p.write_text(big)
+    with pytest.raises(LimitError, match="big.pk"):
+        load_model(p)
+
+
+# --- files --------------------------------------------------------------------------------
+def test_file_errors_name_the_file(tmp_path) -> None:
+    with pytest.raises(InputError, match="nope.pk: no such file"):
+        load_model(tmp_path / "nope.pk")
+    with pytest.raises(InputError, match="is a directory"):
+        load_model(tmp_path)
+    bad = tmp_path / "latin1.pk"
+    bad.write_bytes(b"state x\nx' = -x # caf\xe9\n")
+    with pytest.raises(InputError, match=r"latin1.pk:2: the file is not UTF-8"):
+        load_model(bad)
+    good = tmp_path / "bom.pk"
+    good.write_bytes(b"\xef\xbb\xbfstate x\nx' = -x\n")
+    assert load_model(good).states == ("x",)
+    wrong = tmp_path / "wrong.pk"
+    wrong.write_text("state x\nx' = 2x\n")
+    with pytest.raises(InputError) as info:
+        load_model(wrong)
+    assert str(info.value).startswith(f"{wrong}:2:7: error:")
