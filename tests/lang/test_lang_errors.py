@@ -53,8 +53,8 @@ def test_missing_operator_between_names() -> None:
 
 
 def test_incomplete_line_after_operator_at_end_of_file() -> None:
-    fails("state x\nx' = x +\n", 2, 9, "expected a number, a name or '(', found the end of the file",
-          "incomplete")
+    fails("state x\nx' = x +\n", 2, 9,
+          "expected a number, a name or '(', found the end of the file", "incomplete")
 
 
 def test_unclosed_parenthesis() -> None:
@@ -271,19 +271,19 @@ def test_file_size_limit(tmp_path) -> None:
         parse_model(big)
     p = tmp_path / "big.pk"
     p.write_text(big)
-    with pytest.raises(LimitError, match="big.pk"):
+    with pytest.raises(LimitError, match=r"big\.pk"):
         load_model(p)
 
 
 # --- files --------------------------------------------------------------------------------
 def test_file_errors_name_the_file(tmp_path) -> None:
-    with pytest.raises(InputError, match="nope.pk: no such file"):
+    with pytest.raises(InputError, match=r"nope\.pk: no such file"):
         load_model(tmp_path / "nope.pk")
     with pytest.raises(InputError, match="is a directory"):
         load_model(tmp_path)
     bad = tmp_path / "latin1.pk"
     bad.write_bytes(b"state x\nx' = -x # caf\xe9\n")
-    with pytest.raises(InputError, match=r"latin1.pk:2: the file is not UTF-8"):
+    with pytest.raises(InputError, match=r"latin1\.pk:2: the file is not UTF-8"):
         load_model(bad)
     good = tmp_path / "bom.pk"
     good.write_bytes(b"\xef\xbb\xbfstate x\nx' = -x\n")
