@@ -125,3 +125,13 @@ def test_centre_claim_not_proved() -> None:
     m = model("x y", [y, -x], equilibria={"o": {"x": 0, "y": 0}})
     c = check_claim(m, survey(m), Claim("stable", "o stable", target="o"))
     assert c.status == "not proved" and "imaginary axis" in c.reason
+
+
+def test_declared_point_outside_the_search_box_is_still_analysed() -> None:
+    # computed by hand: the pendulum rests at (4 pi, 0), outside the default box [-10, 10]^2;
+    # there J = [[0, 1], [-1, -1/2]] (cos 4 pi = 1): a stable focus
+    m = model("x y", [y, -sp.sin(x) - y / 2], equilibria={"far": {"x": 4 * sp.pi, "y": 0}})
+    s = survey(m)
+    assert s.complete and len(s.equilibria) == 8
+    e = s.by_name("far")
+    assert e.point["x"] == 4 * sp.pi and e.type == "stable focus" and "outside" in e.note
