@@ -328,8 +328,17 @@ def solve_polynomial_system(
         return PolynomialSolution(
             tuple(points),
             True,
-            f"zero-dimensional system: all {len(points)} real equilibria found exactly "
-            "(Groebner basis, real root isolation)",
+            (
+                "zero-dimensional system: "
+                + (
+                    "no real equilibria"
+                    if not points
+                    else "the only real equilibrium found exactly"
+                    if len(points) == 1
+                    else f"all {len(points)} real equilibria found exactly"
+                )
+                + " (Groebner basis, real root isolation)"
+            ),
             (),
             timings,
         )
