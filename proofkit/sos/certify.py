@@ -101,6 +101,17 @@ class ProgramOutcome:
         return self.exact is not None and self.exact.ok
 
 
+def _shapes_match(program: SearchProgram, sol: NumericSolution) -> bool:
+    for u in program.unknowns:
+        v = sol.values.get(u.name)
+        if v is None:
+            return False
+        want = (u.size, u.size) if isinstance(u, SosPoly) else (u.ncols,)
+        if np.shape(v) != want and not (u.kind == "scalar" and np.size(v) == 1):
+            return False
+    return True
+
+
 def _forced_zero(
     program: SearchProgram, values: dict[str, np.ndarray], tol: float
 ) -> dict[int, np.ndarray]:
@@ -141,8 +152,15 @@ def solve_exactly(
         name = order[k]
         sol = solve_program(program, name, margin=True)
         out.timings["assembly"] += sol.assembly_time
-        out.timings["compile"] += sol.compile_time
+        out.timings["compile"] += sol.build_time + sol.compile_time
         out.timings["solve"] += sol.solve_time
+        if sol.usable and not _shapes_match(program, sol):
+            sol.status = "failed"
+            sol.message += "; values do not match the unknowns' shapes"
+            sol.values = {}
+        if not sol.usable and sol.status in ("solved", "inaccurate"):
+            sol.message = f"solver said {sol.status} but gave no usable (finite) values"
+            sol.status = "failed"
         if sol.status in ("infeasible", "unbounded") or not sol.usable:
             out.attempts.append(Attempt(name, size(), sol.status, None, sol.message))
             reasons.append(f"{name}: {sol.status} ({sol.message})")

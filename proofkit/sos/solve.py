@@ -57,7 +57,8 @@ class NumericSolution:
     objective: float | None = None
     message: str = ""
     assembly_time: float = 0.0
-    compile_time: float = 0.0
+    build_time: float = 0.0  # building the cvxpy expressions
+    compile_time: float = 0.0  # cvxpy canonicalisation and solver set-up
     solve_time: float = 0.0
 
     @property
@@ -103,6 +104,7 @@ def solve_program(
     if solver not in SOLVER_SETTINGS:
         raise ValueError(f"unknown solver {solver!r}; choose one of {sorted(SOLVER_SETTINGS)}")
     asm = program.assemble()
+    t_build = time.perf_counter()
     var: dict[int, cp.Expression] = {}
     mats: dict[int, cp.Variable] = {}
     cons: list = []
@@ -148,6 +150,7 @@ def solve_program(
     name = {"clarabel": cp.CLARABEL, "scs": cp.SCS}[solver]
     out = NumericSolution(status="failed", solver=solver, assembly_time=asm)
     t0 = time.perf_counter()
+    out.build_time = t0 - t_build
     try:
         prob.solve(solver=name, **opts)
     except (cp.error.SolverError, ValueError, ArithmeticError) as exc:
