@@ -71,8 +71,12 @@ def _check_characters(where: Located) -> None:
         raise non_ascii_error(where, offset)
 
 
-def _significant_tokens(tokens: Iterator[Token]) -> Iterator[Token]:
-    """Drop the newlines that do not end a statement (line continuation)."""
+def _significant_tokens(where: Located, tokens: Iterator[Token]) -> Iterator[Token]:
+    """Drop the newlines that do not end a statement (line continuation).
+
+    Also enforces the nesting limit on brackets, which the tree depth check
+    cannot see (``((x))`` leaves no trace in the tree).
+    """
     depth = 0
     prev: Token | None = None
     for tok in tokens:
@@ -81,6 +85,14 @@ def _significant_tokens(tokens: Iterator[Token]) -> Iterator[Token]:
                 continue
         elif tok.type in _OPEN:
             depth += 1
+            if depth > MAX_DEPTH:
+                raise make_error(
+                    where,
+                    f"parentheses nested more than {MAX_DEPTH} levels deep",
+                    tok.line, tok.column, tok.end_column,
+                    hint="simplify the expression, or split it with let shorthands",
+                    limit=True,
+                )
         elif tok.type in _CLOSE:
             depth = max(0, depth - 1)
         prev = tok
@@ -188,6 +200,7 @@ def _char_error(where: Located, err: UnexpectedCharacters) -> InputError:
         "?": "there is no '?' operator",
         "~": "there is no '~' operator",
         "`": "there is no '`' operator",
+        ".": "'.' appears only inside numbers such as 0.25",
     }
     return make_error(
         where,
@@ -233,7 +246,7 @@ def parse_tree(where: Located) -> Tree:
     tokens: list[Token] = []
     try:
         interactive = parser.parse_interactive("")
-        for tok in _significant_tokens(parser.lex(text)):
+        for tok in _significant_tokens(where, parser.lex(text)):
             try:
                 interactive.feed_token(tok)
             except UnexpectedToken:

@@ -254,8 +254,11 @@ def test_term_count_limit_without_expanding() -> None:
 
 def test_nesting_limit() -> None:
     deep = "-(" * 150 + "x" + ")" * 150
-    err = fails(f"state x\nx' = {deep}\n", 2, 208, "nested more than 100 levels", limit=True)
+    err = fails(f"state x\nx' = {deep}\n", 2, 207, "nested more than 100 levels", limit=True)
     assert "let" in (err.hint or "")
+    # without parentheses the expression tree itself is measured
+    fails("state x\nx' = " + "-" * 150 + "x\n", 2, 107, "nested more than 100 levels",
+          limit=True)
     parse_model("state x\nx' = " + "-(" * 40 + "x" + ")" * 40 + "\n")
 
 
