@@ -141,5 +141,5 @@ def test_nothing_in_a_model_is_evaluated(monkeypatch: pytest.MonkeyPatch) -> Non
         parse_model('state x\nx\' = __import__("os")\n')
     with pytest.raises(InputError, match="unknown name 'open'"):
         parse_model('state x\nx\' = open("/etc/passwd") + x\n')
-    with pytest.raises(InputError, match="unexpected character '.'"):
+    with pytest.raises(InputError, match=r"unexpected character '\.'"):
         parse_model('state x\nx\' = __import__("os").system("echo hacked")\n')

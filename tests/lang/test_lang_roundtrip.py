@@ -106,13 +106,16 @@ def models(draw: st.DrawFn) -> tuple[str, dict[str, sp.Expr]]:
         # every term carries a state, so the origin is an equilibrium
         terms = [draw(expressions(leaf)) for _ in range(draw(st.integers(1, 2)))]
         carriers = [draw(st.sampled_from(states)) for _ in terms]
-        lines.append(f"{s}' = " + " + ".join(f"({t.text})*{c}" for t, c in zip(terms, carriers)))
-        expected[s] = sp.Add(*[t.value * sym(c) for t, c in zip(terms, carriers)])
+        pairs = list(zip(terms, carriers, strict=True))
+        lines.append(f"{s}' = " + " + ".join(f"({t.text})*{c}" for t, c in pairs))
+        expected[s] = sp.Add(*[t.value * sym(c) for t, c in pairs])
     region = st.tuples(expressions(leaf, 4), st.sampled_from(["<=", "<", ">=", ">"]),
                        expressions(leaf, 3))
+
     def set_text() -> str:
         conds = draw(st.lists(region, min_size=1, max_size=2))
         return " and ".join(f"{a.text} {op} {b.text}" for a, op, b in conds)
+
     if draw(st.booleans()):
         lines.append(f"domain {set_text()}")
     lines.append("equilibrium O at " + ", ".join(f"{s} = 0" for s in states))
