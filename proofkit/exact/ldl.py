@@ -14,9 +14,8 @@ LDL' with the zero-pivot rule runs. This module must never use floats.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-from dataclasses import dataclass
-from math import lcm
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
 
 import flint
 import numpy as np
@@ -26,15 +25,28 @@ from proofkit.sos.poly import to_fmpq
 __all__ = ["LdlResult", "ldl_psd"]
 
 
-@dataclass(frozen=True)
+@dataclass
 class LdlResult:
-    """Outcome of the exact check; ``L``/``D`` only when ``psd``."""
+    """Outcome of the exact check; ``L``/``D`` only when ``psd`` (``L`` built on first use)."""
 
     psd: bool
-    L: list[list[flint.fmpq]] | None = None
+    _L: list[list[flint.fmpq]] | None = None
     D: list[flint.fmpq] | None = None
     reason: str | None = None
     row: int | None = None
+    _fflu: tuple[object, list] | None = field(default=None, repr=False)
+
+    @property
+    def L(self) -> list[list[flint.fmpq]] | None:
+        if self._L is None and self._fflu is not None:
+            lu, minors = self._fflu
+            n = len(minors)
+            one, zero = flint.fmpq(1), flint.fmpq(0)
+            self._L = [
+                [flint.fmpq(lu[i, k], minors[k]) for k in range(i)] + [one] + [zero] * (n - i - 1)
+                for i in range(n)
+            ]
+        return self._L
 
     @property
     def positive_definite(self) -> bool:
@@ -49,25 +61,30 @@ def _as_rows(q: object) -> list[list[flint.fmpq]]:
     return [[to_fmpq(x) for x in row] for row in q]  # type: ignore[union-attr]
 
 
-def ldl_psd(q: object, names: Sequence[str] | None = None) -> LdlResult:
-    """Exact PSD decision with factors; ``names`` label rows in the reason (e.g. monomials)."""
+def ldl_psd(q: object, names: Sequence[str] | Callable[[int], str] | None = None) -> LdlResult:
+    """Exact PSD decision with factors; ``names`` label rows in the reason (e.g. monomials).
+
+    ``names`` may be a callable ``row -> name`` so that names are made only when needed.
+    """
     rows = _as_rows(q)
     n = len(rows)
     if any(len(r) != n for r in rows):
         return LdlResult(False, reason="matrix is not square")
-    label = (lambda i: f"row {i} ({names[i]})") if names else (lambda i: f"row {i}")
-    for i in range(n):
-        for j in range(i):
-            if rows[i][j] != rows[j][i]:
-                return LdlResult(False, reason=f"matrix is not symmetric at {label(i)}", row=i)
+    if callable(names):
+        label = lambda i: f"row {i} ({names(i)})"  # noqa: E731
+    elif names:
+        label = lambda i: f"row {i} ({names[i]})"  # noqa: E731
+    else:
+        label = lambda i: f"row {i}"  # noqa: E731
     if n == 0:
-        return LdlResult(True, L=[], D=[])
-    den = 1
-    for r in rows:
-        for x in r:
-            den = lcm(den, int(x.q))
-    ints = [int(x * den) for r in rows for x in r]
-    mz = flint.fmpz_mat(n, n, ints)
+        return LdlResult(True, _L=[], D=[])
+    mq = flint.fmpq_mat(rows)
+    if mq != mq.transpose():
+        for i in range(n):
+            for j in range(i):
+                if rows[i][j] != rows[j][i]:
+                    return LdlResult(False, reason=f"matrix is not symmetric at {label(i)}", row=i)
+    mz, den = mq.numer_denom()  # integer matrix over one common denominator
     lu, _d, perm, rank = mz._fflu()
     if list(perm) == list(range(n)) and rank == n:
         minors = [lu[k, k] for k in range(n)]
@@ -77,14 +94,7 @@ def ldl_psd(q: object, names: Sequence[str] | None = None) -> LdlResult:
         dvals = [flint.fmpq(minors[0], den)] + [
             flint.fmpq(minors[k], minors[k - 1] * den) for k in range(1, n)
         ]
-        lmat = [
-            [
-                flint.fmpq(lu[i, k], minors[k]) if i > k else flint.fmpq(int(i == k))
-                for k in range(n)
-            ]
-            for i in range(n)
-        ]
-        return LdlResult(True, L=lmat, D=dvals)
+        return LdlResult(True, D=dvals, _fflu=(lu, minors))
     return _ldl_plain(rows, label)
 
 
@@ -112,4 +122,4 @@ def _ldl_plain(rows: list[list[flint.fmpq]], label) -> LdlResult:
         for i, r in enumerate(ratio):
             lmat[k + 1 + i][k] = r
         s[k + 1 :, k + 1 :] = s[k + 1 :, k + 1 :] - np.outer(ratio, col)
-    return LdlResult(True, L=lmat, D=dvals)
+    return LdlResult(True, _L=lmat, D=dvals)

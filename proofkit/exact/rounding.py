@@ -142,8 +142,7 @@ def verify_exact(
     ldls: dict[str, LdlResult] = {}
     for u in program.unknowns:
         if isinstance(u, SosPoly):
-            names = [str(program.space.monomial(e)) for e in u.basis]
-            r = ldl_psd(values[u.name], names)
+            r = ldl_psd(values[u.name], lambda i, b=u.basis: str(program.space.monomial(b[i])))
             ldls[u.name] = r
             if not r.psd:
                 return False, f"{u.name}: Gram matrix not PSD: {r.reason}", ldls

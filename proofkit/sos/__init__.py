@@ -14,7 +14,8 @@ Public names
     (``PolyExpr``) support ``+ - *`` with fixed polynomials and levels,
     ``diff`` and ``lie`` (Lie derivative along a vector field).
 ``solve_program(program, solver)``
-    cvxpy with ``"clarabel"`` or ``"scs"``; returns ``NumericSolution`` with an
+    cvxpy with ``"clarabel"``, ``"scs"`` or ``"auto"`` (default, see ``pick_solver``);
+    returns ``NumericSolution`` with an
     honest ``status``: solved, inaccurate, infeasible, unbounded or failed.
 ``solve_exactly(program)``
     the rounding/facial-reduction ladder for any program; ``ProgramOutcome``
@@ -54,7 +55,7 @@ if TYPE_CHECKING:
         SosPoly,
         Unknown,
     )
-    from proofkit.sos.solve import DEFAULT_SOLVER, NumericSolution, solve_program
+    from proofkit.sos.solve import DEFAULT_SOLVER, NumericSolution, pick_solver, solve_program
 
 # Names are loaded on first use so that importing a light sub-module (e.g.
 # proofkit.sos.poly from proofkit.exact) does not pull in cvxpy.
@@ -76,6 +77,7 @@ _WHERE = {
     "SosPoly": "program",
     "Unknown": "program",
     "DEFAULT_SOLVER": "solve",
+    "pick_solver": "solve",
     "NumericSolution": "solve",
     "solve_program": "solve",
 }
@@ -97,6 +99,7 @@ __all__ = [
     "decompose",
     "full_basis",
     "newton_basis",
+    "pick_solver",
     "prune_diagonal",
     "solve_exactly",
     "solve_program",

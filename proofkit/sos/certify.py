@@ -30,7 +30,7 @@ from proofkit.exact.rounding import DENOMINATOR_LADDER, ExactSolution, round_pro
 from proofkit.sos.basis import newton_basis
 from proofkit.sos.poly import PolySpace
 from proofkit.sos.program import SearchProgram, SosPoly
-from proofkit.sos.solve import DEFAULT_SOLVER, SOLVER_SETTINGS, NumericSolution, solve_program
+from proofkit.sos.solve import SOLVER_SETTINGS, NumericSolution, pick_solver, solve_program
 
 __all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
 
@@ -138,7 +138,7 @@ def solve_exactly(
 
     Facial reduction changes the bases of the program's Gram unknowns in place.
     """
-    order = [(solver or DEFAULT_SOLVER).lower()]
+    order = [pick_solver(program, solver)]
     order += [s for s in SOLVER_SETTINGS if s not in order]
     out = ProgramOutcome(None, None)
     out.timings = {"assembly": 0.0, "compile": 0.0, "solve": 0.0, "exact": 0.0}
@@ -273,7 +273,7 @@ def decompose(
     nv = space.nvars
     timings: dict[str, float] = {}
     if poly.is_zero():
-        return Decomposition(True, [], sp.zeros(0, 0), _ldl=LdlResult(True, L=[], D=[]))
+        return Decomposition(True, [], sp.zeros(0, 0), _ldl=LdlResult(True, _L=[], D=[]))
     if poly.total_degree() % 2:
         return _not_found(f"odd total degree {poly.total_degree()}", [], timings)
     neg = _sample_negative(poly, nv)

@@ -20,10 +20,20 @@ import numpy as np
 
 from proofkit.sos.program import Identity, Scalar, SearchProgram, SosPoly
 
-__all__ = ["DEFAULT_SOLVER", "SOLVER_SETTINGS", "NumericSolution", "solve_program"]
+__all__ = [
+    "AUTO_CLARABEL_MAX_GRAM",
+    "DEFAULT_SOLVER",
+    "SOLVER_SETTINGS",
+    "NumericSolution",
+    "pick_solver",
+    "solve_program",
+]
 
 #: Chosen from tests/perf/bench_sos.py (see tests/perf/README.md).
-DEFAULT_SOLVER = "clarabel"
+#: "auto": Clarabel (interior point, accurate on degenerate programs) while the largest
+#: Gram matrix is small, SCS (first order, far faster on big PSD blocks) above that.
+DEFAULT_SOLVER = "auto"
+AUTO_CLARABEL_MAX_GRAM = 20
 
 #: Accuracy settings per solver (tight: rounding needs accurate interior points).
 SOLVER_SETTINGS: dict[str, dict[str, object]] = {
@@ -35,6 +45,16 @@ SOLVER_SETTINGS: dict[str, dict[str, object]] = {
     },
     "scs": {"eps_abs": 1e-9, "eps_rel": 1e-9, "max_iters": 20000, "acceleration_lookback": 10},
 }
+
+
+def pick_solver(program: SearchProgram, solver: str | None = None) -> str:
+    """The concrete solver for ``solver`` (``None``/"auto" chooses by Gram size)."""
+    name = (solver or DEFAULT_SOLVER).lower()
+    if name != "auto":
+        return name
+    biggest = max((u.size for u in program.unknowns if isinstance(u, SosPoly)), default=0)
+    return "clarabel" if biggest <= AUTO_CLARABEL_MAX_GRAM else "scs"
+
 
 _STATUS = {
     cp.OPTIMAL: "solved",
@@ -100,7 +120,7 @@ def solve_program(
     settings: dict[str, object] | None = None,
 ) -> NumericSolution:
     """Assemble (if needed) and solve numerically; never raises for solver trouble."""
-    solver = (solver or DEFAULT_SOLVER).lower()
+    solver = pick_solver(program, solver)
     if solver not in SOLVER_SETTINGS:
         raise ValueError(f"unknown solver {solver!r}; choose one of {sorted(SOLVER_SETTINGS)}")
     asm = program.assemble()
