@@ -43,6 +43,8 @@ class DocumentMeta:
     certificate_name: str = "certificate.json"
 
 
+MAX_MATRIX_COLUMNS = 14  # wider Gram matrices are listed entry by entry
+
 THEOREM_NAMES = {
     "indirect-method-stability": "Lyapunov's indirect method (linearization), "
     "with the Routh–Hurwitz criterion",
@@ -252,7 +254,16 @@ def _sos_blocks(claim: dict[str, Any], appendix: list[Block]) -> list[Block]:
             )
             appendix.append(Block("heading", f"Gram matrix {gname}", 3))
         target.append(para(t(f"Gram matrix {gname} with basis "), m("z = " + z), t(":")))
-        target.append(Block("math", f"{gname} = {latex_matrix(g['matrix'])}"))
+        if len(basis) <= MAX_MATRIX_COLUMNS:
+            target.append(Block("math", f"{gname} = {latex_matrix(g['matrix'])}"))
+        else:  # too wide for one matrix: list the nonzero entries on and above the diagonal
+            entries = tuple(
+                ((t(str(i + 1)),), (t(str(j + 1)),), (m(latex_number(x)),))
+                for i, r in enumerate(g["matrix"])
+                for j, x in enumerate(r)
+                if j >= i and x != "0"
+            )
+            target.append(Block("table", header=("row", "column", "entry"), rows=entries))
         if not isinstance(res, str):
             piv, low = res
             squares = []
