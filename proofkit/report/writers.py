@@ -59,7 +59,6 @@ _TEX_ESCAPES = {
     "~": "\\textasciitilde{}",
     "<": "\\textless{}",
     ">": "\\textgreater{}",
-    "'": "\\textquotesingle{}",
 }
 
 

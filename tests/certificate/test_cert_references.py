@@ -140,3 +140,12 @@ def test_non_polynomial_model_claims_are_not_proved() -> None:
     assert "polynomial" in run.outcomes[0].detail
     assert run.certificate["model"]["vector_field"] is None
     assert full_audit_ok(run.text)
+
+
+def test_irrational_parameter_coefficient_is_not_proved() -> None:
+    # a coefficient pi is exact but not rational: outside the certificate format for now
+    run = prove_text("param a = pi\nstate x\nx' = -a*x\nequilibrium o at x = 0\nclaim o stable\n")
+    assert run.outcomes[0].status == "not proved"
+    assert run.certificate["model"]["vector_field"] is None
+    assert "rational" in run.certificate["model"]["field_note"]
+    assert full_audit_ok(run.text)
