@@ -81,6 +81,8 @@ def run(args: argparse.Namespace) -> int:
         for o in result.outcomes:
             method = f" [{o.method}]" if o.method else ""
             print(f"{o.status:>14}  {o.claim}{method}: {o.detail}")
+        proved = sum(o.status == "proved" for o in result.outcomes)
+        print(f"{proved} of {len(result.outcomes)} claim(s) proved; certificate audited exactly")
         if not result.provenance.ok:
             print("provenance problems: " + "; ".join(result.provenance.problems))
     return 0 if result.all_proved else 1
