@@ -37,10 +37,14 @@ _SPLIT = flint.fmpq(19, 37)
 
 @dataclass(frozen=True, eq=False)
 class CertifiedRoot:
-    """A box that holds exactly one zero; ``exact`` is that zero when identified."""
+    """A box that holds exactly one zero (``unique``); ``exact`` is that zero when identified.
+
+    With ``unique`` False the box was not decided, but ``exact`` is a zero for sure.
+    """
 
     box: tuple[tuple[sp.Rational, sp.Rational], ...]
     exact: tuple[sp.Expr, ...] | None
+    unique: bool = True  # False: an exact zero found in an undecided box
 
 
 @dataclass(frozen=True)
@@ -177,6 +181,7 @@ def box_search(
     found: list[Box] = []
     processed = 0
     unresolved = 0
+    undecided: list[Box] = []
     mw = flint.fmpq(min_width.numerator, min_width.denominator)
     old = flint.ctx.prec
     flint.ctx.prec = 80
@@ -205,6 +210,8 @@ def box_search(
             k = max(range(len(b)), key=lambda i: widths[i])
             if widths[k] < mw:
                 unresolved += 1
+                if len(undecided) < 64:
+                    undecided.append(b)
                 continue
             lo, hi = b[k]
             mid = lo + (hi - lo) * _SPLIT  # off-centre: rational zeros rarely sit on a face
@@ -239,7 +246,38 @@ def box_search(
                 box=tuple((_to_rational(lo), _to_rational(hi)) for lo, hi in rb), exact=exact
             )
         )
+    # undecided tiny boxes (typically a multiple zero): an exact candidate that makes f vanish
+    # identically is an equilibrium for sure, though not certified unique near it
+    seen = {r.exact for r in out if r.exact is not None}
+    extra = 0
+    for b in undecided:
+        wide = [(lo - (hi - lo), hi + (hi - lo)) for lo, hi in b]
+        exact = _identify(fs, xs, wide)
+        if exact is None or exact in seen or not _exact_in_box(exact, start):
+            continue
+        seen.add(exact)
+        extra += 1
+        out.append(
+            CertifiedRoot(
+                box=tuple((_to_rational(lo), _to_rational(hi)) for lo, hi in wide),
+                exact=exact,
+                unique=False,
+            )
+        )
+    if extra:
+        reason += (
+            f"; {extra} exact equilibria found in undecided boxes (exact zeros; no other "
+            "zero near them is excluded)"
+        )
     return BoxResult(tuple(out), complete, reason, processed)
+
+
+def _exact_in_box(point: tuple[sp.Expr, ...], box: Box) -> bool:
+    for v, (lo, hi) in zip(point, box, strict=True):
+        clo, chi = _arb_to_q(arb_value(v, 256))
+        if not (lo <= clo and chi <= hi):
+            return False
+    return True
 
 
 def _refine(kr: _Krawczyk, box: Box, rounds: int = 6) -> Box:

@@ -186,10 +186,15 @@ def _find(m: Model, limits: Limits) -> tuple[tuple[FoundPoint, ...], bool, str, 
         if root.exact is not None:
             point = dict(zip(names, root.exact, strict=True))
             exact = True
+            if not root.unique:
+                mids = {nm: float(arb_value(v, 64).mid()) for nm, v in point.items()}
+                points.append(FoundPoint(point=point, numeric=mids, exact=True))
+                continue
         else:
             point = {nm: (a + b) / 2 for nm, (a, b) in zip(names, lo_hi, strict=True)}
             exact = False
         points.append(FoundPoint(point=point, numeric=mids, enclosure=lo_hi, exact=exact))
+    points.sort(key=lambda fp: tuple(fp.numeric[nm] for nm in names))
     complete = res.complete and not limit_note
     reason = limit_note + res.reason + f" ({note})"
     if res.complete and limit_note:

@@ -159,3 +159,12 @@ def test_six_state_product_system() -> None:
     stable = [e for e in s.equilibria if e.verdict == "stable"]
     # computed by hand: a' has slope 3a^2 + 2a - 2: -2 at 0, 6 at -2, 3 at 1 -> only a = b = 0
     assert [e.point for e in stable] == [{"a": 0, "b": 0, "c": 0, "d": 0, "e": 0, "f": 0}]
+
+
+def test_multiple_zeros_of_a_non_polynomial_field_found_but_incomplete() -> None:
+    # computed by hand: x' = sin(x)^2 - y, y' = -y vanishes at (k pi, 0), each a double zero
+    # in x, so no box around them can be certified unique; the exact zeros are still found
+    s = survey(model("x y", [sp.sin(x) ** 2 - y, -y]))
+    assert not s.complete and "could not be decided" in s.complete_reason
+    assert [e.point["x"] for e in s.equilibria] == [k * sp.pi for k in range(-3, 4)]
+    assert all(e.type == "degenerate" and e.verdict == "inconclusive" for e in s.equilibria)
