@@ -20,7 +20,15 @@ from lark import Token, Tree
 
 from proofkit.errors import InputError, SourceSpan
 from proofkit.lang._diagnostics import Located, closest, make_error
-from proofkit.lang._expr import FUNCTIONS, MAX_TERMS, Binding, ExprBuilder, Val, estimate_terms
+from proofkit.lang._expr import (
+    FUNCTIONS,
+    MAX_TERMS,
+    Binding,
+    ExprBuilder,
+    Val,
+    estimate_terms,
+    show,
+)
 from proofkit.model import (
     Claim,
     Condition,
@@ -178,13 +186,14 @@ class _Builder:
             high = self.constant(rng[1], "a parameter range")
             if _leq(low, high) is not True:
                 raise self.err(
-                    f"the range [{low}, {high}] of '{tok}' is empty (low > high)", st.meta,
+                    f"the range [{show(low)}, {show(high)}] of '{tok}' is empty (low > high)",
+                    st.meta,
                     hint="write the range as [low, high]",
                 )
             if _leq(low, nominal) is not True or _leq(nominal, high) is not True:
                 raise self.err(
-                    f"the nominal value {nominal} of '{tok}' is not in its range "
-                    f"[{low}, {high}]",
+                    f"the nominal value {show(nominal)} of '{tok}' is not in its range "
+                    f"[{show(low)}, {show(high)}]",
                     st.meta,
                     hint="the nominal value must satisfy low <= nominal <= high",
                 )
@@ -382,9 +391,7 @@ class _Builder:
 
 
 def _plain(e: sp.Expr) -> str:
-    from proofkit.lang._printer import format_expr
-
-    return format_expr(sp.expand(e))
+    return show(sp.expand(e), 200)
 
 
 def _is_zero(e: sp.Expr) -> bool | None:

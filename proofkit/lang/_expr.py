@@ -33,6 +33,7 @@ __all__ = [
     "Val",
     "estimate_terms",
     "exact_number",
+    "show",
 ]
 
 MAX_EXPONENT = 64  # largest |n| in x^n
@@ -118,6 +119,17 @@ def exact_number(text: str, where: Located, line: int, column: int) -> sp.Ration
     if power >= 0:
         return sp.Integer(n * 10**power)
     return sp.Rational(n, 10**-power)
+
+
+def show(e: sp.Expr, width: int = 60) -> str:
+    """``e`` in model syntax for a message, shortened to about ``width`` characters."""
+    from proofkit.lang._printer import format_expr
+
+    try:
+        text = format_expr(e)
+    except ValueError:  # pragma: no cover - a form the printer does not know
+        text = str(e)
+    return text if len(text) <= width else text[: width - 4] + " ..."
 
 
 def _comb_capped(n: int, k: int, cap: int) -> int:
@@ -344,13 +356,14 @@ class ExprBuilder(Transformer):
             )
         if not e.is_Rational:
             raise self._err_val(
-                f"the exponent {e} is not a rational number", exp,
+                f"the exponent {show(e)} is not a rational number", exp,
                 hint="exponents must be integers or fractions such as 1/2",
             )
         p, q = int(e.p), int(e.q)
         if abs(p) > MAX_EXPONENT or q > MAX_EXPONENT:
             raise self._err_val(
-                f"the exponent {e} exceeds the limit of {MAX_EXPONENT} in absolute value", exp,
+                f"the exponent {show(e)} exceeds the limit of {MAX_EXPONENT} in absolute value",
+                exp,
                 hint="a file may not ask for huge powers",
                 limit=True,
             )
