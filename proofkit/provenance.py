@@ -33,7 +33,7 @@ def _norm_poly(p: Any) -> Any:
         return p
     try:
         return sorted((tuple(t[0]), t[1]) for t in p)
-    except (TypeError, IndexError):
+    except (TypeError, IndexError, KeyError):
         return p
 
 

@@ -115,6 +115,8 @@ class AuditReport:
 # --- reading -------------------------------------------------------------------
 def _only_keys(obj: dict[str, Any], allowed: set[str], where: str) -> None:
     """Reject keys the audit does not check: no unchecked field may carry a number."""
+    if not isinstance(obj, dict):
+        raise FormatError(f"{where}: expected an object")
     extra = sorted(set(obj) - allowed)
     if extra:
         raise FormatError(f"{where}: unknown key(s) {extra}; the audit checks no such field")
@@ -284,7 +286,11 @@ def _check_sos(claim: dict[str, Any], kind: str, ctx: _Context, where: str) -> N
     ev = _get(claim, "evidence", dict, where)
     w = f"{where}.evidence"
     _only_keys(ev, {"variables", "polynomials", "gram_matrices", "identities"}, w)
+    if claim.get("number_field") is not None:
+        raise FormatError(f"{where}.number_field: sum-of-squares evidence is rational")
     polys, identities = _read_identities(ev, ctx, w)
+    wanted = "p >= 0 for all real " + ", ".join(ev["variables"])
+    _require(claim["statement"] == wanted, "statement", f"the statement must read {wanted!r}")
     _require("p" in polys, "evidence", "no polynomial named p")
     ok = any(
         len(ident["target"]) == 1
@@ -301,6 +307,10 @@ def _read_identities(
 ) -> tuple[dict[str, Poly], list[dict[str, Any]]]:
     """Check every identity ``sum c_i P_i == sum M_j * (z_j' G_j z_j)``, each G_j PSD."""
     names = _get(ev, "variables", list, w)
+    if not all(isinstance(v, str) and v.isidentifier() for v in names) or len(set(names)) != len(
+        names
+    ):
+        raise FormatError(f"{w}.variables: expected distinct variable names")
     nv = len(names)
     polys = {
         k: _poly(v, nv, 0, f"{w}.polynomials.{k}")
@@ -398,6 +408,31 @@ CHECKERS: dict[str, Callable[[dict[str, Any], str, _Context, str], None]] = {
 }
 
 
+def _check_model_shape(model: dict[str, Any], nvars: int) -> None:
+    """Shapes of the fields that the provenance step compares with the source."""
+    for k, par in enumerate(_get(model, "parameters", list, "model")):
+        w = f"model.parameters[{k}]"
+        _only_keys(par, {"name", "nominal", "range"}, w)
+        _get(par, "name", str, w)
+        _get(par, "nominal", str, w)
+        rng = par.get("range")
+        if rng is not None and not (
+            isinstance(rng, list) and len(rng) == 2 and all(isinstance(x, str) for x in rng)
+        ):
+            raise FormatError(f"{w}.range: expected null or [low, high]")
+    domain = model.get("domain")
+    if domain is not None:
+        if not isinstance(domain, list):
+            raise FormatError("model.domain: expected null or a list of conditions")
+        for k, cond in enumerate(domain):
+            w = f"model.domain[{k}]"
+            _only_keys(cond, {"g", "strict"}, w)
+            _poly(_get(cond, "g", list, w), nvars, 0, f"{w}.g")
+            _get(cond, "strict", bool, w)
+    for key in ("source", "source_sha256"):
+        _get(model, key, str, "model")
+
+
 # --- the whole certificate ----------------------------------------------------------
 def audit_certificate(data: Any) -> AuditReport:
     """Audit a parsed certificate; raises :class:`FormatError` when it is malformed."""
@@ -405,6 +440,10 @@ def audit_certificate(data: Any) -> AuditReport:
         raise FormatError("a certificate is a JSON object")
     version = _get(data, "proofkit_certificate", int, "certificate")
     _only_keys(data, {"proofkit_certificate", "generator", "model", "claims"}, "certificate")
+    generator = _get(data, "generator", dict, "certificate")
+    _only_keys(generator, {"program", "version"}, "generator")
+    _get(generator, "program", str, "generator")
+    _get(generator, "version", str, "generator")
     if version != FORMAT_VERSION:
         raise FormatError(f"certificate format {version} is not supported (expected 1)")
     model = data.get("model")
@@ -420,6 +459,7 @@ def audit_certificate(data: Any) -> AuditReport:
             if not isinstance(raw, list) or len(raw) != len(states):
                 raise FormatError("model.vector_field: one polynomial per state")
             vf = [_poly(p, len(states), 0, f"model.vector_field[{i}]") for i, p in enumerate(raw)]
+        _check_model_shape(model, len(states))
     verdicts = []
     status_word = {"proved": "accepted", "refuted": "refuted"}
     for k, claim in enumerate(_get(data, "claims", list, "certificate")):

@@ -122,7 +122,10 @@ def parse_number(value: object, d: int, where: str) -> Num:
             raise FormatError(f"{where}: a pair [a, b] needs a declared number field")
         if len(value) != 2:
             raise FormatError(f"{where}: expected a pair [a, b] meaning a + b*sqrt({d})")
-        return Num(_rational(value[0], where), _rational(value[1], where), d)
+        b = _rational(value[1], where)
+        if b == 0:
+            raise FormatError(f'{where}: write a rational as a string, not as a pair [a, "0"]')
+        return Num(_rational(value[0], where), b, d)
     return Num(_rational(value, where), Fraction(0), d)
 
 

@@ -157,3 +157,54 @@ def test_flipping_a_strict_domain_condition_is_rejected(certificates) -> None:
         cond = mutated["model"]["domain"][i]
         cond["strict"] = not cond["strict"]
         assert not full_audit_ok(dumps(mutated))
+
+
+def _all_paths(obj, path=()):
+    out = [path]
+    if isinstance(obj, dict):
+        for k, v in obj.items():
+            out += _all_paths(v, (*path, k))
+    elif isinstance(obj, list):
+        for i, v in enumerate(obj):
+            out += _all_paths(v, (*path, i))
+    return out
+
+
+json_values = st.recursive(
+    st.none() | st.booleans() | st.integers(-3, 3) | st.sampled_from(["0", "1/2", "x", ""]),
+    lambda inner: (
+        st.lists(inner, max_size=3) | st.dictionaries(st.text(max_size=3), inner, max_size=2)
+    ),
+    max_leaves=5,
+)
+
+
+@given(
+    name=st.sampled_from(["bistable", "sqrt", "sos", "params"]),
+    index=st.integers(min_value=0, max_value=10_000),
+    value=json_values,
+)
+def test_structural_garbage_is_malformed_or_rejected_never_a_crash(
+    certificates, name, index, value
+) -> None:
+    from proofkit.audit import FormatError, audit_certificate
+    from proofkit.provenance import check_provenance
+
+    cert = certificates[name]
+    paths = [p for p in _all_paths(cert) if p]
+    path = paths[index % len(paths)]
+    mutated = copy.deepcopy(cert)
+    set_in(mutated, path, value)
+    if get_in(cert, path) == value:
+        return
+    try:
+        report = audit_certificate(mutated)
+    except FormatError:
+        return
+    prov = check_provenance(mutated)  # must not raise either
+    # the only harmless edits: free text no check relies on, or a certificate left
+    # claiming nothing at all
+    if report.accepted and prov.ok:
+        claims_something = any(c.status in ("accepted", "refuted") for c in report.claims)
+        free_text = ("file", "name", "reason", "field_note", "domain_note", "version", "program")
+        assert path[-1] in free_text or not claims_something, path
