@@ -110,6 +110,8 @@ def _describe_token(tok: Token) -> str:
         return f"the number {tok}"
     if tok.type == "STRING":
         return "quoted text"
+    if tok.type == "PRIME":
+        return "a prime (')"
     if str(tok) in KEYWORDS:
         return f"the word '{tok}'"
     return f"'{tok}'"
@@ -137,15 +139,29 @@ def _token_error(
             "a statement starts with system, const, param, state, let, domain, "
             "equilibrium, claim, or a state name followed by ' (as in x' = ...)"
         )
-    elif ptype == "NUMBER" and tok.type in {"NAME", "LPAR"}:
+    elif tok.type == "PRIME" and ptype == "PRIME":
+        hint = (
+            "models are first order: give the rate its own state, e.g. state x, v with "
+            "x' = v and v' = ..."
+        )
+    elif (
+        tok.type == "MULOP" and str(tok) == "/" and at_statement_start
+        and prev is not None and str(prev).startswith("d")
+    ):
+        state = str(prev)[1:] or "x"
+        hint = f"write the time derivative of {state} as {state}' = ..."
+    elif ptype == "NUMBER" and tok.type in {"NAME", "LPAR"} and "MULOP" in expected:
         hint = f"write {prev}*{tok} for a product: multiplication is never implicit"
         message = f"a number directly followed by {_describe_token(tok)}; expected {words}"
     elif (
         ptype in {"NAME", "RPAR", "NUMBER"}
         and tok.type in {"NAME", "NUMBER", "LPAR"}
         and not (tok.type == "NUMBER" and ptype == "NUMBER")
+        and "MULOP" in expected
     ):
         hint = f"put an operator between {prev} and {tok}, e.g. {prev}*{tok}"
+    elif tok.type == "NAME" and "COMMA" in expected and "MULOP" not in expected:
+        hint = f"separate the names with commas: {prev}, {tok}"
     elif tok.type in _keyword_types() and "NAME" in expected:
         hint = f"'{tok}' is a reserved word of the language and cannot be used as a name"
     elif tok.type == "EQUAL" and "REL" in expected:

@@ -77,6 +77,15 @@ def test_assignment_instead_of_equation() -> None:
     fails("state x\nx = 1\n", 2, 3, "expected a prime", "x' = ...")
 
 
+def test_statement_shape_hints() -> None:
+    fails("state x y\n", 1, 9, "expected ',' or the end of the line", "separate the names")
+    fails("state x\nx'' = 1\n", 2, 3, "found a prime", "first order")
+    fails("state x\ndx/dt = 1\n", 2, 3, "expected a prime", "x' = ...")
+    err = fails("state x\nx' = -x\nequilibrium E at x = 0\nclaim E is stable\n", 4, 9,
+                "expected 'attracts', 'globally', 'stable' or 'unstable', found the name 'is'")
+    assert "operator" not in (err.hint or "")
+
+
 def test_unexpected_character() -> None:
     fails("state x; x' = -x\n", 1, 8, "unexpected character ';'", "one statement per line")
     fails("state x\nx' = x & 1\n", 2, 8, "unexpected character '&'", "'and'")
