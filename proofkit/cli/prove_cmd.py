@@ -73,8 +73,12 @@ def run(args: argparse.Namespace) -> int:
     result = prove_model(model, progress)
     if args.out:
         command = f"proofkit prove {args.file} --out {args.out}"
-        for path in write_outputs(result, Path(args.out), command):
-            progress(f"wrote {path}")
+        try:
+            for path in write_outputs(result, Path(args.out), command):
+                progress(f"wrote {path}")
+        except OSError as exc:
+            print(f"error: cannot write into {args.out}: {exc}", file=sys.stderr)
+            return 2
     if args.json:
         print(json.dumps({"claims": [o.as_json() for o in result.outcomes]}, indent=2))
     else:
