@@ -10,6 +10,7 @@ Nothing here decides a sign, an equality or a verdict from floating point.
 
 from proofkit.analysis.equilibria import FoundPoint, Limits
 from proofkit.analysis.lyapunov import LyapunovSolution, solve_lyapunov
+from proofkit.analysis.parametric import ParametricResult, parametric_stability
 from proofkit.analysis.routh import RouthArray, routh_array
 from proofkit.analysis.surveying import (
     ClaimCheck,
@@ -26,10 +27,12 @@ __all__ = [
     "FoundPoint",
     "Limits",
     "LyapunovSolution",
+    "ParametricResult",
     "RouthArray",
     "Survey",
     "check_claim",
     "find_equilibria",
+    "parametric_stability",
     "routh_array",
     "solve_lyapunov",
     "survey",

@@ -38,6 +38,7 @@ from proofkit.analysis.equilibria import (
 )
 from proofkit.analysis.intervals import arb_value, compile_arb
 from proofkit.analysis.lyapunov import LyapunovSolution, solve_lyapunov_in
+from proofkit.analysis.parametric import ParametricResult
 from proofkit.analysis.routh import RouthArray, routh_array_in
 from proofkit.model import Claim, Model
 
@@ -561,18 +562,42 @@ class ClaimCheck:
     status: Literal["proved", "not proved", "refuted"]
     reason: str
     evidence: EquilibriumReport | None
+    parametric: ParametricResult | None = None  # the proof over parameter ranges, if used
+
+
+def _names(s: Survey) -> set[str]:
+    return {e.name for e in s.equilibria if e.name}
 
 
 def check_claim(model: Model, s: Survey, claim: Claim) -> ClaimCheck:
-    """Decide ``claim E stable`` / ``claim E unstable`` from the linearization at nominal values."""
+    """Decide ``claim E stable`` / ``claim E unstable`` from the linearization.
+
+    At nominal values when the model has no uncertain parameter or the claim says
+    ``at nominal``; otherwise ``stable`` is decided over the whole parameter box by
+    :func:`~proofkit.analysis.parametric.parametric_stability`.
+    """
     if claim.kind not in ("stable", "unstable"):
         return ClaimCheck(claim.text, "not proved", "not a linearization claim", None)
     if any(p.is_uncertain for p in model.params) and not claim.at_nominal:
+        if claim.kind == "stable" and claim.target is not None:
+            from proofkit.analysis.parametric import parametric_stability
+
+            try:
+                pr = parametric_stability(model, claim.target)
+            except KeyError:
+                pr = None
+            if pr is not None and pr.status in ("proved", "refuted"):
+                evidence = s.by_name(claim.target) if claim.target in _names(s) else None
+                return ClaimCheck(claim.text, pr.status, pr.reason, evidence, pr)
+            why = pr.reason if pr is not None else f"no equilibrium named {claim.target}"
+            return ClaimCheck(
+                claim.text, "not proved", f"over the parameter ranges: {why}", None, pr
+            )
         return ClaimCheck(
             claim.text,
             "not proved",
             "the analysis is at nominal parameter values; the claim must hold over the "
-            "parameter ranges and parametric proofs are not available yet",
+            "parameter ranges and parametric proofs of instability are not available yet",
             None,
         )
     try:

@@ -111,8 +111,20 @@ def test_claims_from_linearization_and_parameter_ranges() -> None:
     assert c.status == "proved" and "indirect method" in c.reason
     c = check_claim(m, s, Claim("unstable", "o unstable", target="o"))
     assert c.status == "refuted"
+    # computed by hand: eigenvalues -k and -1, so stable for every k in [1, 3] ...
     ranged = replace(m, params=(Param("k", sp.Integer(2), sp.Integer(1), sp.Integer(3)),))
     c = check_claim(ranged, survey(ranged), Claim("stable", "o stable", target="o"))
+    assert c.status == "proved" and "Hurwitz determinant" in c.reason
+    # ... not for k in [-1, 3]: at k = -1 an eigenvalue is +1
+    wide = replace(m, params=(Param("k", sp.Integer(2), sp.Integer(-1), sp.Integer(3)),))
+    c = check_claim(wide, survey(wide), Claim("stable", "o stable", target="o"))
+    assert c.status == "refuted" and c.parametric is not None
+    assert c.parametric.counterexample == {"k": -1}
+    # ... and at k = 0 (range [0, 3]) an eigenvalue is 0: neither proved nor refuted
+    edge = replace(m, params=(Param("k", sp.Integer(2), sp.Integer(0), sp.Integer(3)),))
+    c = check_claim(edge, survey(edge), Claim("stable", "o stable", target="o"))
+    assert c.status == "not proved" and "imaginary axis" in c.reason
+    c = check_claim(edge, survey(edge), Claim("unstable", "o unstable", target="o"))
     assert c.status == "not proved" and "parameter" in c.reason
     c = check_claim(
         ranged, survey(ranged), Claim("stable", "o stable at nominal", target="o", at_nominal=True)
