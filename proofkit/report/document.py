@@ -53,6 +53,20 @@ THEOREM_NAMES = {
     "sum-of-squares": "sum-of-squares decomposition with a positive semidefinite Gram matrix",
 }
 
+_ROUTH = (
+    "Routh's theorem: when no first-column entry of the Routh array is zero, the number of "
+    "sign changes in the first column equals the number of roots in the open right half plane."
+)
+THEOREM_TEXT = {
+    "indirect-method-stability": "If every eigenvalue of the Jacobian at an equilibrium has "
+    "negative real part, the equilibrium of the nonlinear system is locally exponentially "
+    "stable. " + _ROUTH,
+    "indirect-method-instability": "If some eigenvalue of the Jacobian at an equilibrium has "
+    "positive real part, the equilibrium of the nonlinear system is unstable. " + _ROUTH,
+    "sum-of-squares": "If p = z'Gz with G positive semidefinite, then p = sum of d_k (l_k' z)^2 "
+    "with d_k >= 0 (LDL'), so p >= 0 at every real point.",
+}
+
 CAUTIONS = (
     "The proof covers the model as written, not the physical plant. Unmodelled dynamics, "
     "sampling, time delays, actuator saturation, quantisation and parameter drift can void it.",
@@ -336,7 +350,9 @@ def build_document(cert: dict[str, Any], audit: AuditReport, meta: DocumentMeta)
             para(
                 t("Theorem applied: "),
                 t(THEOREM_NAMES[c["theorem"]]),
-                t(". Its hypotheses, each re-checked by the audit:"),
+                t(". "),
+                t(THEOREM_TEXT[c["theorem"]]),
+                t(" Its hypotheses, each re-checked by the audit:"),
             )
         )
         blocks.append(Block("checks", items=tuple((t(s),) for s in v.checked)))
