@@ -360,11 +360,12 @@ def _read_identities(
         _require(m == transpose(m), "gram", f"{gname} is not symmetric")
         res = ldl_pivots(m)
         _require(not isinstance(res, str), "gram", f"{gname} is not PSD: {res}")
-        form: Poly = {}
+        form: Poly = {}  # z' G z = sum over i, j of G_ij z_i z_j
         for i, mi in enumerate(mons):
             for j, mj in enumerate(mons):
-                form = poly_add(form, {tuple(a + b for a, b in zip(mi, mj, strict=True)): m[i][j]})
-        grams[gname] = form
+                e = tuple(a + b for a, b in zip(mi, mj, strict=True))
+                form[e] = form[e] + m[i][j] if e in form else m[i][j]
+        grams[gname] = poly_add(form, {})  # drops the coefficients that cancelled
     ctx.ok(f"{len(grams)} Gram matrix(es) symmetric and PSD by exact LDL'")
 
     identities = []
