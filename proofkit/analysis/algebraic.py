@@ -380,14 +380,17 @@ def field_of_exprs(exprs: Iterable[sp.Expr]) -> tuple[RealAlgebraicField, list[A
         K = RealAlgebraicField()
         return K, [K(v) for v in values]
     for v in irr:
-        if not v.is_algebraic:
+        if v.is_algebraic is False:
             raise ValueError(f"not an algebraic number: {v}")
         if v.is_real is False:
             raise ValueError(f"not a real number: {v}")
     from sympy.polys.numberfields.subfield import primitive_element
 
     uniq = list(dict.fromkeys(irr))
-    g, coeffs, reps = primitive_element(uniq, _X, ex=True)
+    try:
+        g, coeffs, reps = primitive_element(uniq, _X, ex=True)
+    except (sp.polys.polyerrors.NotAlgebraic, NotImplementedError) as err:
+        raise ValueError(f"not real algebraic numbers: {uniq}") from err
     gpoly = sp.Poly(g, _X, domain=sp.QQ)
     if gpoly.degree() == 1:
         raise ValueError("internal: irrational numbers with a rational primitive element")

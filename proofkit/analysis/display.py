@@ -39,14 +39,13 @@ def exact_text(v: object) -> str:
 
 
 def _entry(e: EquilibriumReport) -> dict[str, Any]:
-    jac = (
-        [[exact_text(v) for v in row] for row in e.jacobian_enclosure]
-        if e.jacobian_enclosure is not None
-        else [
+    if e.exact or e.jacobian_enclosure is None:
+        jac = [
             [exact_text(e.jacobian[i, j]) for j in range(e.jacobian.cols)]
             for i in range(e.jacobian.rows)
         ]
-    )
+    else:  # known only in a box: certified enclosures "[lo, hi]"
+        jac = [[exact_text(v) for v in row] for row in e.jacobian_enclosure]
     return {
         "name": e.name,
         "point": {k: exact_text(v) for k, v in e.point.items()},
@@ -59,7 +58,7 @@ def _entry(e: EquilibriumReport) -> dict[str, Any]:
         ),
         "jacobian": jac,
         "eigenvalues": [[float(z.real), float(z.imag)] for z in e.eigenvalues],
-        "rhp_count": e.routh.rhp_count,
+        "rhp_count": e.routh.rhp_count,  # -1: not decided (interval signs uncertain)
         "verdict": e.verdict,
         "type": e.type,
     }

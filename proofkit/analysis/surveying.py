@@ -409,13 +409,18 @@ def _enclosure_report(
         verdict=verdict,
         type=kind,
         lyapunov=None,
-        exact=False,
+        exact=fp.exact,
         enclosure=fp.enclosure,
         jacobian_enclosure=J_int,
         field_degree=0,
-        note="the equilibrium is known to lie in a certified box (exactly one there); "
-        "point and jacobian are at the box centre (display only); the verdict, the "
-        "characteristic polynomial and the Routh array are certified enclosures over the box",
+        note=(
+            "the point is exact but its Jacobian is not algebraic: the verdict, the "
+            "characteristic polynomial and the Routh array are certified ball enclosures"
+            if fp.exact
+            else "the equilibrium is known to lie in a certified box (exactly one there); "
+            "point and jacobian are at the box centre (display only); the verdict, the "
+            "characteristic polynomial and the Routh array are certified enclosures over the box"
+        ),
     )
 
 
@@ -472,6 +477,17 @@ def _in_enclosure(point: dict[str, sp.Expr], fp: FoundPoint) -> bool:
         if not (_fq(a) <= lo and hi <= _fq(b)):
             return False
     return True
+
+
+def _with_enclosure(fp: FoundPoint) -> FoundPoint:
+    """The point with a tiny certified box around its exact coordinates, if it has none."""
+    if fp.enclosure is not None:
+        return fp
+    box = []
+    for v in fp.point.values():
+        lo, hi = _arb_to_q(arb_value(v, 256))
+        box.append((sp.Rational(int(lo.p), int(lo.q)), sp.Rational(int(hi.p), int(hi.q))))
+    return FoundPoint(point=fp.point, numeric=fp.numeric, enclosure=tuple(box), exact=fp.exact)
 
 
 def _in_box(point: dict[str, sp.Expr], box: list[tuple[sp.Rational, sp.Rational]]) -> bool:
@@ -531,22 +547,16 @@ def survey(model: Model, limits: Limits | None = None) -> Survey:
         if fp.exact:
             rep = _report_for_exact_point(nm, m, point, numeric, Jsym, fp)
         if rep is None:
-            rep = _enclosure_report(nm, m, fp, Jsym)
+            rep = _enclosure_report(nm, m, _with_enclosure(fp), Jsym)
         reports.append(rep)
     for nm, dp in extra:
         numeric = {k: float(arb_value(v, 64).mid()) for k, v in dp.items()}
         fp_decl = FoundPoint(point=dp, numeric=numeric)
-        rep = _report_for_exact_point(
-            nm,
-            m,
-            dp,
-            numeric,
-            Jsym,
-            fp_decl,
-            note="a declared equilibrium outside the searched part of the state space",
-        )
-        if rep is not None:
-            reports.append(rep)
+        note = "a declared equilibrium outside the searched part of the state space"
+        rep = _report_for_exact_point(nm, m, dp, numeric, Jsym, fp_decl, note=note)
+        if rep is None:
+            rep = _enclosure_report(nm, m, _with_enclosure(fp_decl), Jsym)
+        reports.append(rep)
     timings["linearize"] = time.perf_counter() - t0
     return Survey(tuple(reports), complete, reason, True, method, timings)
 

@@ -147,3 +147,14 @@ def test_declared_point_outside_the_search_box_is_still_analysed() -> None:
     assert s.complete and len(s.equilibria) == 8
     e = s.by_name("far")
     assert e.point["x"] == 4 * sp.pi and e.type == "stable focus" and "outside" in e.note
+
+
+def test_exact_zero_with_transcendental_jacobian_gets_an_enclosure_verdict() -> None:
+    # computed by hand: x' = (x - 1)^2 - y e^x, y' = -y has the double zero (1, 0), which the
+    # box search cannot certify; J(1, 0) = [[0, -e], [0, -1]] is not algebraic, so the verdict
+    # comes from ball arithmetic: det J = 0 cannot be signed, no verdict (a zero eigenvalue)
+    s = survey(model("x y", [(x - 1) ** 2 - y * sp.exp(x), -y]))
+    assert not s.complete
+    e = next(e for e in s.equilibria if e.point == {"x": 1, "y": 0})
+    assert e.exact and e.jacobian_enclosure is not None and "not algebraic" in e.note
+    assert e.verdict == "inconclusive" and e.lyapunov is None
