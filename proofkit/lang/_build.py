@@ -22,11 +22,14 @@ from proofkit.errors import InputError, SourceSpan
 from proofkit.lang._diagnostics import Located, closest, make_error
 from proofkit.lang._expr import (
     FUNCTIONS,
+    MAX_EXPR_DEPTH,
+    MAX_NODES,
     MAX_TERMS,
     Binding,
     ExprBuilder,
     Val,
     estimate_terms,
+    expression_size,
     show,
 )
 from proofkit.model import (
@@ -118,8 +121,22 @@ class _Builder:
     def expr(self, tree: Any, allowed: frozenset[str], purpose: str) -> Val:
         later = {n: ln for n, ln in self.first_decl.items() if n not in self.env}
         v = ExprBuilder(self.where, self.env, allowed, purpose, later).build(tree)
+        end = v.end_column if v.end_line == v.line else None
+        nodes, depth = expression_size(v.expr)
+        if nodes > MAX_NODES or depth > MAX_EXPR_DEPTH:
+            what = (
+                f"more than {MAX_NODES} operations" if nodes > MAX_NODES
+                else f"nesting deeper than {MAX_EXPR_DEPTH} levels"
+            )
+            raise make_error(
+                self.where,
+                f"this expression has {what} once its shorthands are substituted",
+                v.line, v.column, end,
+                hint="shorthands that use earlier shorthands several times grow quickly; "
+                "simplify the model",
+                limit=True,
+            )
         if estimate_terms(v.expr) > MAX_TERMS:
-            end = v.end_column if v.end_line == v.line else None
             raise make_error(
                 self.where,
                 f"this expression could have more than {MAX_TERMS} terms once expanded",

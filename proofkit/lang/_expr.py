@@ -27,12 +27,15 @@ from proofkit.lang._diagnostics import Located, closest, make_error
 __all__ = [
     "FUNCTIONS",
     "MAX_EXPONENT",
+    "MAX_EXPR_DEPTH",
+    "MAX_NODES",
     "MAX_TERMS",
     "Binding",
     "ExprBuilder",
     "Val",
     "estimate_terms",
     "exact_number",
+    "expression_size",
     "show",
 ]
 
@@ -41,6 +44,8 @@ MAX_TERMS = 10_000  # terms of an expanded right-hand side or condition
 MAX_LITERAL_DIGITS = 1000
 MAX_LITERAL_EXPONENT = 1000  # |e| in a literal like 1e-3
 MAX_NUMBER_BITS = 100_000  # size of an exact number produced by a power
+MAX_NODES = 100_000  # operations in one expression once shorthands are substituted
+MAX_EXPR_DEPTH = 200  # depth of one expression once shorthands are substituted
 
 FUNCTIONS: dict[str, Callable[[sp.Expr], sp.Expr]] = {
     "sin": sp.sin,
@@ -197,6 +202,33 @@ def estimate_terms(expr: sp.Expr, cap: int = MAX_TERMS) -> int:
     if not opaque and expr.free_symbols:
         terms = min(terms, _comb_capped(len(expr.free_symbols) + deg, deg, cap))
     return min(max(terms, worst), cap + 1)
+
+
+def expression_size(expr: sp.Expr, cap: int = MAX_NODES) -> tuple[int, int]:
+    """(number of nodes counted with repetition, depth) of ``expr``, capped at ``cap + 1``.
+
+    Shorthands may share subexpressions, so a file can describe a tree far
+    larger than itself; sympy's own walks (``subs``, ``has``) do not share
+    work, so this bound is what keeps them fast. The walk itself is memoised
+    and iterative.
+    """
+    memo: dict[sp.Basic, tuple[int, int]] = {}
+    stack: list[tuple[sp.Basic, bool]] = [(expr, False)]
+    while stack:
+        node, ready = stack.pop()
+        if node in memo:
+            continue
+        if not ready:
+            stack.append((node, True))
+            stack.extend((a, False) for a in node.args if a not in memo)
+            continue
+        size, depth = 1, 1
+        for a in node.args:
+            s, d = memo[a]
+            size = min(size + s, cap + 1)
+            depth = max(depth, d + 1)
+        memo[node] = (size, depth)
+    return memo[expr]
 
 
 def _pos(meta: Any) -> tuple[int, int, int, int]:

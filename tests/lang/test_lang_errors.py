@@ -271,6 +271,17 @@ def test_nesting_limit() -> None:
     parse_model("state x\nx' = " + "-(" * 40 + "x" + ")" * 40 + "\n")
 
 
+def test_shorthands_that_double_the_expression_are_stopped() -> None:
+    # each shorthand uses the previous one twice: 2^40 nodes if substituted blindly
+    lets = "".join(f"let a{i + 1} = sin(a{i}) + cos(a{i})\n" for i in range(40))
+    text = "state x\nlet a0 = x\n" + lets + "x' = a40\n"
+    err = fails(text, 17, 11, "more than 100000 operations", "shorthands", limit=True)
+    assert "substituted" in err.message
+    chain = "".join(f"let b{i + 1} = sin(b{i})\n" for i in range(300))
+    fails("state x\nlet b0 = x\n" + chain + "x' = b300\n", 202, 12,
+          "nesting deeper than 200 levels", limit=True)
+
+
 def test_number_size_limits() -> None:
     fails("state x\nx' = 1e99999*x\n", 2, 6, "the exponent of 1e99999 is too large", limit=True)
     fails("state x\nx' = " + "9" * 1001 + "*x\n", 2, 6, "1001 digits", limit=True)
