@@ -87,13 +87,19 @@ def _deadline(seconds: float) -> Iterator[None]:
     def handler(signum: int, frame: object) -> None:
         raise _Timeout
 
+    import time
+
     old = signal.signal(signal.SIGALRM, handler)
-    signal.setitimer(signal.ITIMER_REAL, seconds)
+    outer_delay, outer_interval = signal.setitimer(signal.ITIMER_REAL, seconds)
+    t0 = time.monotonic()
     try:
         yield
     finally:
         signal.setitimer(signal.ITIMER_REAL, 0)
         signal.signal(signal.SIGALRM, old)
+        if outer_delay > 0:  # give back a timer the caller had armed
+            left = max(outer_delay - (time.monotonic() - t0), 1e-3)
+            signal.setitimer(signal.ITIMER_REAL, left, outer_interval)
 
 
 class LimitHit(Exception):
