@@ -5,6 +5,14 @@
 Routh array, verdict (Lyapunov's indirect method), type, and for stable
 points the exact quadratic Lyapunov function; plus a completeness statement.
 
+Modules: ``algebraic`` (exact real fields Q(alpha), exact signs), ``kpoly``
+(polynomials over them: gcd, Sturm, Cauchy index), ``routh`` (the Routh array
+with both special cases, exact root counts), ``lyapunov`` (A'P + PA = -Q),
+``equilibria`` (Groebner bases and the quotient algebra), ``intervals`` and
+``boxsearch`` (certified ball arithmetic, Krawczyk), ``surveying`` (the
+survey and claim checks), ``parametric`` (stability over parameter boxes),
+``display`` (inspect's table and JSON).
+
 Nothing here decides a sign, an equality or a verdict from floating point.
 """
 
