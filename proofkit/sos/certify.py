@@ -30,6 +30,7 @@ from proofkit.exact.rounding import DENOMINATOR_LADDER, ExactSolution, round_pro
 from proofkit.sos.basis import newton_basis
 from proofkit.sos.poly import PolySpace
 from proofkit.sos.program import SearchProgram, SosPoly
+from proofkit.sos.refine import gram_system, refine_low_rank
 from proofkit.sos.solve import SOLVER_SETTINGS, NumericSolution, pick_solver, solve_program
 
 __all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
@@ -224,6 +225,7 @@ def _try_face(
     variables: Sequence[sp.Symbol],
     res: ProgramOutcome,
     ladder: Sequence[int],
+    prog: SearchProgram,
 ) -> Decomposition | None:
     """Facial reduction by the numerical kernel (see :mod:`proofkit.exact.facial`)."""
     t0 = time.perf_counter()
@@ -234,7 +236,15 @@ def _try_face(
             continue
         b = bases["gram"]
         basis_syms = [space.monomial(e) for e in b]
-        for cand, note in face_candidates(space, b, poly, sol.values["gram"], ladder):
+        hints = [sol.values["gram"]]
+        gram = prog.unknowns[0]
+        if isinstance(gram, SosPoly) and np.array_equal(gram.basis, b):
+            system = gram_system(prog, gram)
+            refined = refine_low_rank(*system, sol.values["gram"]) if system else None
+            if refined is not None:
+                hints.insert(0, refined)
+        cands = (c for q in hints for c in face_candidates(space, b, poly, q, ladder))
+        for cand, note in cands:
             if cand is None:
                 notes.append(note)
                 continue
@@ -294,7 +304,7 @@ def decompose(
     res = solve_exactly(prog, solver=solver, ladder=ladder, facial_rounds=facial_rounds)
     timings.update(res.timings)
     if res.exact is None:
-        found = _try_face(space, poly, variables, res, ladder)
+        found = _try_face(space, poly, variables, res, ladder, prog)
         timings["total"] = time.perf_counter() - t_start
         if found is not None:
             found.timings = timings

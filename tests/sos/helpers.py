@@ -16,8 +16,10 @@ def gram_identity_holds(p: sp.Expr, basis: list[sp.Expr], gram: sp.Matrix) -> bo
 def is_psd_exact(gram: sp.Matrix) -> bool:
     """PSD by a textbook symmetric elimination with Python Fractions (zero pivot => zero row)."""
     n = gram.shape[0]
-    a = [[Fraction(int(sp.Rational(gram[i, j]).p), int(sp.Rational(gram[i, j]).q)) for j in range(n)]
-         for i in range(n)]
+    a = [
+        [Fraction(int(sp.Rational(gram[i, j]).p), int(sp.Rational(gram[i, j]).q)) for j in range(n)]
+        for i in range(n)
+    ]
     if any(a[i][j] != a[j][i] for i in range(n) for j in range(n)):
         return False
     for k in range(n):

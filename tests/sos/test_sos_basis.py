@@ -54,7 +54,9 @@ def test_newton_basis_agrees_with_linear_programming() -> None:
         for m in full_basis(3, 5):
             a_eq = np.vstack([support.T, np.ones(len(support))])
             b_eq = np.concatenate([2 * m, [1]])
-            inside = linprog(np.zeros(len(support)), A_eq=a_eq, b_eq=b_eq, bounds=(0, None)).status == 0
+            inside = (
+                linprog(np.zeros(len(support)), A_eq=a_eq, b_eq=b_eq, bounds=(0, None)).status == 0
+            )
             if tuple(m) in got:
                 assert inside
         # every vertex of the support (even exponents here) must be kept

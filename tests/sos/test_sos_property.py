@@ -14,19 +14,29 @@ SYMS = sp.symbols("a b c d", real=True)
 
 
 @st.composite
-def random_sos(draw):
-    """(polynomial, variables): sum of 1..4 weighted squares, 2..4 variables, degree <= 6."""
+def random_sos(draw, max_squares: int = 4, interior: bool = True):
+    """(polynomial, variables): weighted squares, 2..4 variables, degree <= 6.
+
+    With ``interior`` a positive multiple of the squares of every monomial used is
+    added, so that a positive definite Gram matrix exists; without it the squares
+    alone may force singular Gram matrices (facial reduction needed).
+    """
     nv = draw(st.integers(2, 4))
     half = draw(st.integers(1, 3))
     xs = list(SYMS[:nv])
     monos = [sp.Mul(*[v**e for v, e in zip(xs, row, strict=True)]) for row in full_basis(nv, half)]
     coef = st.builds(sp.Rational, st.integers(-6, 6), st.integers(1, 4))
     total = sp.Integer(0)
-    for _ in range(draw(st.integers(1, 4))):
+    used: set[sp.Expr] = set()
+    for _ in range(draw(st.integers(1, max_squares))):
         picks = draw(st.lists(st.sampled_from(monos), min_size=1, max_size=5, unique=True))
+        used.update(picks)
         q = sum(draw(coef) * m for m in picks)
         w = sp.Rational(draw(st.integers(1, 5)), draw(st.integers(1, 3)))
         total += w * q**2
+    if interior:
+        eps = sp.Rational(1, draw(st.sampled_from([1, 10, 100])))
+        total += eps * sum(m**2 for m in used)
     return sp.expand(total), xs
 
 
@@ -34,7 +44,17 @@ def random_sos(draw):
 def test_random_sums_of_squares_are_certified_exactly(case) -> None:
     # common practice: a sum of squares of rational polynomials has a rational Gram matrix
     # in its Newton-polytope basis; each certificate is re-checked independently here.
-    p, xs = case
+    _certified_and_rechecked(*case)
+
+
+@given(random_sos(max_squares=1, interior=False))
+def test_single_squares_are_certified_exactly(case) -> None:
+    # common practice: q^2 has the rank-one Gram matrix c c' (c = coefficients of q); no
+    # interior point exists, so this exercises facial reduction and exact range recovery.
+    _certified_and_rechecked(*case)
+
+
+def _certified_and_rechecked(p: sp.Expr, xs: list[sp.Symbol]) -> None:
     res = decompose(p, xs)
     assert res.found, (p, res.reason)
     if p == 0:
