@@ -230,6 +230,12 @@ class RealAlgebraicField:
         if self.q is not None and self.q.degree() == 2:  # a + b*alpha with alpha a radical
             c0, c1 = (sp.Rational(int(v.p), int(v.q)) for v in p.coeffs())
             return sp.expand(c0 + c1 * self.sympy_generator())
+        if self.q is not None and sp.isprime(self.q.degree()):
+            # a field of prime degree has no subfield but Q: p(alpha) has full degree
+            r = self.sympy_generator()
+            return sp.Add(
+                *[sp.Rational(int(v.p), int(v.q)) * r**k for k, v in enumerate(p.coeffs())]
+            )
         m = self.minimal_polynomial(p)
         if m.degree() == 1:
             v = -m.coeffs()[0]

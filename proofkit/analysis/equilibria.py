@@ -305,10 +305,11 @@ def solve_polynomial_system(
     points: list[FoundPoint] = []
     dropped = 0
     for K, coords in zero_dim:
-        key = _point_key(K, coords)
-        if key in seen:
-            continue
-        seen.add(key)
+        if len(systems) > 1:  # the points of one zero-dimensional system are distinct
+            key = _point_key(K, coords)
+            if key in seen:
+                continue
+            seen.add(key)
         on_component = any(
             all(_eval_poly_at(p, coords, K).is_zero() for p in G.polys) for G, _d in positive
         )
