@@ -28,6 +28,9 @@ def test_zero_in_first_column_epsilon_method() -> None:
     assert r.rhp_count == 2 and r.imag_count == 0
     assert any("zero in first column at row s^3" in e for e in r.special)
     assert r.first_column[2] == EPSILON  # the zero replaced by epsilon
+    # computed by hand: s^2 entry (6 eps - 7)/eps -> -inf, s^1 entry -> 7/2 as eps -> 0+
+    assert sp.limit(r.first_column[3], EPSILON, 0, "+") == -sp.oo
+    assert sp.limit(r.first_column[4], EPSILON, 0, "+") == sp.Rational(7, 2)
     assert r.first_column_signs == (1, 1, 1, -1, 1, 1)  # computed: signs as epsilon -> 0+
     assert r.sign_changes == 2
 
@@ -36,6 +39,8 @@ def test_row_of_zeros_auxiliary_polynomial() -> None:
     # published course solution sheet; computed roots agree: roots 2, -2, -1, -4
     r = routh_array([1, 5, 0, -20, -16])
     assert r.auxiliary == ((2, 4 * S**2 - 16),)
+    # computed by hand: rows s^4..s^0; the zero row s^1 becomes A'(s) = 8 s
+    assert r.rows == ((1, 0, -16), (5, -20), (4, -16), (8,), (-16,))
     assert any("row of zeros at row s^1" in e and "4*s**2 - 16" in e for e in r.special)
     assert r.rhp_count == 1 and r.imag_count == 0
     assert sorted(np.roots([1, 5, 0, -20, -16]).real.round(9)) == [-4, -2, -1, 2]
