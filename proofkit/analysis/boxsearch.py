@@ -171,6 +171,7 @@ def box_search(
     box: Sequence[tuple[sp.Rational, sp.Rational]],
     budget: int = 20000,
     min_width: Fraction = Fraction(1, 2**30),
+    max_seconds: float = 30.0,
 ) -> BoxResult:
     """Every zero of fs in the box, each certified unique in a small box; and is that all?"""
     kr = _Krawczyk(fs, xs)
@@ -186,8 +187,11 @@ def box_search(
     old = flint.ctx.prec
     flint.ctx.prec = 80
     try:
+        import time
+
+        t_end = time.monotonic() + max_seconds
         while stack:
-            if processed >= budget:
+            if processed >= budget or time.monotonic() > t_end:
                 break
             b = stack.pop()
             processed += 1
@@ -233,7 +237,10 @@ def box_search(
             f"equilibria or holding exactly one (Krawczyk test): {len(roots)} equilibria"
         )
     elif stack:
-        reason = f"incomplete: budget reached ({budget} boxes) in the box {box_text}"
+        reason = (
+            f"incomplete: budget reached ({processed} boxes of at most {budget}, "
+            f"{max_seconds:g} s) in the box {box_text}"
+        )
     elif unresolved:
         reason = f"incomplete: {unresolved} tiny boxes in {box_text} could not be decided"
     else:
