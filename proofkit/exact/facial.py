@@ -24,7 +24,13 @@ import scipy.linalg as sla
 from proofkit.exact.rounding import round_to
 from proofkit.sos.poly import PolySpace, encode_exponents
 
-__all__ = ["exact_least_norm", "face_candidates", "rational_range"]
+__all__ = [
+    "exact_least_norm",
+    "face_candidates",
+    "integer_relations",
+    "range_candidates",
+    "rational_range",
+]
 
 
 def rational_range(
@@ -54,6 +60,40 @@ def rational_range(
                 row.append(Fraction(float(coef[i, j])).limit_denominator(max_den))
         rows.append(row)
     return rows
+
+
+def integer_relations(
+    kernel: np.ndarray, accuracy: float = 1e-7, max_entry: int = 1000
+) -> np.ndarray:
+    """Small integer vectors ``r`` with ``r' K ~ 0`` (LLL on ``[I | K/accuracy]``), as rows.
+
+    Rows come most convincing first (smallest residual per length); callers try
+    leading subsets, since the last ones may be chance near-relations.
+
+    They span the range of the largest rational face inside the numerical range:
+    when the kernel of the solver's Gram matrix is irrational (real zeros with
+    irrational coordinates), rational Gram matrices live on this smaller face.
+    """
+    n = kernel.shape[0]
+    scale = 1.0 / accuracy
+    big = np.rint(kernel * scale).astype(object)
+    rows = [[int(i == j) for j in range(n)] + [int(v) for v in big[i]] for i in range(n)]
+    red = flint.fmpz_mat(rows).lll()
+    found: list[tuple[float, np.ndarray]] = []
+    for i in range(red.nrows()):
+        r = np.array([int(red[i, j]) for j in range(n)], dtype=np.int64)
+        if not r.any() or np.abs(r).max() > max_entry:
+            continue
+        size = float(np.linalg.norm(r))
+        res = float(np.abs(r.astype(float) @ kernel).max()) / size
+        if res < 10 * accuracy:
+            found.append((res, r))
+    found.sort(key=lambda it: it[0])  # most convincing relations first
+    keep: list[np.ndarray] = []
+    for _res, r in found:  # an independent subset
+        if np.linalg.matrix_rank(np.array([*keep, r], dtype=float)) > len(keep):
+            keep.append(r)
+    return np.array(keep, dtype=np.int64).reshape(len(keep), n)
 
 
 def exact_least_norm(
@@ -101,59 +141,71 @@ def face_candidates(
 
     ``(None, why)`` is yielded when a range guess cannot work.
     """
-    nv = space.nvars
-    n = basis.shape[0]
-    mono = [space.from_arrays(e.reshape(1, nv), [1]) for e in basis]
     tries = [(tol, den) for tol in (1e-6, 1e-3) for den in range_dens]
     for rel_tol, max_den in tries:
         rows = rational_range(q, max_den, rel_tol)
         if rows is None:
             yield None, "numerical solution has full rank or no range"
             continue
-        r = len(rows)
         wt = [[flint.fmpq(x.numerator, x.denominator) for x in row] for row in rows]
-        cpoly = []
-        for row in wt:
-            acc = space.zero()
-            for m, c in zip(mono, row, strict=True):
-                if c != 0:
-                    acc += m * c
-            cpoly.append(acc)
-        pairs = [(k, m) for k in range(r) for m in range(k, r)]
-        prods = [cpoly[k] * cpoly[m] * (1 if k == m else 2) for k, m in pairs]
-        allexp = [PolySpace.arrays(pp, nv)[0] for pp in [*prods, target]]
-        exps = np.unique(np.vstack(allexp), axis=0)
-        radix = int(exps.max(initial=0)) + 1
-        keys = encode_exponents(exps, radix)
-        a_rows = [[flint.fmpq(0)] * len(pairs) for _ in range(len(keys))]
-        for col, pp in enumerate(prods):
-            for row, val in _scatter(keys, radix, pp, nv):
-                a_rows[row][col] = val
-        tvec = [flint.fmpq(0)] * len(keys)
-        for row, val in _scatter(keys, radix, target, nv):
-            tvec[row] = val
         wmat = np.array([[float(x) for x in row] for row in rows])
         pinv = np.linalg.pinv(wmat.T)
         g0 = pinv @ q @ pinv.T
-        wq = flint.fmpq_mat(wt)
-        for den in ladder:
-            g = round_to((g0 + g0.T) / 2, den)
-            x0 = [g[k][m] for k, m in pairs]
-            resid = []
-            for i in range(len(keys)):
-                acc = tvec[i]
-                for j, a in enumerate(a_rows[i]):
-                    if a != 0:
-                        acc -= a * x0[j]
-                resid.append(acc)
-            d = exact_least_norm(a_rows, resid)
-            if d is None:
-                yield None, f"range basis (denominators <= {max_den}) cannot match p"
-                break
-            gm = [[flint.fmpq(0)] * r for _ in range(r)]
-            for (k, m), val, dv in zip(pairs, x0, d, strict=True):
-                gm[k][m] = val + dv
-                gm[m][k] = val + dv
-            qx = wq.transpose() * flint.fmpq_mat(gm) * wq
-            note = f"face of rank {r}, reduced Gram on 1/{den}"
-            yield [[qx[i, j] for j in range(n)] for i in range(n)], note
+        yield from range_candidates(space, basis, target, wt, g0, ladder)
+
+
+def range_candidates(
+    space: PolySpace,
+    basis: np.ndarray,
+    target: flint.fmpq_mpoly,
+    wt: list[list[flint.fmpq]],
+    g0: np.ndarray,
+    ladder: Sequence[int],
+) -> Iterator[tuple[list[list[flint.fmpq]] | None, str]]:
+    """Candidates ``Q = W G W'`` for an exact range basis ``W'`` (rows) and numerical ``G``."""
+    nv = space.nvars
+    n = basis.shape[0]
+    r = len(wt)
+    mono = [space.from_arrays(e.reshape(1, nv), [1]) for e in basis]
+    cpoly = []
+    for row in wt:
+        acc = space.zero()
+        for m, c in zip(mono, row, strict=True):
+            if c != 0:
+                acc += m * c
+        cpoly.append(acc)
+    pairs = [(k, m) for k in range(r) for m in range(k, r)]
+    prods = [cpoly[k] * cpoly[m] * (1 if k == m else 2) for k, m in pairs]
+    allexp = [PolySpace.arrays(pp, nv)[0] for pp in [*prods, target]]
+    exps = np.unique(np.vstack(allexp), axis=0)
+    radix = int(exps.max(initial=0)) + 1
+    keys = encode_exponents(exps, radix)
+    a_rows = [[flint.fmpq(0)] * len(pairs) for _ in range(len(keys))]
+    for col, pp in enumerate(prods):
+        for row, val in _scatter(keys, radix, pp, nv):
+            a_rows[row][col] = val
+    tvec = [flint.fmpq(0)] * len(keys)
+    for row, val in _scatter(keys, radix, target, nv):
+        tvec[row] = val
+    wq = flint.fmpq_mat(wt)
+    for den in ladder:
+        g = round_to((g0 + g0.T) / 2, den)
+        x0 = [g[k][m] for k, m in pairs]
+        resid = []
+        for i in range(len(keys)):
+            acc = tvec[i]
+            for j, a in enumerate(a_rows[i]):
+                if a != 0:
+                    acc -= a * x0[j]
+            resid.append(acc)
+        d = exact_least_norm(a_rows, resid)
+        if d is None:
+            yield None, f"range basis of rank {r} cannot match p"
+            return
+        gm = [[flint.fmpq(0)] * r for _ in range(r)]
+        for (k, m), val, dv in zip(pairs, x0, d, strict=True):
+            gm[k][m] = val + dv
+            gm[m][k] = val + dv
+        qx = wq.transpose() * flint.fmpq_mat(gm) * wq
+        note = f"face of rank {r}, reduced Gram on 1/{den}"
+        yield [[qx[i, j] for j in range(n)] for i in range(n)], note

@@ -24,13 +24,13 @@ import numpy as np
 import sympy as sp
 
 from proofkit.exact.check import check_gram, squares_from_ldl
-from proofkit.exact.facial import face_candidates
+from proofkit.exact.facial import face_candidates, integer_relations, range_candidates
 from proofkit.exact.ldl import LdlResult
 from proofkit.exact.rounding import DENOMINATOR_LADDER, ExactSolution, round_program
 from proofkit.sos.basis import newton_basis
 from proofkit.sos.poly import PolySpace
 from proofkit.sos.program import SearchProgram, SosPoly
-from proofkit.sos.refine import gram_system, refine_low_rank
+from proofkit.sos.refine import gram_system, numerical_kernel, refine_low_rank, solve_on_range
 from proofkit.sos.solve import SOLVER_SETTINGS, NumericSolution, pick_solver, solve_program
 
 __all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
@@ -219,6 +219,33 @@ def solve_exactly(
     return out
 
 
+def _face_hints(space, poly, prog, b, q, ladder):
+    """Candidate exact Gram matrices on faces guessed from the numerical ``q``."""
+    gram = prog.unknowns[0]
+    system = None
+    if isinstance(gram, SosPoly) and np.array_equal(gram.basis, b):
+        system = gram_system(prog, gram)
+    refined = refine_low_rank(*system, q) if system else None
+    if refined is not None:
+        kernel = numerical_kernel(refined)
+        if 0 < kernel.shape[1] < len(b):
+            tried: set[bytes] = set()
+            for acc in (1e-7, 1e-6, 1e-5):
+                rel = integer_relations(kernel, acc)
+                top = min(rel.shape[0], len(b) - kernel.shape[1] - 1)
+                for j in range(top, 0, -1):  # leading subsets, largest first
+                    sub = rel[:j]
+                    if sub.tobytes() in tried:
+                        continue
+                    tried.add(sub.tobytes())
+                    g0 = solve_on_range(*system, sub)
+                    if g0 is not None and np.linalg.eigvalsh(g0).min() > 0:
+                        wt = [[flint.fmpq(int(v)) for v in row] for row in sub]
+                        yield from range_candidates(space, b, poly, wt, g0, ladder)
+        yield from face_candidates(space, b, poly, refined, ladder)
+    yield from face_candidates(space, b, poly, q, ladder)
+
+
 def _try_face(
     space: PolySpace,
     poly: flint.fmpq_mpoly,
@@ -236,14 +263,7 @@ def _try_face(
             continue
         b = bases["gram"]
         basis_syms = [space.monomial(e) for e in b]
-        hints = [sol.values["gram"]]
-        gram = prog.unknowns[0]
-        if isinstance(gram, SosPoly) and np.array_equal(gram.basis, b):
-            system = gram_system(prog, gram)
-            refined = refine_low_rank(*system, sol.values["gram"]) if system else None
-            if refined is not None:
-                hints.insert(0, refined)
-        cands = (c for q in hints for c in face_candidates(space, b, poly, q, ladder))
+        cands = _face_hints(space, poly, prog, b, sol.values["gram"], ladder)
         for cand, note in cands:
             if cand is None:
                 notes.append(note)

@@ -18,7 +18,7 @@ import numpy as np
 
 from proofkit.sos.program import SearchProgram, SosPoly
 
-__all__ = ["gram_system", "refine_low_rank"]
+__all__ = ["gram_system", "numerical_kernel", "refine_low_rank", "solve_on_range"]
 
 
 def gram_system(program: SearchProgram, u: SosPoly) -> tuple[np.ndarray, np.ndarray] | None:
@@ -78,3 +78,30 @@ def refine_low_rank(
     if not np.all(np.isfinite(qv)) or np.abs(res).max(initial=0.0) > 1e-10 * scale:
         return None
     return qv
+
+
+def numerical_kernel(q: np.ndarray, rel_tol: float = 1e-8) -> np.ndarray:
+    """Orthonormal basis (columns) of the eigenvectors with eigenvalue below ``rel_tol * max``."""
+    w, vecs = np.linalg.eigh((q + q.T) / 2)
+    top = max(float(np.abs(w).max(initial=0.0)), 1e-300)
+    return vecs[:, w < rel_tol * top]
+
+
+def solve_on_range(a: np.ndarray, b: np.ndarray, w_rows: np.ndarray) -> np.ndarray | None:
+    """Numerical ``G`` (PSD, margin maximised) with ``A vec(W G W') = b``, ``W' = w_rows``."""
+    import cvxpy as cp
+
+    w = np.asarray(w_rows, dtype=float).T  # n x m
+    m = w.shape[1]
+    a_face = a @ np.kron(w, w)  # vec(W G W') = (W kron W) vec(G), column-major
+    g = cp.Variable((m, m), symmetric=True)
+    t = cp.Variable()
+    cons = [a_face @ cp.vec(g, order="F") == b, g - t * np.eye(m) >> 0, t <= 1]
+    prob = cp.Problem(cp.Maximize(t), cons)
+    try:
+        prob.solve(solver=cp.CLARABEL)
+    except cp.error.SolverError:
+        return None
+    if g.value is None or prob.status not in (cp.OPTIMAL, cp.OPTIMAL_INACCURATE):
+        return None
+    return np.array(g.value)
