@@ -41,6 +41,7 @@ if TYPE_CHECKING:
 __all__ = [
     "DENOMINATOR_LADDER",
     "ExactSolution",
+    "compact_denominators",
     "peyrl_parrilo_projection",
     "round_program",
     "round_to",
@@ -186,6 +187,50 @@ def peyrl_parrilo_projection(
     return [out[i * n : (i + 1) * n] for i in range(n)]
 
 
+def compact_denominators(
+    basis: np.ndarray, gram: Sequence[Sequence[flint.fmpq]], den: int
+) -> list[list[flint.fmpq]]:
+    """Same coefficient sums as ``gram``, entries on the grid ``1/den`` except one per monomial.
+
+    The orthogonal projection divides by the pair counts ``n_m``, so its common
+    denominator grows like ``lcm(n_m)``, which makes the exact LDL' slow on big
+    bases. Here every upper-triangle entry is rounded to ``1/den`` and, for each
+    monomial, one entry (a diagonal one when there is one) takes up the
+    difference, so every identity still holds exactly. The change per entry is
+    of the order ``n_m / den``.
+    """
+    n = basis.shape[0]
+    iu, ju = np.triu_indices(n)
+    keys = encode_exponents(basis[iu] + basis[ju], int(2 * basis.max(initial=0)) + 1)
+    order = np.lexsort((iu != ju, keys))  # group by monomial, diagonal entries first
+    out = [list(row) for row in gram]
+    start = 0
+    m = len(order)
+    while start < m:
+        stop = start
+        while stop < m and keys[order[stop]] == keys[order[start]]:
+            stop += 1
+        group = order[start:stop]
+        sink = int(group[0])
+        si, sj = int(iu[sink]), int(ju[sink])
+        total = flint.fmpq(0)
+        for k in group.tolist():
+            i, j = int(iu[k]), int(ju[k])
+            total += gram[i][j] * (1 if i == j else 2)
+        rest = flint.fmpq(0)
+        for k in group.tolist()[1:]:
+            i, j = int(iu[k]), int(ju[k])
+            x = gram[i][j]
+            if x.q > den:  # nearest multiple of 1/den
+                x = flint.fmpq((2 * x.p * den + x.q) // (2 * x.q), den)
+            y = x
+            out[i][j] = out[j][i] = y
+            rest += y * (1 if i == j else 2)
+        out[si][sj] = out[sj][si] = (total - rest) / (1 if si == sj else 2)
+        start = stop
+    return out
+
+
 def _pivots(program: SearchProgram) -> dict[int, SosPoly]:
     """Identity number -> its pivot Gram unknown (see module docstring)."""
     seen: dict[int, list[tuple[int, object]]] = {}
@@ -294,6 +339,7 @@ def round_program(
             last = f"denominator {den}: {why}"
             continue
         failed = None
+        projected: dict[str, list[list[flint.fmpq]]] = {}
         for k, u in pivots.items():
             ident = program.identities[k]
             part = next(p for p in ident.expr.parts if p.unknown is u)
@@ -304,11 +350,20 @@ def round_program(
                 failed = f"{u.name}: {proj}"
                 break
             values[u.name] = proj
+            projected[u.name] = proj
         if failed:
             last = f"denominator {den}: {failed}"
             if "outside the basis" in failed:
                 break
             continue
+        if projected:  # short denominators first (faster LDL', shorter certificates)
+            short = dict(values)
+            for name, proj in projected.items():
+                u = next(x for x in program.unknowns if x.name == name)
+                short[name] = compact_denominators(u.basis, proj, den)
+            ok, reason, ldls = verify_exact(program, short)
+            if ok:
+                return ExactSolution(program, short, ok=True, denominator=den, ldl=ldls)
         ok, reason, ldls = verify_exact(program, values)
         if ok:
             return ExactSolution(program, values, ok=True, denominator=den, ldl=ldls)
