@@ -70,6 +70,9 @@ def _entry_for(model: Model, claim: Claim, field: list[Any] | None) -> tuple[dic
 
     if claim.kind not in ("stable", "unstable"):
         return not_proved_entry(claim, NO_METHOD), NO_METHOD
+    if claim.target not in {e.name for e in model.equilibria}:
+        reason = f"no declared equilibrium named {claim.target!r}"
+        return not_proved_entry(claim, reason), reason
     if any(p.is_uncertain for p in model.params) and not claim.at_nominal:
         return not_proved_entry(claim, PARAMETRIC), PARAMETRIC
     if field is None:
