@@ -58,6 +58,7 @@ def _entry(e: EquilibriumReport) -> dict[str, Any]:
         ),
         "jacobian": jac,
         "eigenvalues": [[float(z.real), float(z.imag)] for z in e.eigenvalues],
+        "in_domain": e.in_domain,
         "rhp_count": e.routh.rhp_count,  # -1: not decided (interval signs uncertain)
         "verdict": e.verdict,
         "type": e.type,
@@ -91,6 +92,10 @@ def equilibria_lines(s: Survey, nominal_note: bool = False) -> list[str]:
             where = "in a certified box near " + ", ".join(
                 f"{k} ~ {v:.6g}" for k, v in e.numeric.items()
             )
+        if e.in_domain is False:
+            where += "  (outside the domain)"
+        elif e.in_domain is None:
+            where += "  (domain: undecided)"
         rows.append(
             (
                 e.name or "-",

@@ -19,7 +19,7 @@ This module must never decide a verdict from floating-point numbers.
 from __future__ import annotations
 
 import itertools
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Literal
 
 import flint
@@ -75,6 +75,7 @@ class EquilibriumReport:
     jacobian_enclosure: tuple[tuple[sp.Interval, ...], ...] | None = None
     note: str = ""
     field_degree: int = 1  # degree over Q of the field holding the exact data (0: enclosure)
+    in_domain: bool | None = True  # inside the model's domain (None: not decided)
 
 
 @dataclass(frozen=True)
@@ -479,6 +480,49 @@ def _in_enclosure(point: dict[str, sp.Expr], fp: FoundPoint) -> bool:
     return True
 
 
+def _condition_sign(g: sp.Expr, m: Model, fp: FoundPoint) -> int | None:
+    """The exact sign of g at the equilibrium, or None when it cannot be decided."""
+    xs = m.state_symbols
+    if fp.field is not None and fp.coords is not None and g.is_polynomial(*xs):
+        P = sp.Poly(g, *xs)
+        if all(isinstance(c, sp.Rational) for c in P.coeffs()):
+            return _eval_poly_at(P, fp.coords, fp.field).sign()
+    if fp.exact:
+        v = sp.expand(g.subs(dict(zip(xs, fp.point.values(), strict=True))))
+        if v == 0:
+            return 0
+        try:
+            ball = arb_value(v, 256)
+        except Exception:
+            return None
+    else:
+        if fp.enclosure is None:
+            return None
+        old = flint.ctx.prec
+        flint.ctx.prec = 128
+        try:
+            X = [_ball(_fq(a), _fq(b)) for a, b in fp.enclosure]
+            ball = compile_arb(g, xs)(X)
+        except Exception:
+            return None
+        finally:
+            flint.ctx.prec = old
+    return _asign(ball)
+
+
+def _in_domain(m: Model, fp: FoundPoint) -> bool | None:
+    if m.domain is None:
+        return True
+    answer: bool | None = True
+    for g, strict in m.domain.nonnegative_forms():
+        sg = _condition_sign(g, m, fp)
+        if sg is None:
+            answer = None
+        elif sg < 0 or (strict and sg == 0):
+            return False
+    return answer
+
+
 def _with_enclosure(fp: FoundPoint) -> FoundPoint:
     """The point with a tiny certified box around its exact coordinates, if it has none."""
     if fp.enclosure is not None:
@@ -548,7 +592,7 @@ def survey(model: Model, limits: Limits | None = None) -> Survey:
             rep = _report_for_exact_point(nm, m, point, numeric, Jsym, fp)
         if rep is None:
             rep = _enclosure_report(nm, m, _with_enclosure(fp), Jsym)
-        reports.append(rep)
+        reports.append(replace(rep, in_domain=_in_domain(m, fp)))
     for nm, dp in extra:
         numeric = {k: float(arb_value(v, 64).mid()) for k, v in dp.items()}
         fp_decl = FoundPoint(point=dp, numeric=numeric)
@@ -556,7 +600,7 @@ def survey(model: Model, limits: Limits | None = None) -> Survey:
         rep = _report_for_exact_point(nm, m, dp, numeric, Jsym, fp_decl, note=note)
         if rep is None:
             rep = _enclosure_report(nm, m, _with_enclosure(fp_decl), Jsym)
-        reports.append(rep)
+        reports.append(replace(rep, in_domain=_in_domain(m, fp_decl)))
     timings["linearize"] = time.perf_counter() - t0
     return Survey(tuple(reports), complete, reason, True, method, timings)
 

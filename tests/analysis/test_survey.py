@@ -158,3 +158,19 @@ def test_exact_zero_with_transcendental_jacobian_gets_an_enclosure_verdict() -> 
     e = next(e for e in s.equilibria if e.point == {"x": 1, "y": 0})
     assert e.exact and e.jacobian_enclosure is not None and "not algebraic" in e.note
     assert e.verdict == "inconclusive" and e.lyapunov is None
+
+
+def test_domain_membership_decided_exactly_on_the_boundary() -> None:
+    # computed by hand: (+-sqrt 2, 0) lies on x^2 = 2 exactly: inside x^2 <= 2, outside x^2 < 2,
+    # and +sqrt 2 is outside x <= 1414213562/10^9 (sqrt 2 = 1.41421356237...)
+    from proofkit.model import Condition, Region
+
+    base = model("x y", [x**2 - 2, -y])
+    two = sp.Integer(2)
+    closed = replace(base, domain=Region((Condition(x**2, "<=", two),)))
+    assert all(e.in_domain is True for e in survey(closed).equilibria)
+    open_ = replace(base, domain=Region((Condition(x**2, "<", two),)))
+    assert all(e.in_domain is False for e in survey(open_).equilibria)
+    cut = replace(base, domain=Region((Condition(x, "<=", sp.Rational(1414213562, 10**9)),)))
+    inside = {e.point["x"]: e.in_domain for e in survey(cut).equilibria}
+    assert inside == {sp.sqrt(2): False, -sp.sqrt(2): True}
