@@ -84,6 +84,7 @@ class _Builder:
         self.tree = tree
         self.env: dict[str, Binding] = {}
         self.first_decl = self._declarations(tree)
+        self.builders: dict[tuple[frozenset[str], str], ExprBuilder] = {}
         self.name: str | None = None
         self.system_line: int | None = None
         self.states: list[str] | None = None
@@ -119,8 +120,12 @@ class _Builder:
         return make_error(self.where, msg, t.line, t.column, end, **kw)
 
     def expr(self, tree: Any, allowed: frozenset[str], purpose: str) -> Val:
-        later = {n: ln for n, ln in self.first_decl.items() if n not in self.env}
-        v = ExprBuilder(self.where, self.env, allowed, purpose, later).build(tree)
+        key = (allowed, purpose)
+        builder = self.builders.get(key)
+        if builder is None:  # env and first_decl are shared, so one builder per use suffices
+            builder = ExprBuilder(self.where, self.env, allowed, purpose, self.first_decl)
+            self.builders[key] = builder
+        v = builder.build(tree)
         end = v.end_column if v.end_line == v.line else None
         nodes, depth = expression_size(v.expr)
         if nodes > MAX_NODES or depth > MAX_EXPR_DEPTH:

@@ -241,7 +241,8 @@ class ExprBuilder(Transformer):
 
     ``env`` maps every name declared so far to its :class:`Binding`;
     ``allowed`` lists the kinds of names this statement may use; ``later``
-    maps names declared further down the file to their line (for hints);
+    maps every name declared in the file to its first line (for the hint
+    when a name is used before its declaration);
     ``purpose`` words the statement in messages ("a constant", ...).
     """
 
@@ -322,7 +323,8 @@ class ExprBuilder(Transformer):
                     hint=f"move the declaration of '{name}' above this line",
                 )
             known = [n for n, b in self.env.items() if b.kind in self.allowed]
-            guess = closest(name, [*known, *self.later, "pi", *FUNCTIONS])
+            pending = [n for n in self.later if n not in self.env]
+            guess = closest(name, [*known, *pending, "pi", *FUNCTIONS])
             if guess in self.later:
                 hint = f"did you mean '{guess}' (declared later, on line {self.later[guess]})?"
             elif guess:
@@ -363,6 +365,7 @@ class ExprBuilder(Transformer):
 
     def product(self, meta: Any, children: list[Any]) -> Val:
         factors = [self._val(children[0]).expr]
+        divided = False
         for op, child in zip(children[1::2], children[2::2], strict=True):
             v = self._val(child)
             if str(op) == "*":
@@ -371,8 +374,10 @@ class ExprBuilder(Transformer):
             if v.expr.is_zero:
                 raise self._err_val("division by zero", v)
             factors.append(sp.Pow(v.expr, -1))
+            divided = True
         out = Val(sp.Mul(*factors), *_pos(meta))
-        return Val(self._real(out.expr, out), *_pos(meta))
+        # only a division can turn finite real factors into a non-real value
+        return Val(self._real(out.expr, out), *_pos(meta)) if divided else out
 
     def sign(self, meta: Any, children: list[Any]) -> Val:
         v = self._val(children[1])

@@ -1,0 +1,50 @@
+"""Benchmarks of the parser (run on purpose: ``pytest -m perf tests/lang``).
+
+Prints the measured times; the asserts are generous ceilings that catch a
+complexity regression (quadratic behaviour), not machine speed.
+"""
+
+from __future__ import annotations
+
+import time
+from pathlib import Path
+
+import pytest
+
+from proofkit.lang import format_model, parse_model
+
+WORKED = Path(__file__).resolve().parents[2] / "worked"
+
+
+def timed(fn, repeat: int = 1) -> float:  # type: ignore[no-untyped-def]
+    best = float("inf")
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        fn()
+        best = min(best, time.perf_counter() - t0)
+    return best
+
+
+@pytest.mark.perf
+def test_parse_speed() -> None:
+    parse_model("state x\nx' = -x\n")  # build the cached parser first
+    for path in sorted(WORKED.glob("*.pk")):
+        text = path.read_text()
+        t = timed(lambda text=text: parse_model(text), repeat=5)
+        r = timed(lambda text=text: parse_model(format_model(parse_model(text))), repeat=3)
+        print(f"{path.name}: parse {t * 1e3:.1f} ms, round trip {r * 1e3:.1f} ms")
+    small = "state x\nx' = " + " + ".join(f"{i}*x^{i % 7}" for i in range(500)) + "\n"
+    big = "state x\nx' = " + " + ".join(f"{i}*x^{i % 7}" for i in range(5000)) + "\n"
+    ts, tb = timed(lambda: parse_model(small), 3), timed(lambda: parse_model(big), 3)
+    print(f"sum of 500 terms {ts * 1e3:.0f} ms, 5000 terms {tb * 1e3:.0f} ms, ratio {tb / ts:.1f}")
+    assert tb / ts < 30  # linear would be 10; quadratic would be 100
+    lines = "".join(f"# line {i} of padding to make the file long\n" for i in range(20000))
+    full = "state x\nx' = -x\n" + lines
+    t = timed(lambda: parse_model(full))
+    print(f"{len(full) / 2**20:.2f} MiB of comments: {t:.2f} s")
+    def consts(n: int) -> str:
+        return "state x\nx' = -x\n" + "".join(f"const c{i} = {i}/7 + 0.25\n" for i in range(n))
+
+    t1, t5 = timed(lambda: parse_model(consts(1000))), timed(lambda: parse_model(consts(5000)))
+    print(f"1000 const statements {t1:.2f} s, 5000: {t5:.2f} s, ratio {t5 / t1:.1f}")
+    assert t5 / t1 < 12  # linear would be 5
