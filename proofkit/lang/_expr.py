@@ -325,7 +325,7 @@ class ExprBuilder(Transformer):
             known = [n for n, b in self.env.items() if b.kind in self.allowed]
             pending = [n for n in self.later if n not in self.env]
             guess = closest(name, [*known, *pending, "pi", *FUNCTIONS])
-            if guess in self.later:
+            if guess in pending:
                 hint = f"did you mean '{guess}' (declared later, on line {self.later[guess]})?"
             elif guess:
                 hint = f"did you mean '{guess}'?"
