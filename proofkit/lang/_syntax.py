@@ -124,14 +124,22 @@ def _token_error(
 
     ``prev`` is the token before ``tok`` and ``before`` the one before that.
     """
-    words = describe_expected(expected)
+    ptype = prev.type if prev is not None else None
+    if ptype == "NAME" and len(expected) > 1:
+        expected = expected - {"LPAR"}  # a call is possible, but never what was meant
+    if "SYSTEM" in expected:
+        words = (
+            "a statement (system, const, param, state, let, domain, equilibrium, claim, "
+            "or an equation x' = ...)"
+        )
+    else:
+        words = describe_expected(expected)
     if tok.type in {"$END", "_NL"} and prev is not None:
         line, column, end = prev.end_line or prev.line, prev.end_column or prev.column, None
     else:
         line, column, end = tok.line, tok.column, tok.end_column
     message = f"expected {words}, found {_describe_token(tok)}"
     hint: str | None = None
-    ptype = prev.type if prev is not None else None
     at_statement_start = prev is not None and (before is None or before.type == "_NL")
     if tok.type == "NAME" and at_statement_start and ptype == "NAME":
         guess = closest(str(prev), _STATEMENT_WORDS)
@@ -171,6 +179,10 @@ def _token_error(
             f"a state equation is written {prev}' = ...; a constant is "
             f"const {prev} = ...; a shorthand is let {prev} = ..."
         )
+    elif tok.type in {"RPAR", "RSQB"} and tok.type not in expected:
+        hint = f"this '{tok}' has no matching opening bracket"
+    elif tok.type == "LSQB":
+        hint = "group with parentheses ( ); brackets [ ] only write parameter ranges"
     elif tok.type == "MULOP" and ptype == "MULOP":
         hint = "write ^ (or **) for a power"
     elif tok.type == "NAME" and (prev is None or ptype == "_NL"):

@@ -86,6 +86,13 @@ def test_statement_shape_hints() -> None:
     assert "operator" not in (err.hint or "")
 
 
+def test_bracket_hints_and_statement_start() -> None:
+    fails("state x\nx' = x)\n", 2, 7, "expected an operator or the end of the line, found ')'",
+          "no matching opening bracket")
+    fails("state x\nx' = [x]\n", 2, 6, "found '['", "parentheses")
+    fails("3 = x\n", 1, 1, "expected a statement (system, const, param, state")
+
+
 def test_unexpected_character() -> None:
     fails("state x; x' = -x\n", 1, 8, "unexpected character ';'", "one statement per line")
     fails("state x\nx' = x & 1\n", 2, 8, "unexpected character '&'", "'and'")
