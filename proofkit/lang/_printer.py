@@ -28,9 +28,8 @@ _FUNCS: dict[type, str] = {
     sp.tanh: "tanh",
     sp.Abs: "abs",
 }
-# Functions sympy may produce on its own (e.g. tan(x + pi/2) = -cot(x)), written
-# with the language's functions.
-_RECIPROCAL: dict[type, str] = {sp.cot: "tan", sp.sec: "cos", sp.csc: "sin", sp.coth: "tanh"}
+# Functions sympy may produce on its own, written with the language's functions.
+_RECIPROCAL: dict[type, str] = {sp.sec: "cos", sp.csc: "sin", sp.coth: "tanh"}
 
 
 def _at(e: sp.Expr, level: int) -> str:
@@ -109,6 +108,8 @@ def _fmt(e: sp.Expr) -> tuple[str, int]:
     func = type(e)
     if func in _FUNCS and len(e.args) == 1:
         return f"{_FUNCS[func]}({_fmt(e.args[0])[0]})", _ATOM
+    if func is sp.cot and len(e.args) == 1:  # sympy's own form of tan(u + pi/2) = -cot(u)
+        return f"tan(pi/2 - {_at(e.args[0], _MUL)})", _ATOM
     if func in _RECIPROCAL and len(e.args) == 1:
         return f"1/{_RECIPROCAL[func]}({_fmt(e.args[0])[0]})", _MUL
     if isinstance(e, sp.Number) and e.is_Float:  # pragma: no cover - models never hold floats

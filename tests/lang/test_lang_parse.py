@@ -239,3 +239,12 @@ def test_format_expr_writes_language_syntax() -> None:
     assert format_expr(sp.Rational(-1, 3)) == "-1/3"
     assert format_expr((x + 1) ** 2) == "(x + 1)^2"
     assert format_expr(x ** sp.Rational(3, 2)) == "x^(3/2)"
+
+
+def test_sympy_rewrites_print_back_to_the_same_value() -> None:
+    # computed: sympy turns tan(x + pi/2) into -cot(x); the text must mean the same
+    m = parse_model("state x\nx' = tan(x + pi/2) + tan(pi/2 - 2*x)\n")
+    text = format_expr(m.equations[0].rhs)
+    assert "cot" not in text
+    again = parse_model(f"state x\nx' = {text}\n")
+    assert again.equations[0].rhs == m.equations[0].rhs
