@@ -182,30 +182,20 @@ def describe_expected(expected: Iterable[str]) -> str:
     """Plain words for a set of lark terminal names, e.g. 'a number or a name'."""
     exp = set(expected)
     parts: list[str] = []
-    value = bool(exp & {"NUMBER", "NAME"})
-    operator = bool(exp & {"MULOP", "POW"})
-    end = bool(exp & _END_TERMINALS)
-    if value:
-        parts.append("a number or a name" if {"NUMBER", "NAME"} <= exp else _WORDS.get(
-            "NUMBER" if "NUMBER" in exp else "NAME", ""))
-        if "LPAR" in exp and "NUMBER" in exp:
-            parts[-1] = "a number, a name or '('"
+    if {"NUMBER", "NAME"} <= exp:
+        parts.append("a number, a name or '('" if "LPAR" in exp else "a number or a name")
         exp -= _VALUE_TERMINALS
-    if operator:
+    elif "NAME" in exp or "NUMBER" in exp:
+        kind = "NAME" if "NAME" in exp else "NUMBER"
+        parts.append(_WORDS[kind])
+        exp.discard(kind)
+    if exp & {"MULOP", "POW"}:
         parts.append("an operator")
         exp -= _OPERATOR_TERMINALS
-    if "REL" in exp and not value:
-        parts.append(_WORDS["REL"])
-        exp.discard("REL")
-    if end:
-        exp -= _END_TERMINALS
-    keywords = sorted(t for t in exp if t not in _WORDS and not t.startswith("__"))
-    exp -= set(keywords)
-    for t in sorted(exp):
-        if t in _WORDS and not (value and t in {"REL"}):
-            parts.append(_WORDS[t])
-    for k in keywords:
-        parts.append(f"'{k.lower()}'")
+    end = bool(exp & _END_TERMINALS)
+    exp -= _END_TERMINALS
+    parts += [_WORDS[t] for t in sorted(exp) if t in _WORDS]
+    parts += [f"'{t.lower()}'" for t in sorted(exp) if t not in _WORDS and not t.startswith("_")]
     if end:
         parts.append("the end of the line")
     if not parts:
