@@ -9,25 +9,21 @@ Modules: ``algebraic`` (exact real fields Q(alpha), exact signs), ``kpoly``
 (polynomials over them: gcd, Sturm, Cauchy index), ``routh`` (the Routh array
 with both special cases, exact root counts), ``lyapunov`` (A'P + PA = -Q),
 ``equilibria`` (Groebner bases and the quotient algebra), ``intervals`` and
-``boxsearch`` (certified ball arithmetic, Krawczyk), ``surveying`` (the
-survey and claim checks), ``parametric`` (stability over parameter boxes),
-``display`` (inspect's table and JSON).
+``boxsearch`` (certified ball arithmetic, Krawczyk), ``finding`` (which
+method, which box), ``surveying`` (the survey), ``claims`` (claim checks),
+``parametric`` (stability over parameter boxes), ``display`` (inspect's
+table and JSON).
 
 Nothing here decides a sign, an equality or a verdict from floating point.
 """
 
+from proofkit.analysis.claims import ClaimCheck, check_claim
 from proofkit.analysis.equilibria import FoundPoint, Limits
+from proofkit.analysis.finding import find_equilibria
 from proofkit.analysis.lyapunov import LyapunovSolution, solve_lyapunov
 from proofkit.analysis.parametric import ParametricResult, parametric_stability
 from proofkit.analysis.routh import RouthArray, routh_array
-from proofkit.analysis.surveying import (
-    ClaimCheck,
-    EquilibriumReport,
-    Survey,
-    check_claim,
-    find_equilibria,
-    survey,
-)
+from proofkit.analysis.surveying import EquilibriumReport, Survey, survey
 
 __all__ = [
     "ClaimCheck",

@@ -27,33 +27,17 @@ import numpy as np
 import sympy as sp
 
 from proofkit.analysis.algebraic import AlgNum, RealAlgebraicField, field_of_exprs
-from proofkit.analysis.boxsearch import _arb_to_q, _ball, box_search
-from proofkit.analysis.equilibria import (
-    FoundPoint,
-    LimitHit,
-    Limits,
-    _eval_poly_at,
-    _fq,
-    solve_polynomial_system,
-)
+from proofkit.analysis.boxsearch import _arb_to_q, _ball
+from proofkit.analysis.equilibria import FoundPoint, Limits, _eval_poly_at, _fq
+from proofkit.analysis.finding import _find, search_box
 from proofkit.analysis.intervals import arb_value, compile_arb
 from proofkit.analysis.lyapunov import LyapunovSolution, solve_lyapunov_in
-from proofkit.analysis.parametric import ParametricResult
 from proofkit.analysis.routh import RouthArray, routh_array_in
-from proofkit.model import Claim, Model
+from proofkit.model import Model
 
-__all__ = [
-    "DEFAULT_BOX",
-    "ClaimCheck",
-    "EquilibriumReport",
-    "Survey",
-    "check_claim",
-    "find_equilibria",
-    "survey",
-]
+__all__ = ["EquilibriumReport", "Survey", "survey"]
 
 Verdict = Literal["stable", "unstable", "inconclusive"]
-DEFAULT_BOX = (sp.Integer(-10), sp.Integer(10))
 
 
 @dataclass(frozen=True, eq=False)
@@ -92,116 +76,6 @@ class Survey:
             if e.name == name:
                 return e
         raise KeyError(name)
-
-
-# --- finding ----------------------------------------------------------------
-
-
-def _rational_polynomial(fs: tuple[sp.Expr, ...], xs: tuple[sp.Symbol, ...]) -> bool:
-    for f in fs:
-        if not f.is_polynomial(*xs):
-            return False
-        if not all(isinstance(c, sp.Rational) for c in sp.Poly(f, *xs).coeffs()):
-            return False
-    return True
-
-
-def _outer_rational(v: sp.Expr, up: bool) -> sp.Rational | None:
-    if isinstance(v, sp.Rational):
-        return v
-    try:
-        lo, hi = _arb_to_q(arb_value(v, 128))
-    except Exception:
-        return None
-    return sp.Rational(int((hi if up else lo).p), int((hi if up else lo).q))
-
-
-def search_box(model: Model) -> tuple[list[tuple[sp.Rational, sp.Rational]], str]:
-    """The box to search: bounds read from the domain where it gives them, else DEFAULT_BOX."""
-    xs = model.state_symbols
-    lo: dict[sp.Symbol, sp.Rational] = {}
-    hi: dict[sp.Symbol, sp.Rational] = {}
-    if model.domain is not None:
-        for g, _strict in model.domain.nonnegative_forms():
-            # g >= 0 with g = a*x + b (a bound) or g = c - x^2 (a symmetric bound)
-            free = g.free_symbols
-            if len(free) != 1 or not free <= set(xs):
-                continue
-            (x,) = free
-            if not g.is_polynomial(x):
-                continue
-            p = sp.Poly(g, x)
-            cs = p.all_coeffs()
-            if p.degree() == 1:
-                a, b = cs
-                bound = _outer_rational(-b / a, up=a < 0)
-                if bound is None:
-                    continue
-                if a > 0:
-                    lo[x] = max(lo.get(x, bound), bound)
-                else:
-                    hi[x] = min(hi.get(x, bound), bound)
-            elif p.degree() == 2 and cs[0] < 0 and cs[1] == 0 and cs[2] >= 0:
-                r = _outer_rational(sp.sqrt(-cs[2] / cs[0]), up=True)
-                if r is None:
-                    continue
-                hi[x] = min(hi.get(x, r), r)
-                lo[x] = max(lo.get(x, -r), -r)
-    box, defaulted = [], []
-    for x in xs:
-        a = lo.get(x, DEFAULT_BOX[0])
-        b = hi.get(x, DEFAULT_BOX[1])
-        if x not in lo or x not in hi:
-            defaulted.append(x.name)
-        box.append((a, b))
-    note = (
-        f"default bounds [{DEFAULT_BOX[0]}, {DEFAULT_BOX[1]}] for {', '.join(defaulted)}"
-        if defaulted
-        else "bounds from the domain"
-    )
-    return box, note
-
-
-def find_equilibria(
-    model: Model, limits: Limits | None = None
-) -> tuple[tuple[FoundPoint, ...], bool, str]:
-    """Every equilibrium of ``model.at_nominal()``: (points, complete, reason)."""
-    pts, complete, reason, _method, _t = _find(model.at_nominal(), limits or Limits())
-    return pts, complete, reason
-
-
-def _find(m: Model, limits: Limits) -> tuple[tuple[FoundPoint, ...], bool, str, str, dict]:
-    xs, names, fs = m.state_symbols, m.states, m.field
-    limit_note = ""
-    if _rational_polynomial(fs, xs):
-        try:
-            sol = solve_polynomial_system(fs, xs, names, limits)
-            return sol.points, sol.complete, sol.reason, "groebner", sol.timings
-        except LimitHit as hit:
-            limit_note = f"limit reached in the exact solver ({hit}); "
-    box, note = search_box(m)
-    res = box_search(fs, xs, box)
-    points = []
-    for root in res.roots:
-        lo_hi = root.box
-        mids = {nm: float((a + b) / 2) for nm, (a, b) in zip(names, lo_hi, strict=True)}
-        if root.exact is not None:
-            point = dict(zip(names, root.exact, strict=True))
-            exact = True
-            if not root.unique:
-                mids = {nm: float(arb_value(v, 64).mid()) for nm, v in point.items()}
-                points.append(FoundPoint(point=point, numeric=mids, exact=True))
-                continue
-        else:
-            point = {nm: (a + b) / 2 for nm, (a, b) in zip(names, lo_hi, strict=True)}
-            exact = False
-        points.append(FoundPoint(point=point, numeric=mids, enclosure=lo_hi, exact=exact))
-    points.sort(key=lambda fp: tuple(fp.numeric[nm] for nm in names))
-    complete = res.complete and not limit_note
-    reason = limit_note + res.reason + f" ({note})"
-    if res.complete and limit_note:
-        reason += "; equilibria outside the box are not excluded"
-    return tuple(points), complete, reason, "box search", {}
 
 
 # --- linearization -------------------------------------------------------------
@@ -603,71 +477,3 @@ def survey(model: Model, limits: Limits | None = None) -> Survey:
         reports.append(replace(rep, in_domain=_in_domain(m, fp_decl)))
     timings["linearize"] = time.perf_counter() - t0
     return Survey(tuple(reports), complete, reason, True, method, timings)
-
-
-# --- claims ------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class ClaimCheck:
-    """What the linearization says about a ``stable`` / ``unstable`` claim."""
-
-    claim: str
-    status: Literal["proved", "not proved", "refuted"]
-    reason: str
-    evidence: EquilibriumReport | None
-    parametric: ParametricResult | None = None  # the proof over parameter ranges, if used
-
-
-def _names(s: Survey) -> set[str]:
-    return {e.name for e in s.equilibria if e.name}
-
-
-def check_claim(model: Model, s: Survey, claim: Claim) -> ClaimCheck:
-    """Decide ``claim E stable`` / ``claim E unstable`` from the linearization.
-
-    At nominal values when the model has no uncertain parameter or the claim says
-    ``at nominal``; otherwise ``stable`` is decided over the whole parameter box by
-    :func:`~proofkit.analysis.parametric.parametric_stability`.
-    """
-    if claim.kind not in ("stable", "unstable"):
-        return ClaimCheck(claim.text, "not proved", "not a linearization claim", None)
-    if any(p.is_uncertain for p in model.params) and not claim.at_nominal:
-        if claim.kind == "stable" and claim.target is not None:
-            from proofkit.analysis.parametric import parametric_stability
-
-            try:
-                pr = parametric_stability(model, claim.target)
-            except KeyError:
-                pr = None
-            if pr is not None and pr.status in ("proved", "refuted"):
-                evidence = s.by_name(claim.target) if claim.target in _names(s) else None
-                return ClaimCheck(claim.text, pr.status, pr.reason, evidence, pr)
-            why = pr.reason if pr is not None else f"no equilibrium named {claim.target}"
-            return ClaimCheck(
-                claim.text, "not proved", f"over the parameter ranges: {why}", None, pr
-            )
-        return ClaimCheck(
-            claim.text,
-            "not proved",
-            "the analysis is at nominal parameter values; the claim must hold over the "
-            "parameter ranges and parametric proofs of instability are not available yet",
-            None,
-        )
-    try:
-        e = s.by_name(claim.target or "")
-    except KeyError:
-        return ClaimCheck(claim.text, "not proved", f"no equilibrium named {claim.target}", None)
-    if e.verdict == "inconclusive":
-        why = "eigenvalues on the imaginary axis: the linearization does not decide"
-        if not e.exact and e.routh.rhp_count < 0:
-            why = "a sign could not be certified over the equilibrium's enclosure"
-        return ClaimCheck(claim.text, "not proved", why, e)
-    holds = e.verdict == claim.kind
-    how = (
-        "all eigenvalues in the open left half plane (Lyapunov's indirect method)"
-        if e.verdict == "stable"
-        else f"{e.routh.rhp_count} eigenvalue(s) in the open right half plane "
-        "(Lyapunov's indirect method)"
-    )
-    return ClaimCheck(claim.text, "proved" if holds else "refuted", how, e)

@@ -58,7 +58,7 @@ def instrument() -> None:
     sv._charpoly_in = _timed("characteristic polynomials", sv._charpoly_in)
     sv.routh_array_in = _timed("routh arrays (incl. exact counts)", sv.routh_array_in)
     sv.solve_lyapunov_in = _timed("lyapunov equations", sv.solve_lyapunov_in)
-    sv._find = _timed("find equilibria (total)", sv._find)
+    sv._find = _timed("find equilibria (total)", sv._find)  # surveying's own reference
 
 
 def bench_model(k: sp.Rational, h: sp.Rational) -> Model:
