@@ -234,7 +234,8 @@ def box_search(
     if complete:
         reason = (
             f"the box {box_text} is covered by {processed} boxes, each certified free of "
-            f"equilibria or holding exactly one (Krawczyk test): {len(roots)} equilibria"
+            f"equilibria or holding exactly one (Krawczyk test): {len(roots)} "
+            + ("equilibrium" if len(roots) == 1 else "equilibria")
         )
     elif stack:
         reason = (

@@ -30,6 +30,9 @@ def exact_text(v: object) -> str:
     """Exact text for a sympy number (``"1/3"``, ``"sqrt(2)"``, ``"CRootOf(x**3 - x - 1, 0)"``)."""
     if isinstance(v, sp.Interval):
         return f"[{exact_text(v.start)}, {exact_text(v.end)}]"
+    if isinstance(v, sp.FiniteSet) and len(v) == 1:  # a degenerate interval [a, a]
+        (a,) = tuple(v)
+        return f"[{exact_text(a)}, {exact_text(a)}]"
     try:
         from proofkit.lang import format_expr
 
@@ -48,7 +51,15 @@ def _entry(e: EquilibriumReport) -> dict[str, Any]:
         jac = [[exact_text(v) for v in row] for row in e.jacobian_enclosure]
     return {
         "name": e.name,
-        "point": {k: exact_text(v) for k, v in e.point.items()},
+        # a point known only by its certified box is written as that box, "[lo, hi]"
+        "point": (
+            {k: exact_text(v) for k, v in e.point.items()}
+            if e.exact or e.enclosure is None
+            else {
+                k: f"[{exact_text(a)}, {exact_text(b)}]"
+                for k, (a, b) in zip(e.point, e.enclosure, strict=True)
+            }
+        ),
         "numeric": dict(e.numeric),
         "exact": e.exact,
         "enclosure": (
