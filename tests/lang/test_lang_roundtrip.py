@@ -204,3 +204,17 @@ def test_expressions_with_functions_round_trip(e: Ex) -> None:
     assert rhs == e.value or sp.simplify(rhs - e.value) == 0
     back = parse_model(f"state x, y\nx' = {format_expr(rhs)}\ny' = 0\n").equations[0].rhs
     assert back == rhs, format_expr(rhs)
+
+
+def test_worked_models_and_the_spec_example_round_trip() -> None:
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[2]
+    spec = (root / "grammar" / "LANGUAGE.md").read_text()
+    example = spec.split("```\n", 2)[1]  # the example block of the language page
+    assert "system glider_pitch" in example
+    texts = [p.read_text() for p in sorted((root / "worked").glob("*.pk"))] + [example]
+    for text in texts:
+        m = parse_model(text)
+        printed = format_model(m)
+        assert parse_model(printed) == m, printed
