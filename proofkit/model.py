@@ -90,7 +90,7 @@ class Condition:
     span: SourceSpan | None = field(default=None, compare=False)
 
     def as_nonnegative(self) -> tuple[sp.Expr, bool]:
-        """Return ``(g, strict)`` with the condition equivalent to ``g >= 0`` (``> 0`` if strict)."""
+        """Return ``(g, strict)``: the condition is ``g >= 0`` (``g > 0`` when strict)."""
         g = self.rhs - self.lhs if self.op in ("<=", "<") else self.lhs - self.rhs
         return sp.expand(g), self.op in ("<", ">")
 
