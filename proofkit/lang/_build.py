@@ -364,6 +364,16 @@ class _Builder:
         for eq, st in self.equilibria:
             self.check_equilibrium(eq, st, equations)
         names = [e.name for e, _ in self.equilibria]
+        for claim, _tok in self.claims:
+            if claim.kind in ("cycle", "no cycle") and len(self.states) != 2:
+                assert claim.span is not None
+                raise make_error(
+                    self.where,
+                    f"a '{claim.kind}' claim is about planar systems, and this model has "
+                    f"{len(self.states)} state{'s' if len(self.states) != 1 else ''}",
+                    claim.span.line, claim.span.column, claim.span.end_column,
+                    hint="periodic-orbit claims need exactly two states",
+                )
         for claim, tok in self.claims:
             if tok is not None and claim.target not in names:
                 guess = closest(str(tok), names)

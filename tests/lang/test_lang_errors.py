@@ -233,6 +233,13 @@ def test_claim_must_name_declared_equilibrium() -> None:
     fails("state x\nx' = -x\nclaim x stable\n", 3, 7, "'x' is a state", "equilibrium x at")
 
 
+def test_cycle_claims_need_a_planar_model() -> None:
+    fails("state x\nx' = -x\nclaim no cycle in x^2 <= 1\n", 3, 1,
+          "'no cycle' claim is about planar systems, and this model has 1 state", "two states")
+    fails("state x, y, z\nx' = -x\ny' = -y\nz' = -z\nclaim cycle in x^2 <= 1\n", 5, 1,
+          "has 3 states")
+
+
 def test_chained_condition_must_keep_direction() -> None:
     fails("state x\nx' = -x\ndomain 0 < x > 1\n", 3, 8, "one direction", "a <= x <= b")
 

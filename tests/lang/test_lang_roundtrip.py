@@ -74,7 +74,7 @@ def expressions(leaves: st.SearchStrategy[Ex], max_leaves: int = 6) -> st.Search
 @st.composite
 def models(draw: st.DrawFn) -> tuple[str, dict[str, sp.Expr]]:
     """Model text and the right-hand sides it must mean."""
-    n = draw(st.integers(1, 3))
+    n = draw(st.integers(1, 3)) if draw(st.booleans()) else 2
     states = draw(st.permutations(STATE_POOL))[:n]
     params = draw(st.permutations(PARAM_POOL))[: draw(st.integers(0, 2))]
     consts = draw(st.permutations(CONST_POOL))[: draw(st.integers(0, 1))]
@@ -119,9 +119,10 @@ def models(draw: st.DrawFn) -> tuple[str, dict[str, sp.Expr]]:
     if draw(st.booleans()):
         lines.append(f"domain {set_text()}")
     lines.append("equilibrium O at " + ", ".join(f"{s} = 0" for s in states))
-    for kind in draw(st.lists(st.sampled_from(
-        ["stable", "unstable", "globally stable", "attracts", "no cycle", "cycle"]
-    ), max_size=4)):
+    kinds = ["stable", "unstable", "globally stable", "attracts"]
+    if n == 2:
+        kinds += ["no cycle", "cycle"]  # periodic-orbit claims are for planar models
+    for kind in draw(st.lists(st.sampled_from(kinds), max_size=4)):
         suffix = " at nominal" if draw(st.booleans()) else ""
         if kind in ("stable", "unstable", "globally stable"):
             lines.append(f"claim O {kind}{suffix}")
