@@ -212,7 +212,15 @@ class _Builder:
                     st.meta,
                     hint="write the range as [low, high]",
                 )
-            if _leq(low, nominal) is not True or _leq(nominal, high) is not True:
+            inside = (_leq(low, nominal), _leq(nominal, high))
+            if None in inside and False not in inside:
+                raise self.err(
+                    f"cannot decide exactly whether the nominal value {show(nominal)} of "
+                    f"'{tok}' lies in [{show(low)}, {show(high)}]",
+                    st.meta,
+                    hint="write the nominal value and the range as simpler exact numbers",
+                )
+            if False in inside:
                 raise self.err(
                     f"the nominal value {show(nominal)} of '{tok}' is not in its range "
                     f"[{show(low)}, {show(high)}]",
@@ -403,7 +411,7 @@ class _Builder:
         """f must vanish exactly at the declared point, for every parameter value."""
         point = {sp.Symbol(s, real=True): v for s, v in eq.point}
         residuals = [(e.state, e.rhs.subs(point)) for e in equations]
-        verdicts = [(s, r, _is_zero(r)) for s, r in residuals]
+        verdicts = [(s, r, _zero_or_unknown(r)) for s, r in residuals]
         if all(v is True for _, _, v in verdicts):
             return
         shown = ", ".join(f"{s}' = {_plain(r)}" for s, r, _ in verdicts)
@@ -453,12 +461,23 @@ def _is_zero(e: sp.Expr) -> bool | None:
     return None
 
 
+def _zero_or_unknown(e: sp.Expr) -> bool | None:
+    """:func:`_is_zero`, with sympy failures on odd input read as "undecided"."""
+    try:
+        return _is_zero(e)
+    except (sp.PolynomialError, ValueError, TypeError, NotImplementedError, ArithmeticError):
+        return None
+
+
 def _leq(a: sp.Expr, b: sp.Expr) -> bool | None:
     """Exact ``a <= b`` for constant expressions (None when undecidable)."""
-    d = sp.expand(b - a)
-    if d.is_Rational:
-        return bool(d >= 0)
-    nonneg = d.is_nonnegative
+    try:
+        d = sp.expand(b - a)
+        if d.is_Rational:
+            return bool(d >= 0)
+        nonneg = d.is_nonnegative
+    except (ValueError, TypeError, NotImplementedError, ArithmeticError):
+        return None
     return None if nonneg is None else bool(nonneg)
 
 
