@@ -206,7 +206,7 @@ class _Builder:
         if rng:
             low = self.constant(rng[0], "a parameter range")
             high = self.constant(rng[1], "a parameter range")
-            if _leq(low, high) is not True:
+            if _leq(low, high) is False:
                 raise self.err(
                     f"the range [{show(low)}, {show(high)}] of '{tok}' is empty (low > high)",
                     st.meta,
