@@ -94,6 +94,11 @@ def _fmt(e: sp.Expr) -> tuple[str, int]:
         return "exp(1)", _ATOM
     if e.is_Add:
         terms = e.as_ordered_terms()
+        if terms[0].could_extract_minus_sign():  # lead with a positive term: 1 - x^2
+            first = next((t for t in terms if not t.could_extract_minus_sign()), None)
+            if first is not None:
+                terms.remove(first)
+                terms.insert(0, first)
         out = _fmt(terms[0])[0]
         for t in terms[1:]:
             if t.could_extract_minus_sign():

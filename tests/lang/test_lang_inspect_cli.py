@@ -69,7 +69,7 @@ def test_json_exact_numbers_and_ranges() -> None:
     assert report["params"] == {"k": {"nominal": "1", "range": ["1/2", "2"]}}
     assert report["domain"] == ["s^2 <= 4", "w^2 <= 4"]
     assert report["equilibria"]["jackknife"] == {"s": "k", "w": "0"}
-    assert report["equations"] == {"s": "w", "w": "-k*s + s^2 - w"}
+    assert report["equations"] == {"s": "w", "w": "s^2 - k*s - w"}
     latch = inspect_report(load_model(WORKED / "valve_latch.pk"))["model"]
     assert latch["equilibria"]["open"] == {"x": "1", "y": "1/2"}
     assert latch["domain"] is None and latch["params"] == {}
