@@ -70,7 +70,8 @@ def load_model(path: str | os.PathLike[str]) -> Model:
                 f"{name}: the file has {size} bytes; the limit is {MAX_FILE_BYTES}",
                 hint="a model file should be a short text",
             )
-        data = p.read_bytes()
+        with p.open("rb") as handle:  # bounded read: devices and pipes report no size
+            data = handle.read(MAX_FILE_BYTES + 1)
     except FileNotFoundError:
         raise InputError(f"{name}: no such file", hint="check the path") from None
     except IsADirectoryError:

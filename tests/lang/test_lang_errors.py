@@ -325,6 +325,8 @@ def test_file_errors_name_the_file(tmp_path) -> None:
     good = tmp_path / "bom.pk"
     good.write_bytes(b"\xef\xbb\xbfstate x\nx' = -x\n")
     assert load_model(good).states == ("x",)
+    with pytest.raises(LimitError, match="limit is 1048576"):
+        load_model("/dev/zero")  # an endless device is read only up to the limit
     wrong = tmp_path / "wrong.pk"
     wrong.write_text("state x\nx' = 2x\n")
     with pytest.raises(InputError) as info:
