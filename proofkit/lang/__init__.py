@@ -8,6 +8,12 @@ with file, line, column, a caret under the fault and a hint.
 
 Nothing in a model file is ever evaluated as Python: the lark tree is turned
 into sympy objects by constructors, never by ``sympify``/``parse_expr``/``eval``.
+
+Layout: ``_syntax`` (characters, lexing, line continuation, LALR parse,
+lark errors to plain words), ``_expr`` (the Transformer that builds exact
+sympy values, name resolution, the safety limits), ``_build`` (statements to
+the Model, whole-file checks such as exact equilibria), ``_printer`` (sympy to
+model text), ``_diagnostics`` (messages, hints, typographic characters).
 """
 
 from __future__ import annotations
