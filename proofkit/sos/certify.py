@@ -36,6 +36,7 @@ from proofkit.sos.solve import SOLVER_SETTINGS, NumericSolution, pick_solver, so
 __all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
 
 _MARGIN_NEGATIVE = -1e-7
+_FACE_BUDGET = 20.0  # seconds for kernel facial reduction in decompose
 # Relative diagonal sizes treated as forced zeros, tried in turn: degenerate programs
 # are solved only to about the square root of the solver tolerance.
 _DIAG_ZERO = (1e-7, 1e-5, 1e-3)
@@ -233,7 +234,7 @@ def _face_hints(space, poly, prog, b, q, ladder):
             for acc in (1e-7, 1e-6, 1e-5):
                 rel = integer_relations(kernel, acc)
                 top = min(rel.shape[0], len(b) - kernel.shape[1] - 1)
-                for j in range(top, 0, -1):  # leading subsets, largest first
+                for j in range(top, max(top - 3, 0), -1):  # leading subsets, largest first
                     sub = rel[:j]
                     if sub.tobytes() in tried:
                         continue
@@ -265,6 +266,9 @@ def _try_face(
         basis_syms = [space.monomial(e) for e in b]
         cands = _face_hints(space, poly, prog, b, sol.values["gram"], ladder)
         for cand, note in cands:
+            if time.perf_counter() - t0 > _FACE_BUDGET:
+                notes.append(f"time budget of {_FACE_BUDGET:.0f} s for facial reduction used up")
+                break
             if cand is None:
                 notes.append(note)
                 continue
