@@ -13,6 +13,7 @@ this module must never report that anything is proved.
 from __future__ import annotations
 
 import time
+import warnings
 from dataclasses import dataclass, field
 
 import cvxpy as cp
@@ -172,7 +173,9 @@ def solve_program(
     t0 = time.perf_counter()
     out.build_time = t0 - t_build
     try:
-        prob.solve(solver=name, **opts)
+        with warnings.catch_warnings():  # "inaccurate" is reported in the status instead
+            warnings.simplefilter("ignore", UserWarning)
+            prob.solve(solver=name, **opts)
     except (cp.error.SolverError, ValueError, ArithmeticError) as exc:
         out.message = f"solver error: {exc}"
         out.solve_time = time.perf_counter() - t0
