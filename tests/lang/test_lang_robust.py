@@ -132,6 +132,13 @@ def test_nothing_in_a_model_is_evaluated(monkeypatch: pytest.MonkeyPatch) -> Non
 
     monkeypatch.setattr(core_sympify, "sympify", no_text_sympify)
     monkeypatch.setattr(sympy_parser, "parse_expr", forbidden)
+    # the traps are live: text given to sympy's converters or to eval would fail here
+    with pytest.raises(AssertionError):
+        sympy.sympify("x + 1")
+    with pytest.raises(AssertionError):
+        core_sympify._sympify("x + 1")
+    with pytest.raises(AssertionError):
+        eval("1 + 1")
 
     for text in SEEDS:
         parse_model(text)
