@@ -121,6 +121,8 @@ def make_error(
         return cls(f"{message} (in {where.file})", hint=hint)
     column = column or 1
     source_line = where.line_text(line)
+    if source_line is not None:  # one column per character, so the caret lines up
+        source_line = source_line.replace("\t", " ").replace("\f", " ")
     if source_line is not None and end_column is not None:
         end_column = min(end_column, len(source_line) + 1)
     return cls(

@@ -93,6 +93,14 @@ def test_bracket_hints_and_statement_start() -> None:
     fails("3 = x\n", 1, 1, "expected a statement (system, const, param, state")
 
 
+def test_caret_lines_up_under_tabs() -> None:
+    with pytest.raises(InputError) as info:
+        parse_model("state x\nx'\t=\t2x\n", file="m.pk")
+    lines = str(info.value).splitlines()
+    assert lines[1] == "    x' = 2x"
+    assert lines[2] == "    " + " " * 6 + "^"
+
+
 def test_unexpected_character() -> None:
     fails("state x; x' = -x\n", 1, 8, "unexpected character ';'", "one statement per line")
     fails("state x\nx' = x & 1\n", 2, 8, "unexpected character '&'", "'and'")
