@@ -86,3 +86,16 @@ def test_scalar_objective_and_status() -> None:
         assert sol.status in ("solved", "inaccurate")
         assert abs(float(sol.values["t"][0]) - 2.0) < 1e-3
     assert np.isfinite(sol.solve_time)
+
+
+def test_identity_without_gram_pivot_is_repaired_exactly() -> None:
+    # computed by hand: V is pinned to x^2/3 + y^2 by an identity with no Gram matrix, so
+    # rounding V to a dyadic grid breaks it and the exact least-norm repair must restore
+    # 1/3; V - x^2/4 = x^2/12 + y^2 is then SOS.
+    prog = SearchProgram([X, Y])
+    v = prog.free("V", [X**2, X * Y, Y**2])
+    prog.equate(v, X**2 / 3 + Y**2)
+    prog.require_sos(v - X**2 / 4, "pos")
+    res = solve_exactly(prog)
+    assert res.found, res.reason
+    assert sp.expand(res.exact.polynomial(v) - X**2 / 3 - Y**2) == 0
