@@ -36,7 +36,7 @@ from proofkit.sos.solve import SOLVER_SETTINGS, NumericSolution, pick_solver, so
 __all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
 
 _MARGIN_NEGATIVE = -1e-7
-_FACE_BUDGET = 20.0  # seconds for kernel facial reduction in decompose
+_FACE_BUDGET = 10.0  # seconds for kernel facial reduction in decompose
 # Relative diagonal sizes treated as forced zeros, tried in turn: degenerate programs
 # are solved only to about the square root of the solver tolerance.
 _DIAG_ZERO = (1e-7, 1e-5, 1e-3)
