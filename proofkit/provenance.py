@@ -84,7 +84,7 @@ def check_provenance(cert: dict[str, Any]) -> ProvenanceReport:
         ("domain", "domain"),
     ):
         if fresh[key] == stated[key]:
-            checked.append(f"{words} agree with the source")
+            checked.append(f"{words}: the same as in the source")
         else:
             problems.append(f"the {words} differ from what the source defines")
     if len(claims) != len(parsed.claims):
