@@ -377,7 +377,10 @@ def field_of_exprs(exprs: Iterable[sp.Expr]) -> tuple[RealAlgebraicField, list[A
     """
     from proofkit.analysis.intervals import arb_value
 
-    values = [sp.sympify(e) if isinstance(e, int | Fraction) else e for e in exprs]
+    values = [
+        sp.Rational(e.numerator, e.denominator) if isinstance(e, int | Fraction) else e
+        for e in exprs
+    ]
     for v in values:
         if v.free_symbols:
             raise ValueError(f"not a number: {v}")

@@ -118,7 +118,7 @@ def compile_arb(expr: sp.Expr, symbols: Sequence[sp.Symbol]) -> ArbFunction:
             return lambda xs: abs(arg(xs))
         raise ModelError(f"no interval extension for {type(e).__name__}: {e}")
 
-    return build(sp.sympify(expr))
+    return build(expr if isinstance(expr, sp.Basic) else sp.Integer(expr))
 
 
 def arb_value(expr: sp.Expr, prec: int = 64) -> flint.arb:

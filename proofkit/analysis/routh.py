@@ -222,7 +222,7 @@ def routh_array(coeffs: Sequence[sp.Expr | int]) -> RouthArray:
     Coefficients must be exact real algebraic numbers (integers, rationals,
     radicals, real ``CRootOf``); a float or a symbol is refused.
     """
-    values = [sp.sympify(c) if isinstance(c, int) else c for c in coeffs]
+    values = [sp.Integer(c) if isinstance(c, int) else c for c in coeffs]
     for v in values:
         if isinstance(v, sp.Float) or v.has(sp.Float):
             raise ValueError(f"a floating-point coefficient is not exact: {v}")
