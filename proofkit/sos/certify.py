@@ -28,6 +28,7 @@ from proofkit.exact.facial import face_candidates, integer_relations, range_cand
 from proofkit.exact.ldl import LdlResult
 from proofkit.exact.rounding import DENOMINATOR_LADDER, ExactSolution, round_program
 from proofkit.sos.basis import newton_basis
+from proofkit.sos.face import iterated_faces
 from proofkit.sos.poly import PolySpace
 from proofkit.sos.program import SearchProgram, SosPoly
 from proofkit.sos.refine import gram_system, numerical_kernel, refine_low_rank, solve_on_range
@@ -287,6 +288,50 @@ def _try_face(
     return None
 
 
+def _try_iterated(
+    space: PolySpace,
+    poly: flint.fmpq_mpoly,
+    variables: Sequence[sp.Symbol],
+    res: ProgramOutcome,
+    ladder: Sequence[int],
+    prog: SearchProgram,
+) -> Decomposition | None:
+    """Iterated facial reduction (:mod:`proofkit.sos.face`); every candidate checked exactly."""
+    gram = prog.unknowns[0]
+    if not isinstance(gram, SosPoly) or gram.size == 0:
+        return None
+    # Only for the signature of a missing interior point: a usable solution, margin ~ 0.
+    hints = [s for s, _b in res.numerics if s.usable and (s.margin or 0.0) >= _MARGIN_NEGATIVE]
+    if not hints:
+        return None
+    system = gram_system(prog, gram)
+    if system is None:
+        return None
+    t0 = time.perf_counter()
+    b = gram.basis.copy()
+    basis_syms = [space.monomial(e) for e in b]
+    notes: list[str] = []
+    for cand, note in iterated_faces(space, b, poly, *system, ladder, t0 + _FACE_BUDGET):
+        if cand is None:
+            notes.append(note)
+            continue
+        gmat = sp.Matrix([[sp.Rational(int(x.p), int(x.q)) for x in row] for row in cand])
+        verdict = check_gram(poly, variables, basis_syms, gmat)
+        if verdict.ok:
+            res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
+            att = Attempt("clarabel", len(b), "solved", None, f"exact ({note})")
+            attempts = [*res.attempts, att]
+            return Decomposition(True, basis_syms, gmat, None, attempts, {}, verdict.ldl)
+        notes.append(f"{note}: {verdict.reason}")
+        if time.perf_counter() - t0 > _FACE_BUDGET:
+            notes.append("time budget for iterated facial reduction used up")
+            break
+    res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
+    if notes:
+        res.reason = f"{res.reason}; iterated facial reduction: {notes[-1]}"
+    return None
+
+
 def _not_found(reason: str, attempts: list[Attempt], timings: dict[str, float]) -> Decomposition:
     return Decomposition(False, reason=reason, attempts=attempts, timings=timings)
 
@@ -328,7 +373,9 @@ def decompose(
     res = solve_exactly(prog, solver=solver, ladder=ladder, facial_rounds=facial_rounds)
     timings.update(res.timings)
     if res.exact is None:
-        found = _try_face(space, poly, variables, res, ladder, prog)
+        found = _try_iterated(space, poly, variables, res, ladder, prog)
+        if found is None:
+            found = _try_face(space, poly, variables, res, ladder, prog)
         timings["total"] = time.perf_counter() - t_start
         if found is not None:
             found.timings = timings
