@@ -27,6 +27,7 @@ from __future__ import annotations
 import itertools
 import math
 import time
+import warnings
 from collections.abc import Iterator, Sequence
 from fractions import Fraction
 
@@ -222,7 +223,9 @@ def _solve_face(a_face: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, float] |
     cons = [a_face @ cp.vec(g, order="F") == b, g - t * np.eye(m) >> 0, t <= 1]
     prob = cp.Problem(cp.Maximize(t), cons)
     try:
-        prob.solve(solver=cp.CLARABEL)
+        with warnings.catch_warnings():  # a hint only: inaccuracy shows in the exact check
+            warnings.simplefilter("ignore")
+            prob.solve(solver=cp.CLARABEL)
     except cp.error.SolverError:
         return None
     if g.value is None or prob.status not in (cp.OPTIMAL, cp.OPTIMAL_INACCURATE):

@@ -105,4 +105,3 @@ def solve_on_range(a: np.ndarray, b: np.ndarray, w_rows: np.ndarray) -> np.ndarr
     if g.value is None or prob.status not in (cp.OPTIMAL, cp.OPTIMAL_INACCURATE):
         return None
     return np.array(g.value)
-

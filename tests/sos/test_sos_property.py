@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import pytest
 import sympy as sp
 from hypothesis import given
 from hypothesis import strategies as st
@@ -54,14 +55,75 @@ def test_single_squares_are_certified_exactly(case) -> None:
     _certified_and_rechecked(*case)
 
 
-def _certified_and_rechecked(p: sp.Expr, xs: list[sp.Symbol]) -> None:
+@given(random_sos(interior=False))
+def test_random_sums_of_squares_without_interior_point_are_certified(case) -> None:
+    # common practice: a sum of rational squares has a rational PSD Gram matrix (the sum of
+    # the rank-one matrices w c c'), but when the squares share real zeros (also at infinity,
+    # on faces of the Newton polytope) every Gram matrix is singular and the certificate
+    # must be found on a proper face; each one is re-checked independently here.
+    _certified_and_rechecked(*case)
+
+
+A, B, C = SYMS[:3]
+
+# computed: each p below was built as the weighted sum of squares in its comment; all
+# failed before iterated facial reduction (kept as named regressions).
+REGRESSIONS = {
+    # reported: a^4/4 + 24a^2 + 10ab^2 + b^4 + 1 = (b^2 + 5a)^2 + (a^2/2 - 1)^2, real zeros
+    # at a = -sqrt(2), b^2 = 5 sqrt(2).
+    "irrational_zeros_two_squares": (
+        A**4 / 4 + 24 * A**2 + 10 * A * B**2 + B**4 + 1,
+        [A, B],
+    ),
+    # 5 (1 - 4c^3/3)^2 + 5 (6b^2)^2 + 2 (3b^3/2)^2: zero at b = 0, c = (3/4)^(1/3);
+    # the variable a does not occur.
+    "cube_root_zero_unused_variable": (
+        5 * (1 - sp.Rational(4, 3) * C**3) ** 2 + 5 * (6 * B**2) ** 2
+        + 2 * (sp.Rational(3, 2) * B**3) ** 2,
+        [A, B, C],
+    ),
+    # 2 (a^2 b/2 + 2 a^2 c - 5a^2/3 + c)^2 + 5 (-5a^3/2 - 2a^2 b/3 - a^2 + a c^2/4 - a c)^2
+    #   + (-2a^2 c/3 + 3a^2/4 + 3abc/4 - 3/2)^2: one irrational real zero, singularity degree 2.
+    "three_squares_singularity_degree_two": (
+        2 * (A**2 * B / 2 + 2 * A**2 * C - sp.Rational(5, 3) * A**2 + C) ** 2
+        + 5 * (-sp.Rational(5, 2) * A**3 - sp.Rational(2, 3) * A**2 * B - A**2
+               + A * C**2 / 4 - A * C) ** 2
+        + (-sp.Rational(2, 3) * A**2 * C + sp.Rational(3, 4) * A**2
+           + sp.Rational(3, 4) * A * B * C - sp.Rational(3, 2)) ** 2,
+        [A, B, C],
+    ),
+    # (3ab - 5ac/3 + 6a - 2c^3 - 3c/2)^2/3 + (-ab^2 + 3bc^2/2 - 5bc/3)^2
+    #   + 2 (ab^2 + 6ac^2 - 2c^2)^2: vanishes on the whole line a = c = 0.
+    "zero_line_three_squares": (
+        (3 * A * B - sp.Rational(5, 3) * A * C + 6 * A - 2 * C**3 - sp.Rational(3, 2) * C) ** 2
+        / 3
+        + (-A * B**2 + sp.Rational(3, 2) * B * C**2 - sp.Rational(5, 3) * B * C) ** 2
+        + 2 * (A * B**2 + 6 * A * C**2 - 2 * C**2) ** 2,
+        [A, B, C],
+    ),
+}
+
+
+@pytest.mark.parametrize("name", sorted(REGRESSIONS))
+def test_reported_low_rank_failures_are_certified(name: str) -> None:
+    p, xs = REGRESSIONS[name]
+    p = sp.expand(p)
+    res = _certified_and_rechecked(p, xs)
+    if name != "zero_line_three_squares":
+        # p has a real zero z and 1 is in the basis, so Q b(z) = 0 for every Gram matrix Q
+        assert res.gram.rank() < len(res.basis)
+
+
+def _certified_and_rechecked(p: sp.Expr, xs: list[sp.Symbol]):
     res = decompose(p, xs)
     assert res.found, (p, res.reason)
     if p == 0:
-        return
+        return res
     assert gram_identity_holds(p, res.basis, res.gram)
     assert is_psd_exact(res.gram)
     assert sp.expand(sum(w * q**2 for w, q in res.squares()) - p) == 0
+    assert all(w > 0 for w, _q in res.squares())
+    return res
 
 
 @given(random_sos(), st.integers(1, 50))
