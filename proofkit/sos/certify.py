@@ -294,21 +294,32 @@ def _try_iterated(
     variables: Sequence[sp.Symbol],
     res: ProgramOutcome,
     ladder: Sequence[int],
-    prog: SearchProgram,
+    b: np.ndarray,
 ) -> Decomposition | None:
-    """Iterated facial reduction (:mod:`proofkit.sos.face`); every candidate checked exactly."""
-    gram = prog.unknowns[0]
-    if not isinstance(gram, SosPoly) or gram.size == 0:
+    """Iterated facial reduction (:mod:`proofkit.sos.face`) on the basis ``b``; checked exactly."""
+    if b.shape[0] == 0:
         return None
     # Only for the signature of a missing interior point: a usable solution, margin ~ 0.
-    hints = [s for s, _b in res.numerics if s.usable and (s.margin or 0.0) >= _MARGIN_NEGATIVE]
+    def near_psd(sol: NumericSolution) -> bool:
+        q = np.asarray(sol.values.get("gram", np.zeros((0, 0))), dtype=float)
+        if q.size == 0 or not np.all(np.isfinite(q)):
+            return False
+        w = np.linalg.eigvalsh((q + q.T) / 2)
+        return float(w.min()) >= -1e-6 * max(1.0, float(np.abs(w).max()))
+
+    hints = [
+        s for s, _b in res.numerics
+        if s.usable and (s.margin or 0.0) >= _MARGIN_NEGATIVE and near_psd(s)
+    ]
     if not hints:
         return None
+    prog = SearchProgram(variables)  # fresh: solve_exactly may have shrunk its bases
+    gram = prog.sos("gram", b)
+    prog.equate(gram, poly, name="target")
     system = gram_system(prog, gram)
     if system is None:
         return None
     t0 = time.perf_counter()
-    b = gram.basis.copy()
     basis_syms = [space.monomial(e) for e in b]
     notes: list[str] = []
     for cand, note in iterated_faces(space, b, poly, *system, ladder, t0 + _FACE_BUDGET):
@@ -373,7 +384,7 @@ def decompose(
     res = solve_exactly(prog, solver=solver, ladder=ladder, facial_rounds=facial_rounds)
     timings.update(res.timings)
     if res.exact is None:
-        found = _try_iterated(space, poly, variables, res, ladder, prog)
+        found = _try_iterated(space, poly, variables, res, ladder, b)
         if found is None:
             found = _try_face(space, poly, variables, res, ladder, prog)
         timings["total"] = time.perf_counter() - t_start

@@ -198,12 +198,9 @@ def newton_face_kernel(
         gm, margin = solved
         if margin > 1e-6 * max(1.0, float(np.abs(gm).max())):
             continue
-        ref = refine_low_rank(*system, gm)
-        w, v = np.linalg.eigh(ref if ref is not None else gm)
-        k = face_gap_rank(w)
-        if k == 0:
-            continue
-        guess = next(rational_complement(v[:, :k], v[:, k:]), None)
+        ident = np.eye(len(idx), dtype=np.int64).astype(object)
+        from_zeros = zero_relations(sub_b, ident.tolist(), real_zeros(space, sub_t))
+        guess = _face_guess(system, gm, from_zeros)
         if guess is None:
             continue
         for kv in _nullspace(guess.tolist(), len(idx)):
@@ -212,6 +209,33 @@ def newton_face_kernel(
                 full[j] = val
             kernel_rows.append(full)
     return kernel_rows
+
+
+def _face_guess(
+    system: tuple[np.ndarray, np.ndarray], gm: np.ndarray, from_zeros: np.ndarray | None
+) -> np.ndarray | None:
+    """The first exact range guess for a face block on which a PSD Gram matrix still exists."""
+    a, b = system
+
+    def guesses() -> Iterator[np.ndarray]:
+        if from_zeros is not None:
+            yield from_zeros.astype(object)
+        ref = refine_low_rank(a, b, gm)
+        w, v = np.linalg.eigh(ref if ref is not None else gm)
+        k = face_gap_rank(w)
+        # Only a rational kernel read off the numbers is trusted here (a guess on a
+        # smaller face would over-restrict the whole problem); zeros cover the rest.
+        if k:
+            for guess in rational_complement(v[:, :k], v[:, k:]):
+                if len(guess) == len(w) - k:
+                    yield guess
+
+    for guess in guesses():
+        wf = np.array(guess, dtype=float)
+        solved = _solve_face(a @ np.kron(wf.T, wf.T), b)
+        if solved is not None and solved[1] > -1e-7 * max(1.0, float(np.abs(solved[0]).max())):
+            return guess
+    return None
 
 
 def _solve_face(a_face: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, float] | None:

@@ -9,8 +9,10 @@ kernel read off a floating-point solution is accurate only to about 1e-7 on
 programs of singularity degree two, far too coarse for that.
 
 Zeros are located by local minimisation from fixed random starts (floats),
-then polished by Newton's method on the gradient in ``mpmath`` (isolated zeros
-with a nonsingular Hessian only). Everything here is a hint for the exact
+then polished by Newton's method on the gradient in ``mpmath`` (with the
+Hessian's pseudo-inverse, so a point on a curve of zeros is reached too; a
+polynomial vanishing at a random point of an irreducible curve vanishes on all
+of it). Everything here is a hint for the exact
 check in :mod:`proofkit.exact.check`; nothing is evidence.
 """
 
@@ -71,10 +73,17 @@ def real_zeros(space: PolySpace, target: flint.fmpq_mpoly, starts: int = 24) -> 
                 if mpmath.norm(gz) < mpmath.mpf(10) ** (-(_DPS - 8)) * coef:
                     ok = True
                     break
-                try:
-                    z = z - mpmath.lu_solve(mpmath.matrix(hm(list(z))), gz)
-                except ZeroDivisionError:
+                # Newton with the pseudo-inverse of the Hessian: converges to a point of
+                # a zero manifold too (curves of zeros, variables that do not occur).
+                ev, vec = mpmath.eigsy(mpmath.matrix(hm(list(z))))
+                big = max(abs(e) for e in ev)
+                if big == 0:
                     break
+                proj = vec.T * gz
+                for i in range(len(xs)):
+                    e = ev[i]
+                    proj[i] = proj[i] / e if abs(e) > big * mpmath.mpf(10) ** (-25) else 0
+                z = z - vec * proj
             if ok and abs(fm(list(z))) < mpmath.mpf(10) ** (-(_DPS - 12)) * coef:
                 out.append([z[i] for i in range(len(xs))])
     return out
@@ -98,8 +107,8 @@ def zero_relations(
             bz = [mpmath.fprod(z[i] ** int(e) for i, e in enumerate(row) if e) for row in basis]
             u = [mpmath.fsum(wi * bi for wi, bi in zip(wrow, bz, strict=True)) for wrow in w]
             top = max(abs(x) for x in u)
-            if top == 0:
-                continue
+            if top < mpmath.mpf(10) ** -12 * max(1, *(abs(x) for x in bz)):
+                continue  # b(z) ~ 0 on this face: its direction is noise
             cols.append([x / top for x in u])
         if not cols:
             return None
