@@ -270,14 +270,17 @@ def iterated_faces(
     """Candidates ``(Q, note)`` on faces found by iterated exact facial reduction."""
     n = basis.shape[0]
     stack: list[tuple[np.ndarray, int]] = [(np.eye(n, dtype=np.int64).astype(object), 0)]
-    kernel = newton_face_kernel(space, basis, target, deadline)
-    if kernel:
-        rows = _nullspace(kernel, n)
-        if rows:
-            stack.append((np.array(rows, dtype=object), 1))
     zeros = real_zeros(space, target)
     restricted: set[int] = set()
-    while stack:
+    faces_done = False
+    while stack or not faces_done:
+        if not stack:  # second phase: kernels forced by faces of the Newton polytope
+            faces_done = True
+            kernel = newton_face_kernel(space, basis, target, deadline)
+            rows = _nullspace(kernel, n) if kernel else []
+            if not rows:
+                continue
+            stack.append((np.array(rows, dtype=object), 1))
         if time.perf_counter() > deadline:
             yield None, "time budget for iterated facial reduction used up"
             return
