@@ -37,7 +37,8 @@ from proofkit.sos.solve import SOLVER_SETTINGS, NumericSolution, pick_solver, so
 __all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
 
 _MARGIN_NEGATIVE = -1e-7
-_FACE_BUDGET = 10.0  # seconds for kernel facial reduction in decompose
+_FACE_BUDGET = 12.0  # seconds for all facial reduction after the ladder in decompose
+_ITERATED_SHARE = 8.0  # of which at most this for iterated facial reduction
 # Relative diagonal sizes treated as forced zeros, tried in turn: degenerate programs
 # are solved only to about the square root of the solver tolerance.
 _DIAG_ZERO = (1e-7, 1e-5, 1e-3)
@@ -255,6 +256,7 @@ def _try_face(
     res: ProgramOutcome,
     ladder: Sequence[int],
     prog: SearchProgram,
+    budget: float = _FACE_BUDGET,
 ) -> Decomposition | None:
     """Facial reduction by the numerical kernel (see :mod:`proofkit.exact.facial`)."""
     t0 = time.perf_counter()
@@ -267,8 +269,8 @@ def _try_face(
         basis_syms = [space.monomial(e) for e in b]
         cands = _face_hints(space, poly, prog, b, sol.values["gram"], ladder)
         for cand, note in cands:
-            if time.perf_counter() - t0 > _FACE_BUDGET:
-                notes.append(f"time budget of {_FACE_BUDGET:.0f} s for facial reduction used up")
+            if time.perf_counter() - t0 > budget:
+                notes.append(f"time budget of {budget:.1f} s for facial reduction used up")
                 break
             if cand is None:
                 notes.append(note)
@@ -322,7 +324,7 @@ def _try_iterated(
     t0 = time.perf_counter()
     basis_syms = [space.monomial(e) for e in b]
     notes: list[str] = []
-    for cand, note in iterated_faces(space, b, poly, *system, ladder, t0 + _FACE_BUDGET):
+    for cand, note in iterated_faces(space, b, poly, *system, ladder, t0 + _ITERATED_SHARE):
         if cand is None:
             notes.append(note)
             continue
@@ -334,7 +336,7 @@ def _try_iterated(
             attempts = [*res.attempts, att]
             return Decomposition(True, basis_syms, gmat, None, attempts, {}, verdict.ldl)
         notes.append(f"{note}: {verdict.reason}")
-        if time.perf_counter() - t0 > _FACE_BUDGET:
+        if time.perf_counter() - t0 > _ITERATED_SHARE:
             notes.append("time budget for iterated facial reduction used up")
             break
     res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
@@ -384,9 +386,11 @@ def decompose(
     res = solve_exactly(prog, solver=solver, ladder=ladder, facial_rounds=facial_rounds)
     timings.update(res.timings)
     if res.exact is None:
+        t_face = time.perf_counter()
         found = _try_iterated(space, poly, variables, res, ladder, b)
         if found is None:
-            found = _try_face(space, poly, variables, res, ladder, prog)
+            left = max(2.0, _FACE_BUDGET - (time.perf_counter() - t_face))
+            found = _try_face(space, poly, variables, res, ladder, prog, left)
         timings["total"] = time.perf_counter() - t_start
         if found is not None:
             found.timings = timings
