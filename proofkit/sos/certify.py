@@ -5,7 +5,11 @@ exact rounding with a denominator ladder (:func:`proofkit.exact.round_program`),
 then facial reduction (drop Gram basis monomials whose diagonal the solution
 shows forced to zero) and re-solve, then the other solver; when every rung
 fails it says why. ``decompose`` adds cheap necessary conditions (odd degree,
-a negative value at a rational sample point) and the Newton-polytope basis.
+a negative value at a rational sample point) and the Newton-polytope basis,
+and, when the ladder fails on a program with no interior point, iterated
+facial reduction (:mod:`proofkit.sos.face`: exact faces from high-precision
+real zeros and Newton-polytope faces) and then the single-step kernel
+reduction, within one shared time budget.
 
 ``found=True`` is returned only after :func:`proofkit.exact.check.check_gram`
 passed (identity expanded exactly, LDL' over QQ). This module never trusts a
