@@ -27,7 +27,7 @@ import flint
 import numpy as np
 import sympy as sp
 
-from proofkit.exact.check import check_gram, squares_from_ldl
+from proofkit.exact.check import GramCheck, check_gram, squares_from_ldl
 from proofkit.exact.facial import face_candidates, integer_relations, range_candidates
 from proofkit.exact.ldl import LdlResult
 from proofkit.exact.rounding import DENOMINATOR_LADDER, ExactSolution, round_program
@@ -253,6 +253,17 @@ def _face_hints(space, poly, prog, b, q, ladder):
     yield from face_candidates(space, b, poly, q, ladder)
 
 
+def _check_candidate(
+    cand: Sequence[Sequence[flint.fmpq]],
+    poly: flint.fmpq_mpoly,
+    variables: Sequence[sp.Symbol],
+    basis_syms: list[sp.Expr],
+) -> tuple[sp.Matrix, GramCheck]:
+    """An exact Gram candidate as a sympy matrix, and the exact verdict on it."""
+    gmat = sp.Matrix([[sp.Rational(int(x.p), int(x.q)) for x in row] for row in cand])
+    return gmat, check_gram(poly, variables, basis_syms, gmat)
+
+
 def _try_face(
     space: PolySpace,
     poly: flint.fmpq_mpoly,
@@ -279,8 +290,7 @@ def _try_face(
             if cand is None:
                 notes.append(note)
                 continue
-            gmat = sp.Matrix([[sp.Rational(int(x.p), int(x.q)) for x in row] for row in cand])
-            verdict = check_gram(poly, variables, basis_syms, gmat)
+            gmat, verdict = _check_candidate(cand, poly, variables, basis_syms)
             if verdict.ok:
                 res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
                 att = Attempt(sol.solver, len(b), sol.status, sol.margin, f"exact ({note})")
@@ -332,8 +342,7 @@ def _try_iterated(
         if cand is None:
             notes.append(note)
             continue
-        gmat = sp.Matrix([[sp.Rational(int(x.p), int(x.q)) for x in row] for row in cand])
-        verdict = check_gram(poly, variables, basis_syms, gmat)
+        gmat, verdict = _check_candidate(cand, poly, variables, basis_syms)
         if verdict.ok:
             res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
             att = Attempt("clarabel", len(b), "solved", None, f"exact ({note})")
