@@ -1,6 +1,9 @@
 """Claims ``E stable`` / ``E unstable`` decided from a survey (and over parameter boxes).
 
-This module must never report "proved" without an exact (or certified) verdict behind it.
+These are exact findings of the search side, not audited proofs: the words are
+"holds", "fails" and "undecided". Only ``proofkit prove`` says "proved", and only
+for a certificate the audit accepted. This module must never decide a claim
+without an exact (or certified) verdict behind it.
 """
 
 from __future__ import annotations
@@ -20,7 +23,7 @@ class ClaimCheck:
     """What the linearization says about a ``stable`` / ``unstable`` claim."""
 
     claim: str
-    status: Literal["proved", "not proved", "refuted"]
+    status: Literal["holds", "undecided", "fails"]
     reason: str
     evidence: EquilibriumReport | None
     parametric: ParametricResult | None = None  # the proof over parameter ranges, if used
@@ -38,7 +41,7 @@ def check_claim(model: Model, s: Survey, claim: Claim) -> ClaimCheck:
     :func:`~proofkit.analysis.parametric.parametric_stability`.
     """
     if claim.kind not in ("stable", "unstable"):
-        return ClaimCheck(claim.text, "not proved", "not a linearization claim", None)
+        return ClaimCheck(claim.text, "undecided", "not a linearization claim", None)
     if any(p.is_uncertain for p in model.params) and not claim.at_nominal:
         if claim.kind == "stable" and claim.target is not None:
             from proofkit.analysis.parametric import parametric_stability
@@ -47,16 +50,16 @@ def check_claim(model: Model, s: Survey, claim: Claim) -> ClaimCheck:
                 pr = parametric_stability(model, claim.target)
             except KeyError:
                 pr = None
-            if pr is not None and pr.status in ("proved", "refuted"):
+            if pr is not None and pr.status in ("holds", "fails"):
                 evidence = s.by_name(claim.target) if claim.target in _names(s) else None
                 return ClaimCheck(claim.text, pr.status, pr.reason, evidence, pr)
             why = pr.reason if pr is not None else f"no equilibrium named {claim.target}"
             return ClaimCheck(
-                claim.text, "not proved", f"over the parameter ranges: {why}", None, pr
+                claim.text, "undecided", f"over the parameter ranges: {why}", None, pr
             )
         return ClaimCheck(
             claim.text,
-            "not proved",
+            "undecided",
             "the analysis is at nominal parameter values; the claim must hold over the "
             "parameter ranges and parametric proofs of instability are not available yet",
             None,
@@ -64,12 +67,12 @@ def check_claim(model: Model, s: Survey, claim: Claim) -> ClaimCheck:
     try:
         e = s.by_name(claim.target or "")
     except KeyError:
-        return ClaimCheck(claim.text, "not proved", f"no equilibrium named {claim.target}", None)
+        return ClaimCheck(claim.text, "undecided", f"no equilibrium named {claim.target}", None)
     if e.verdict == "inconclusive":
         why = "eigenvalues on the imaginary axis: the linearization does not decide"
         if not e.exact and e.routh.rhp_count < 0:
             why = "a sign could not be certified over the equilibrium's enclosure"
-        return ClaimCheck(claim.text, "not proved", why, e)
+        return ClaimCheck(claim.text, "undecided", why, e)
     holds = e.verdict == claim.kind
     how = (
         "all eigenvalues in the open left half plane (Lyapunov's indirect method)"
@@ -77,4 +80,4 @@ def check_claim(model: Model, s: Survey, claim: Claim) -> ClaimCheck:
         else f"{e.routh.rhp_count} eigenvalue(s) in the open right half plane "
         "(Lyapunov's indirect method)"
     )
-    return ClaimCheck(claim.text, "proved" if holds else "refuted", how, e)
+    return ClaimCheck(claim.text, "holds" if holds else "fails", how, e)

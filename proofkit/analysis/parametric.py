@@ -34,10 +34,10 @@ Interval = tuple[flint.fmpq, flint.fmpq]
 
 @dataclass(frozen=True)
 class ParametricResult:
-    """``proved``: Delta_i(p) > 0 on the whole box; ``refuted``: a value where the linearization
+    """``holds``: Delta_i(p) > 0 on the whole box; ``fails``: a value where the linearization
     has a root in the closed right half plane; ``unknown``: neither was shown (see reason)."""
 
-    status: Literal["proved", "refuted", "unknown"]
+    status: Literal["holds", "fails", "unknown"]
     reason: str
     params: tuple[str, ...]
     box: tuple[tuple[sp.Rational, sp.Rational], ...]
@@ -101,7 +101,7 @@ def _value(
 def _prove_positive(
     poly: sp.Expr, syms: Sequence[sp.Symbol], box: Sequence[Interval], budget: int
 ) -> tuple[str, list[flint.fmpq] | None, int]:
-    """('proved' | 'counterexample' | 'budget', point, boxes used) for poly > 0 on the box."""
+    """('positive' | 'counterexample' | 'budget', point, boxes used) for poly > 0 on the box."""
     P = sp.Poly(poly, *syms, domain=sp.QQ)
     terms = [(m, _q(c)) for m, c in P.terms()]
     for corner in itertools.product(*box):
@@ -126,7 +126,7 @@ def _prove_positive(
         left, right = list(b), list(b)
         left[k], right[k] = (a, m), (m, c)
         stack.extend([left, right])
-    return "proved", None, used
+    return "positive", None, used
 
 
 def parametric_stability(model: Model, name: str, budget: int = 4000) -> ParametricResult:
@@ -175,7 +175,7 @@ def parametric_stability(model: Model, name: str, budget: int = 4000) -> Paramet
             text = ", ".join(f"{k} = {v}" for k, v in at.items())
             if ra.rhp_count > 0:
                 return ParametricResult(
-                    "refuted",
+                    "fails",
                     f"at {text} the linearization has {ra.rhp_count} root(s) in the open right "
                     f"half plane (Delta_{i} = {d.subs({s: at[str(s)] for s in syms})})",
                     tuple(at),
@@ -197,7 +197,7 @@ def parametric_stability(model: Model, name: str, budget: int = 4000) -> Paramet
             )
     ranges = ", ".join(f"{p.name} in [{p.low}, {p.high}]" for p in uncertain)
     return ParametricResult(
-        "proved",
+        "holds",
         f"every Hurwitz determinant is positive for {ranges} (exact interval bisection, "
         f"{used_total} boxes): Lyapunov's indirect method at every parameter value",
         tuple(p.name for p in uncertain),

@@ -108,35 +108,35 @@ def test_claims_from_linearization_and_parameter_ranges() -> None:
     s = survey(m)
     assert s.at_nominal
     c = check_claim(m, s, Claim("stable", "o stable", target="o"))
-    assert c.status == "proved" and "indirect method" in c.reason
+    assert c.status == "holds" and "indirect method" in c.reason
     c = check_claim(m, s, Claim("unstable", "o unstable", target="o"))
-    assert c.status == "refuted"
+    assert c.status == "fails"
     # computed by hand: eigenvalues -k and -1, so stable for every k in [1, 3] ...
     ranged = replace(m, params=(Param("k", sp.Integer(2), sp.Integer(1), sp.Integer(3)),))
     c = check_claim(ranged, survey(ranged), Claim("stable", "o stable", target="o"))
-    assert c.status == "proved" and "Hurwitz determinant" in c.reason
+    assert c.status == "holds" and "Hurwitz determinant" in c.reason
     # ... not for k in [-1, 3]: at k = -1 an eigenvalue is +1
     wide = replace(m, params=(Param("k", sp.Integer(2), sp.Integer(-1), sp.Integer(3)),))
     c = check_claim(wide, survey(wide), Claim("stable", "o stable", target="o"))
-    assert c.status == "refuted" and c.parametric is not None
+    assert c.status == "fails" and c.parametric is not None
     assert c.parametric.counterexample == {"k": -1}
     # ... and at k = 0 (range [0, 3]) an eigenvalue is 0: neither proved nor refuted
     edge = replace(m, params=(Param("k", sp.Integer(2), sp.Integer(0), sp.Integer(3)),))
     c = check_claim(edge, survey(edge), Claim("stable", "o stable", target="o"))
-    assert c.status == "not proved" and "imaginary axis" in c.reason
+    assert c.status == "undecided" and "imaginary axis" in c.reason
     c = check_claim(edge, survey(edge), Claim("unstable", "o unstable", target="o"))
-    assert c.status == "not proved" and "parameter" in c.reason
+    assert c.status == "undecided" and "parameter" in c.reason
     c = check_claim(
         ranged, survey(ranged), Claim("stable", "o stable at nominal", target="o", at_nominal=True)
     )
-    assert c.status == "proved"
+    assert c.status == "holds"
 
 
 def test_centre_claim_not_proved() -> None:
     # common practice: eigenvalues +-i leave Lyapunov's indirect method undecided
     m = model("x y", [y, -x], equilibria={"o": {"x": 0, "y": 0}})
     c = check_claim(m, survey(m), Claim("stable", "o stable", target="o"))
-    assert c.status == "not proved" and "imaginary axis" in c.reason
+    assert c.status == "undecided" and "imaginary axis" in c.reason
 
 
 def test_declared_point_outside_the_search_box_is_still_analysed() -> None:
