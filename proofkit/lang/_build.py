@@ -22,6 +22,7 @@ from proofkit.errors import InputError, SourceSpan
 from proofkit.lang._diagnostics import Located, closest, make_error
 from proofkit.lang._expr import (
     FUNCTIONS,
+    KIND_WORDS,
     MAX_EXPR_DEPTH,
     MAX_NODES,
     MAX_TERMS,
@@ -49,13 +50,6 @@ __all__ = ["build_model"]
 _CONST = frozenset({"const"})
 _DYNAMIC = frozenset({"const", "param", "state", "let"})
 _POINT = frozenset({"const", "param"})
-_KIND_WORDS = {
-    "const": "a constant",
-    "param": "a parameter",
-    "state": "a state",
-    "let": "a shorthand (let)",
-    "equilibrium": "an equilibrium",
-}
 _CLAIM_KINDS = {
     "claim_stable": "stable",
     "claim_unstable": "unstable",
@@ -165,7 +159,7 @@ class _Builder:
         old = self.env.get(name)
         if old is not None:
             raise self.err(
-                f"'{name}' is already declared as {_KIND_WORDS[old.kind]} on line {old.line}",
+                f"'{name}' is already declared as {KIND_WORDS[old.kind]} on line {old.line}",
                 tok,
                 hint=f"each name is declared once; first declaration at "
                 f"{self.where.file}:{old.line}:{old.column}",
@@ -256,7 +250,7 @@ class _Builder:
         if binding is None or binding.kind != "state":
             if binding is not None:
                 raise self.err(
-                    f"'{name}' is {_KIND_WORDS[binding.kind]}, not a state; only states "
+                    f"'{name}' is {KIND_WORDS[binding.kind]}, not a state; only states "
                     "have equations", tok,
                 )
             if self.states is None:
@@ -386,7 +380,7 @@ class _Builder:
             if tok is not None and claim.target not in names:
                 guess = closest(str(tok), names)
                 kind = self.env.get(str(tok))
-                what = f"; '{tok}' is {_KIND_WORDS[kind.kind]}" if kind else ""
+                what = f"; '{tok}' is {KIND_WORDS[kind.kind]}" if kind else ""
                 raise self.err(
                     f"the claim names '{tok}', which is not a declared equilibrium{what}", tok,
                     hint=f"did you mean '{guess}'?" if guess else

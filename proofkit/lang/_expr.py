@@ -26,6 +26,7 @@ from proofkit.lang._diagnostics import Located, closest, make_error
 
 __all__ = [
     "FUNCTIONS",
+    "KIND_WORDS",
     "MAX_EXPONENT",
     "MAX_EXPR_DEPTH",
     "MAX_NODES",
@@ -66,7 +67,7 @@ _PLURAL = {
     "state": "states",
     "let": "shorthands (let)",
 }
-_KIND_WORDS = {
+KIND_WORDS = {
     "const": "a constant",
     "param": "a parameter",
     "state": "a state",
@@ -336,7 +337,7 @@ class ExprBuilder(Transformer):
             may = ", ".join(_PLURAL[k] for k in ("const", "param", "state", "let")
                             if k in self.allowed)
             raise self._err(
-                f"'{name}' is {_KIND_WORDS[binding.kind]}, which {self.purpose} cannot use",
+                f"'{name}' is {KIND_WORDS[binding.kind]}, which {self.purpose} cannot use",
                 line, col, end,
                 hint=f"{self.purpose} may use numbers, pi, functions and {may}",
             )
@@ -430,7 +431,7 @@ class ExprBuilder(Transformer):
         if name not in FUNCTIONS:
             binding = self.env.get(name)
             if binding is not None or name == "pi":
-                kind = "a constant" if name == "pi" else _KIND_WORDS[binding.kind]  # type: ignore[union-attr]
+                kind = "a constant" if name == "pi" else KIND_WORDS[binding.kind]  # type: ignore[union-attr]
                 raise self._err(
                     f"'{name}' is {kind}, not a function, so it cannot be called",
                     line, col, end,
