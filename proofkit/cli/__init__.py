@@ -18,7 +18,7 @@ EXIT_OK, EXIT_FAILED, EXIT_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 
 # Each command module exposes ``register(subparsers)`` that adds its parser and
 # sets ``func`` (args -> exit code) as the parser's default.
-_COMMANDS = ("inspect", "prove", "audit")
+_COMMANDS = ("inspect", "prove", "audit", "basin", "orbit", "portrait", "shell")
 
 
 def build_parser() -> argparse.ArgumentParser:
