@@ -41,7 +41,9 @@ class RouthArray:
     """An exact Routh array and what it says about the roots.
 
     ``rows[i]`` is the row of power s^(n-i); entries may contain ``EPSILON``
-    after a zero-in-first-column event. ``first_column_signs`` are the exact
+    after a zero-in-first-column event; ``field_rows`` holds the entries as
+    field elements (full width, zero-padded) when the array is regular.
+    ``first_column_signs`` are the exact
     signs (as epsilon -> 0+). ``rhp_count`` / ``imag_count`` count roots in the
     open right half plane / on the imaginary axis, with multiplicity.
     """
@@ -55,6 +57,7 @@ class RouthArray:
     sign_changes: int
     rhp_count: int
     imag_count: int
+    field_rows: tuple[tuple[AlgNum, ...], ...] | None = None  # regular arrays: exact entries
 
     @property
     def degree(self) -> int:
@@ -192,6 +195,10 @@ def routh_array_in(coeffs: Sequence[AlgNum], K: RealAlgebraicField) -> RouthArra
         settle(i)
 
     signs = tuple(r[0].sign() for r in rows)
+    regular = not special and all(s != 0 for s in signs)
+    field_rows = (
+        tuple(tuple(e.num[0] if e.num else K.zero for e in r) for r in rows) if regular else None
+    )
     changes = sum(1 for x, y in itertools.pairwise(signs) if x != y)
     rhp, imag, _d = kpoly.rhp_imag_counts(list(reversed(cs)), K)
     if changes != rhp:
@@ -213,6 +220,7 @@ def routh_array_in(coeffs: Sequence[AlgNum], K: RealAlgebraicField) -> RouthArra
         sign_changes=changes,
         rhp_count=rhp,
         imag_count=imag,
+        field_rows=field_rows,
     )
 
 

@@ -31,6 +31,7 @@ from proofkit.analysis.boxsearch import _arb_to_q, _ball
 from proofkit.analysis.equilibria import FoundPoint, Limits, _eval_poly_at, _fq
 from proofkit.analysis.finding import _find, search_box
 from proofkit.analysis.intervals import arb_value, compile_arb
+from proofkit.analysis.linear import characteristic_polynomial
 from proofkit.analysis.lyapunov import LyapunovSolution, solve_lyapunov_in
 from proofkit.analysis.routh import RouthArray, routh_array_in
 from proofkit.model import Model
@@ -81,29 +82,6 @@ class Survey:
 # --- linearization -------------------------------------------------------------
 
 
-def _charpoly_in(J: list[list[AlgNum]], K: RealAlgebraicField) -> list[AlgNum]:
-    """det(sI - J), highest degree first (Faddeev–LeVerrier; exact division by k)."""
-    n = len(J)
-    if K.is_rational:
-        M = flint.fmpq_mat(n, n, [v.rational() for row in J for v in row])
-        cs = M.charpoly().coeffs()
-        return [K(c) for c in reversed(cs)]
-    coeffs = [K.one]
-    Mk = [[K.zero] * n for _ in range(n)]
-    for k in range(1, n + 1):
-        c_prev = coeffs[-1]
-        Mk = [
-            [
-                sum((J[i][t] * Mk[t][j] for t in range(n)), K.zero) + (c_prev if i == j else K.zero)
-                for j in range(n)
-            ]
-            for i in range(n)
-        ]
-        tr = sum((sum((J[i][t] * Mk[t][i] for t in range(n)), K.zero) for i in range(n)), K.zero)
-        coeffs.append(-tr / k)
-    return coeffs
-
-
 def _planar_type(J: list[list[AlgNum]]) -> str:
     tr = J[0][0] + J[1][1]
     det = J[0][0] * J[1][1] - J[0][1] * J[1][0]
@@ -142,7 +120,7 @@ def _exact_report(
     note: str = "",
 ) -> EquilibriumReport:
     n = len(J)
-    cp = _charpoly_in(J, K)
+    cp = characteristic_polynomial(J, K)
     ra = routh_array_in(cp, K)
     verdict = _verdict(ra.rhp_count, ra.imag_count)
     planar = _planar_type(J) if n == 2 else None
