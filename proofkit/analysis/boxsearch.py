@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import itertools
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from fractions import Fraction
 
 import flint
@@ -165,6 +165,92 @@ def _identify(
     return None
 
 
+@dataclass
+class _Bisection:
+    """The state of one branch-and-prune run over a box."""
+
+    stack: list[Box]
+    found: list[Box] = field(default_factory=list)
+    undecided: list[Box] = field(default_factory=list)
+    processed: int = 0
+    unresolved: int = 0
+
+
+def _process(kr: _Krawczyk, b: Box, run: _Bisection, mw: flint.fmpq) -> None:
+    """Exclude b, certify one zero in it, or split it (or give it up when tiny)."""
+    X = [_ball(lo, hi) for lo, hi in b]
+    if kr.excluded_by_range(X):
+        return
+    verdict, kbox = kr.step(b)
+    if verdict == "none":
+        return
+    if verdict != "unique":
+        # epsilon-inflation: a unique zero in a slightly larger box covers this box
+        # too (and catches zeros on a face shared by two boxes)
+        wide = [(lo - (hi - lo) / 8, hi + (hi - lo) / 8) for lo, hi in b]
+        verdict, kbox = kr.step(wide)
+    if verdict == "unique":
+        assert kbox is not None
+        run.found.append(_refine(kr, kbox))
+        return
+    widths = [hi - lo for lo, hi in b]
+    k = max(range(len(b)), key=lambda i: widths[i])
+    if widths[k] < mw:
+        run.unresolved += 1
+        if len(run.undecided) < 64:
+            run.undecided.append(b)
+        return
+    lo, hi = b[k]
+    mid = lo + (hi - lo) * _SPLIT  # off-centre: rational zeros rarely sit on a face
+    left, right = list(b), list(b)
+    left[k], right[k] = (lo, mid), (mid, hi)
+    run.stack.extend([right, left])
+
+
+def _outcome_text(run: _Bisection, complete: bool, start: Box, roots: int, limits: str) -> str:
+    box_text = " x ".join(f"[{_to_rational(lo)}, {_to_rational(hi)}]" for lo, hi in start)
+    if complete:
+        return (
+            f"the box {box_text} is covered by {run.processed} boxes, each certified free of "
+            f"equilibria or holding exactly one (Krawczyk test): {roots} "
+            + ("equilibrium" if roots == 1 else "equilibria")
+        )
+    if run.stack:
+        return (
+            f"incomplete: budget reached ({run.processed} boxes of at most {limits}) "
+            f"in the box {box_text}"
+        )
+    if run.unresolved:
+        return f"incomplete: {run.unresolved} tiny boxes in {box_text} could not be decided"
+    return "incomplete: two root enclosures could not be separated"
+
+
+def _root_of(box: Box, exact: tuple[sp.Expr, ...] | None, unique: bool = True) -> CertifiedRoot:
+    return CertifiedRoot(
+        box=tuple((_to_rational(lo), _to_rational(hi)) for lo, hi in box),
+        exact=exact,
+        unique=unique,
+    )
+
+
+def _exact_in_undecided(
+    fs: Sequence[sp.Expr], xs: Sequence[sp.Symbol], run: _Bisection, start: Box, seen: set
+) -> list[CertifiedRoot]:
+    """Undecided tiny boxes (typically a multiple zero): exact candidates where f vanishes.
+
+    Such a point is an equilibrium for sure, though not certified unique near it.
+    """
+    out = []
+    for b in run.undecided:
+        wide = [(lo - (hi - lo), hi + (hi - lo)) for lo, hi in b]
+        exact = _identify(fs, xs, wide)
+        if exact is None or exact in seen or not _exact_in_box(exact, start):
+            continue
+        seen.add(exact)
+        out.append(_root_of(wide, exact, unique=False))
+    return out
+
+
 def box_search(
     fs: Sequence[sp.Expr],
     xs: Sequence[sp.Symbol],
@@ -174,110 +260,37 @@ def box_search(
     max_seconds: float = 30.0,
 ) -> BoxResult:
     """Every zero of fs in the box, each certified unique in a small box; and is that all?"""
+    import time
+
     kr = _Krawczyk(fs, xs)
     start: Box = [
         (flint.fmpq(int(lo.p), int(lo.q)), flint.fmpq(int(hi.p), int(hi.q))) for lo, hi in box
     ]
-    stack = [start]
-    found: list[Box] = []
-    processed = 0
-    unresolved = 0
-    undecided: list[Box] = []
+    run = _Bisection(stack=[start])
     mw = flint.fmpq(min_width.numerator, min_width.denominator)
     old = flint.ctx.prec
     flint.ctx.prec = 80
     try:
-        import time
-
         t_end = time.monotonic() + max_seconds
-        while stack:
-            if processed >= budget or time.monotonic() > t_end:
-                break
-            b = stack.pop()
-            processed += 1
-            X = [_ball(lo, hi) for lo, hi in b]
-            if kr.excluded_by_range(X):
-                continue
-            verdict, kbox = kr.step(b)
-            if verdict == "none":
-                continue
-            if verdict != "unique":
-                # epsilon-inflation: a unique zero in a slightly larger box covers this box
-                # too (and catches zeros on a face shared by two boxes)
-                wide = [(lo - (hi - lo) / 8, hi + (hi - lo) / 8) for lo, hi in b]
-                verdict, kbox = kr.step(wide)
-            if verdict == "unique":
-                assert kbox is not None
-                found.append(_refine(kr, kbox))
-                continue
-            widths = [hi - lo for lo, hi in b]
-            k = max(range(len(b)), key=lambda i: widths[i])
-            if widths[k] < mw:
-                unresolved += 1
-                if len(undecided) < 64:
-                    undecided.append(b)
-                continue
-            lo, hi = b[k]
-            mid = lo + (hi - lo) * _SPLIT  # off-centre: rational zeros rarely sit on a face
-            left, right = list(b), list(b)
-            left[k], right[k] = (lo, mid), (mid, hi)
-            stack.extend([right, left])
-        roots, merge_ok = _merge(kr, found)
-        inside = [r for r in roots if _within(r, start)]
+        while run.stack and run.processed < budget and time.monotonic() <= t_end:
+            run.processed += 1
+            _process(kr, run.stack.pop(), run, mw)
+        roots, merge_ok = _merge(kr, run.found)
         straddle = [r for r in roots if not _within(r, start) and _meets(r, start)]
-        roots = inside
+        roots = [r for r in roots if _within(r, start)]
         merge_ok = merge_ok and not straddle
     finally:
         flint.ctx.prec = old
-    complete = not stack and unresolved == 0 and merge_ok
-    box_text = " x ".join(f"[{_to_rational(lo)}, {_to_rational(hi)}]" for lo, hi in start)
-    if complete:
-        reason = (
-            f"the box {box_text} is covered by {processed} boxes, each certified free of "
-            f"equilibria or holding exactly one (Krawczyk test): {len(roots)} "
-            + ("equilibrium" if len(roots) == 1 else "equilibria")
-        )
-    elif stack:
-        reason = (
-            f"incomplete: budget reached ({processed} boxes of at most {budget}, "
-            f"{max_seconds:g} s) in the box {box_text}"
-        )
-    elif unresolved:
-        reason = f"incomplete: {unresolved} tiny boxes in {box_text} could not be decided"
-    else:
-        reason = "incomplete: two root enclosures could not be separated"
-    out = []
-    for rb in roots:
-        exact = _identify(fs, xs, rb)
-        out.append(
-            CertifiedRoot(
-                box=tuple((_to_rational(lo), _to_rational(hi)) for lo, hi in rb), exact=exact
-            )
-        )
-    # undecided tiny boxes (typically a multiple zero): an exact candidate that makes f vanish
-    # identically is an equilibrium for sure, though not certified unique near it
-    seen = {r.exact for r in out if r.exact is not None}
-    extra = 0
-    for b in undecided:
-        wide = [(lo - (hi - lo), hi + (hi - lo)) for lo, hi in b]
-        exact = _identify(fs, xs, wide)
-        if exact is None or exact in seen or not _exact_in_box(exact, start):
-            continue
-        seen.add(exact)
-        extra += 1
-        out.append(
-            CertifiedRoot(
-                box=tuple((_to_rational(lo), _to_rational(hi)) for lo, hi in wide),
-                exact=exact,
-                unique=False,
-            )
-        )
+    complete = not run.stack and run.unresolved == 0 and merge_ok
+    reason = _outcome_text(run, complete, start, len(roots), f"{budget}, {max_seconds:g} s")
+    out = [_root_of(rb, _identify(fs, xs, rb)) for rb in roots]
+    extra = _exact_in_undecided(fs, xs, run, start, {r.exact for r in out if r.exact is not None})
     if extra:
         reason += (
-            f"; {extra} exact equilibria found in undecided boxes (exact zeros; no other "
+            f"; {len(extra)} exact equilibria found in undecided boxes (exact zeros; no other "
             "zero near them is excluded)"
         )
-    return BoxResult(tuple(out), complete, reason, processed)
+    return BoxResult((*out, *extra), complete, reason, run.processed)
 
 
 def _exact_in_box(point: tuple[sp.Expr, ...], box: Box) -> bool:

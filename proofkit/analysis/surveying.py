@@ -165,6 +165,101 @@ def _asign(a: flint.arb) -> int | None:
     return 1 if a > 0 else (-1 if a < 0 else None)
 
 
+def _arb_charpoly(J: list[list[flint.arb]]) -> list[flint.arb]:
+    """Ball enclosure of det(sI - J), highest first (Faddeev–LeVerrier in ball arithmetic)."""
+    n = len(J)
+    coeffs = [flint.arb(1)]
+    Mk = [[flint.arb(0)] * n for _ in range(n)]
+    for k in range(1, n + 1):
+        c = coeffs[-1]
+        Mk = [
+            [
+                sum((J[i][t] * Mk[t][j] for t in range(n)), flint.arb(0)) + (c if i == j else 0)
+                for j in range(n)
+            ]
+            for i in range(n)
+        ]
+        tr = sum((J[i][t] * Mk[t][i] for i in range(n) for t in range(n)), flint.arb(0))
+        coeffs.append(-tr / k)
+    return coeffs
+
+
+def _arb_routh(coeffs: list[flint.arb]) -> tuple[list[list[flint.arb]], bool]:
+    """A regular Routh array in ball arithmetic, and whether some first-column sign is uncertain."""
+    n = len(coeffs) - 1
+    width = n // 2 + 1
+    r0 = coeffs[0::2] + [flint.arb(0)] * width
+    r1 = coeffs[1::2] + [flint.arb(0)] * width
+    rows = [r0[:width], r1[:width]] if n >= 1 else [r0[:width]]
+    for _i in range(2, n + 1):
+        a, b = rows[-2], rows[-1]
+        if _asign(b[0]) is None:
+            return rows, True
+        rows.append(
+            [
+                (b[0] * a[j + 1] - a[0] * b[j + 1]) / b[0] if j + 1 < width else flint.arb(0)
+                for j in range(width)
+            ]
+        )
+    return rows, any(_asign(r[0]) is None for r in rows)
+
+
+def _arb_planar_type(J: list[list[flint.arb]]) -> str:
+    tr2, det2 = J[0][0] + J[1][1], J[0][0] * J[1][1] - J[0][1] * J[1][0]
+    sd, st, sq = _asign(det2), _asign(tr2), _asign(tr2 * tr2 - 4 * det2)
+    if sd == -1:
+        return "saddle"
+    if sd == 1 and st is not None and sq is not None:
+        return ("stable " if st < 0 else "unstable ") + ("focus" if sq < 0 else "node")
+    return "undetermined (interval enclosure)"
+
+
+def _enclosure_routh(
+    coeffs: list[flint.arb], rows: list[list[flint.arb]], undecided: bool, planar: str | None
+) -> tuple[RouthArray, Verdict, str]:
+    """The Routh array of intervals, the verdict and the type it supports."""
+    n = len(coeffs) - 1
+    signs = [_asign(r[0]) for r in rows]
+    if undecided:
+        rhp, changes, verdict = -1, -1, "inconclusive"
+        special: tuple[str, ...] = ("a first-column sign is not certain over the root enclosure",)
+        kind = "saddle" if planar == "saddle" else "undetermined (interval enclosure)"
+        if planar == "saddle":  # det < 0 for every matrix in the box: a positive eigenvalue
+            verdict, rhp = "unstable", 1
+    else:
+        ss = [s for s in signs if s is not None]
+        changes = sum(1 for p, q in itertools.pairwise(ss) if p != q)
+        rhp, special = changes, ()
+        verdict = _verdict(rhp, 0)
+        kind = _type_for(n, rhp, 0, planar)
+    rows_int = tuple(
+        tuple(_interval(v) for v in r[: max(1, (n - i) // 2 + 1)]) for i, r in enumerate(rows)
+    )
+    ra = RouthArray(
+        coefficients=tuple(_interval(c) for c in coeffs),
+        rows=rows_int,
+        first_column=tuple(r[0] for r in rows_int),
+        first_column_signs=tuple(s or 0 for s in signs),
+        special=(*special, "entries are certified enclosures over the equilibrium's box"),
+        auxiliary=(),
+        sign_changes=changes,
+        rhp_count=rhp,
+        imag_count=0 if not undecided else -1,
+    )
+    return ra, verdict, kind
+
+
+_NOTE_EXACT_POINT = (
+    "the point is exact but its Jacobian is not algebraic: the verdict, the "
+    "characteristic polynomial and the Routh array are certified ball enclosures"
+)
+_NOTE_BOX = (
+    "the equilibrium is known to lie in a certified box (exactly one there); "
+    "point and jacobian are at the box centre (display only); the verdict, the "
+    "characteristic polynomial and the Routh array are certified enclosures over the box"
+)
+
+
 def _enclosure_report(
     name: str | None, m: Model, fp: FoundPoint, Jsym: sp.Matrix
 ) -> EquilibriumReport:
@@ -176,87 +271,20 @@ def _enclosure_report(
     try:
         X = [_ball(_fq(a), _fq(b)) for a, b in fp.enclosure]
         J = [[compile_arb(Jsym[i, j], xs)(X) for j in range(n)] for i in range(n)]
-        coeffs = [flint.arb(1)]
-        Mk = [[flint.arb(0)] * n for _ in range(n)]
-        for k in range(1, n + 1):
-            c = coeffs[-1]
-            Mk = [
-                [
-                    sum((J[i][t] * Mk[t][j] for t in range(n)), flint.arb(0)) + (c if i == j else 0)
-                    for j in range(n)
-                ]
-                for i in range(n)
-            ]
-            tr = sum((J[i][t] * Mk[t][i] for i in range(n) for t in range(n)), flint.arb(0))
-            coeffs.append(-tr / k)
-        # a regular Routh array, every first-column sign certified, or no verdict
-        width = n // 2 + 1
-        r0 = coeffs[0::2] + [flint.arb(0)] * width
-        r1 = coeffs[1::2] + [flint.arb(0)] * width
-        rows = [r0[:width], r1[:width]] if n >= 1 else [r0[:width]]
-        undecided = False
-        for _i in range(2, n + 1):
-            a, b = rows[-2], rows[-1]
-            if _asign(b[0]) is None:
-                undecided = True
-                break
-            rows.append(
-                [
-                    (b[0] * a[j + 1] - a[0] * b[j + 1]) / b[0] if j + 1 < width else flint.arb(0)
-                    for j in range(width)
-                ]
-            )
-        signs = [_asign(r[0]) for r in rows]
-        undecided = undecided or any(s is None for s in signs)
-        planar = None
-        if n == 2:
-            tr2, det2 = J[0][0] + J[1][1], J[0][0] * J[1][1] - J[0][1] * J[1][0]
-            sd, st, sq = _asign(det2), _asign(tr2), _asign(tr2 * tr2 - 4 * det2)
-            if sd == -1:
-                planar = "saddle"
-            elif sd == 1 and st is not None and sq is not None:
-                planar = ("stable " if st < 0 else "unstable ") + ("focus" if sq < 0 else "node")
-            else:
-                planar = "undetermined (interval enclosure)"
+        coeffs = _arb_charpoly(J)
+        rows, undecided = _arb_routh(coeffs)
+        planar = _arb_planar_type(J) if n == 2 else None
+        ra, verdict, kind = _enclosure_routh(coeffs, rows, undecided, planar)
         J_int = tuple(tuple(_interval(v) for v in row) for row in J)
-        cp_int = tuple(_interval(c) for c in coeffs)
-        rows_int = tuple(
-            tuple(_interval(v) for v in r[: max(1, (n - i) // 2 + 1)]) for i, r in enumerate(rows)
-        )
         Jmid = np.array([[float(v.mid()) for v in row] for row in J]).reshape(n, n)
     finally:
         flint.ctx.prec = old
-    if undecided:
-        rhp = -1
-        verdict: Verdict = "inconclusive"
-        special = ("a first-column sign is not certain over the root enclosure",)
-        changes = -1
-        kind = planar if planar and planar in ("saddle",) else "undetermined (interval enclosure)"
-        if planar == "saddle":  # det < 0 for every matrix in the box: a positive eigenvalue
-            verdict, rhp = "unstable", 1
-    else:
-        ss = [s for s in signs if s is not None]
-        changes = sum(1 for p, q in itertools.pairwise(ss) if p != q)
-        rhp, special = changes, ()
-        verdict = _verdict(rhp, 0)
-        kind = _type_for(n, rhp, 0, planar)
-    ra = RouthArray(
-        coefficients=cp_int,
-        rows=rows_int,
-        first_column=tuple(r[0] for r in rows_int),
-        first_column_signs=tuple(s or 0 for s in signs),
-        special=(*special, "entries are certified enclosures over the equilibrium's box"),
-        auxiliary=(),
-        sign_changes=changes,
-        rhp_count=rhp,
-        imag_count=0 if not undecided else -1,
-    )
     return EquilibriumReport(
         name=name,
         point=fp.point,
         numeric=fp.numeric,
         jacobian=Jsym.subs(dict(zip(xs, fp.point.values(), strict=True))),
-        charpoly=cp_int,
+        charpoly=ra.coefficients,
         routh=ra,
         eigenvalues=tuple(complex(z) for z in np.linalg.eigvals(Jmid)) if n else (),
         verdict=verdict,
@@ -266,14 +294,7 @@ def _enclosure_report(
         enclosure=fp.enclosure,
         jacobian_enclosure=J_int,
         field_degree=0,
-        note=(
-            "the point is exact but its Jacobian is not algebraic: the verdict, the "
-            "characteristic polynomial and the Routh array are certified ball enclosures"
-            if fp.exact
-            else "the equilibrium is known to lie in a certified box (exactly one there); "
-            "point and jacobian are at the box centre (display only); the verdict, the "
-            "characteristic polynomial and the Routh array are certified enclosures over the box"
-        ),
+        note=_NOTE_EXACT_POINT if fp.exact else _NOTE_BOX,
     )
 
 
