@@ -47,9 +47,9 @@ from proofkit.model import (
 
 __all__ = ["build_model"]
 
-_CONST = frozenset({"const"})
-_DYNAMIC = frozenset({"const", "param", "state", "let"})
-_POINT = frozenset({"const", "param"})
+_CONST = frozenset({"constant"})
+_DYNAMIC = frozenset({"constant", "parameter", "state", "let"})
+_POINT = frozenset({"constant", "parameter"})
 _CLAIM_KINDS = {
     "claim_stable": "stable",
     "claim_unstable": "unstable",
@@ -100,7 +100,7 @@ class _Builder:
         for st in tree.children:
             if not isinstance(st, Tree):
                 continue
-            if st.data in ("const", "param", "let", "equilibrium"):
+            if st.data in ("constant", "parameter", "let", "equilibrium"):
                 tok = st.children[0]
                 first.setdefault(str(tok), tok.line)
             elif st.data == "state":
@@ -187,13 +187,13 @@ class _Builder:
             )
         self.name, self.system_line = str(tok), tok.line
 
-    def st_const(self, st: Tree, index: int) -> None:
+    def st_constant(self, st: Tree, index: int) -> None:
         tok, body = st.children
         value = self.constant(body, "a constant")
-        self.declare(tok, "const", value)
+        self.declare(tok, "constant", value)
         self.constants.append(Constant(str(tok), value, _span(self.where, st.meta)))
 
-    def st_param(self, st: Tree, index: int) -> None:
+    def st_parameter(self, st: Tree, index: int) -> None:
         tok, body, *rng = st.children
         nominal = self.constant(body, "a parameter value")
         low = high = None
@@ -222,7 +222,7 @@ class _Builder:
                     hint="the nominal value must satisfy low <= nominal <= high",
                 )
         sym = sp.Symbol(str(tok), real=True)
-        self.declare(tok, "param", sym)
+        self.declare(tok, "parameter", sym)
         self.params.append(Param(str(tok), nominal, low, high, _span(self.where, st.meta)))
 
     def st_state(self, st: Tree, index: int) -> None:
@@ -244,8 +244,12 @@ class _Builder:
         self.lets.append(Let(str(tok), value, _span(self.where, st.meta)))
 
     def st_equation(self, st: Tree, index: int) -> None:
-        tok, _prime, body = st.children
-        name = str(tok)
+        deriv, body = st.children
+        name = str(deriv)
+        tok = Token(  # the state name inside dNAME/dt, for carets
+            "NAME", name, deriv.start_pos, deriv.line, deriv.column + 1,
+            deriv.line, deriv.column + 1 + len(name),
+        )
         binding = self.env.get(name)
         if binding is None or binding.kind != "state":
             if binding is not None:
@@ -360,7 +364,7 @@ class _Builder:
             if str(tok) not in self.equations:
                 raise self.err(
                     f"state '{tok}' has no equation", tok,
-                    hint=f"add a line {tok}' = ... giving its time derivative",
+                    hint=f"add a line d{tok}/dt = ... giving its time derivative",
                 )
         equations = tuple(self.equations[s] for s in self.states)
         for eq, st in self.equilibria:
@@ -408,7 +412,7 @@ class _Builder:
         verdicts = [(s, r, _zero_or_unknown(r)) for s, r in residuals]
         if all(v is True for _, _, v in verdicts):
             return
-        shown = ", ".join(f"{s}' = {_plain(r)}" for s, r, _ in verdicts)
+        shown = ", ".join(f"d{s}/dt = {_plain(r)}" for s, r, _ in verdicts)
         undecided = all(v is not False for _, _, v in verdicts)
         if undecided:
             raise self.err(

@@ -70,7 +70,7 @@ _WORDS: dict[str, str] = {
     "RSQB": "']'",
     "COMMA": "','",
     "EQUAL": "'='",
-    "PRIME": "a prime (') after the state name",
+    "DERIVATIVE": "a time derivative dx/dt",
     "REL": "a comparison (<=, <, >=, >)",
     "STRING": "quoted text",
     "ADDOP": "'+' or '-'",

@@ -62,14 +62,14 @@ _NUMBER_RE = re.compile(r"([0-9]*)(?:\.([0-9]*))?(?:[eE]([+-]?[0-9]+))?")
 _NOT_REAL = (sp.I, sp.zoo, sp.nan, sp.oo, sp.S.NegativeInfinity)
 
 _PLURAL = {
-    "const": "constants",
-    "param": "parameters",
+    "constant": "constants",
+    "parameter": "parameters",
     "state": "states",
     "let": "shorthands (let)",
 }
 KIND_WORDS = {
-    "const": "a constant",
-    "param": "a parameter",
+    "constant": "a constant",
+    "parameter": "a parameter",
     "state": "a state",
     "let": "a shorthand (let)",
     "equilibrium": "an equilibrium",
@@ -80,7 +80,7 @@ KIND_WORDS = {
 class Binding:
     """What a name means at a point of the file."""
 
-    kind: str  # const, param, state, let, equilibrium
+    kind: str  # constant, parameter, state, let, equilibrium
     value: sp.Expr | None
     line: int
     column: int
@@ -331,10 +331,10 @@ class ExprBuilder(Transformer):
             elif guess:
                 hint = f"did you mean '{guess}'?"
             else:
-                hint = "declare it with const, param, state or let before using it"
+                hint = "declare it with constant, parameter, state or let before using it"
             raise self._err(f"unknown name '{name}'", line, col, end, hint=hint)
         if binding.kind not in self.allowed:
-            may = ", ".join(_PLURAL[k] for k in ("const", "param", "state", "let")
+            may = ", ".join(_PLURAL[k] for k in ("constant", "parameter", "state", "let")
                             if k in self.allowed)
             raise self._err(
                 f"'{name}' is {KIND_WORDS[binding.kind]}, which {self.purpose} cannot use",

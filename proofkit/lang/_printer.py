@@ -144,15 +144,15 @@ def format_model(model: Model) -> str:
     lines: list[str] = []
     if model.name is not None:
         lines.append(f"system {model.name}")
-    lines += [f"const {c.name} = {format_expr(c.value)}" for c in model.constants]
+    lines += [f"constant {c.name} = {format_expr(c.value)}" for c in model.constants]
     for p in model.params:
-        text = f"param {p.name} = {format_expr(p.nominal)}"
+        text = f"parameter {p.name} = {format_expr(p.nominal)}"
         if p.low is not None and p.high is not None:
             text += f" in [{format_expr(p.low)}, {format_expr(p.high)}]"
         lines.append(text)
     lines.append("state " + ", ".join(model.states))
     lines += [f"let {let.name} = {format_expr(let.expr)}" for let in model.lets]
-    lines += [f"{e.state}' = {format_expr(e.rhs)}" for e in model.equations]
+    lines += [f"d{e.state}/dt = {format_expr(e.rhs)}" for e in model.equations]
     if model.domain is not None:
         lines.append(f"domain {format_region(model.domain)}")
     for q in model.equilibria:

@@ -11,6 +11,7 @@ This module must never evaluate model text; it only tokenises and parses.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Iterator
 
 from lark import Lark, Token, Tree
@@ -32,7 +33,8 @@ MAX_DEPTH = 100  # nesting levels of an expression tree
 
 KEYWORDS = frozenset(
     {
-        "system", "const", "param", "state", "let", "domain", "equilibrium", "at", "claim",
+        "system", "constant", "parameter", "state", "let", "domain", "equilibrium", "at",
+        "claim",
         "stable", "unstable", "globally", "attracts", "no", "cycle", "in", "nominal", "and",
     }
 )
@@ -43,7 +45,16 @@ _CONTINUE_AFTER = frozenset(
 _OPEN = {"LPAR", "LSQB"}
 _CLOSE = {"RPAR", "RSQB"}
 _ALLOWED_CONTROL = {"\n", "\t", "\r", "\f"}
-_STATEMENT_WORDS = ("system", "const", "param", "state", "let", "domain", "equilibrium", "claim")
+_STATEMENT_WORDS = (
+    "system", "constant", "parameter", "state", "let", "domain", "equilibrium", "claim",
+)
+
+_OLD_WORDS = {"param": "parameter", "const": "constant"}
+_PRIME_LINE = re.compile(r"(\s*)([A-Za-z_][A-Za-z0-9_]*)\s*('+)\s*=")
+_STATEMENT_HINT = (
+    "a statement starts with system, constant, parameter, state, let, domain, "
+    "equilibrium, claim, or a time derivative (as in dx/dt = ...)"
+)
 
 _parser: Lark | None = None
 
@@ -99,6 +110,45 @@ def _significant_tokens(where: Located, tokens: Iterator[Token]) -> Iterator[Tok
         yield tok
 
 
+def _merge_derivatives(tokens: Iterator[Token]) -> Iterator[Token]:
+    """Turn ``dNAME / dt`` at the start of a statement into one DERIVATIVE token.
+
+    The token's value is the state name; its position spans ``dNAME/dt``.
+    Elsewhere ``dt`` and names starting with ``d`` stay ordinary names.
+    """
+    window: list[Token] = []
+    at_start = True
+    for tok in tokens:
+        if not window and not at_start:
+            at_start = tok.type == "_NL"
+            yield tok
+            continue
+        window.append(tok)
+        if not _derivative_prefix(window):
+            yield from window
+            at_start = tok.type == "_NL"
+            window = []
+        elif len(window) == 3:
+            first, dt = window[0], window[2]
+            yield Token(
+                "DERIVATIVE", str(first)[1:], first.start_pos, first.line, first.column,
+                dt.end_line, dt.end_column, dt.end_pos,
+            )
+            at_start = False
+            window = []
+    yield from window
+
+
+def _derivative_prefix(window: list[Token]) -> bool:
+    """True while ``window`` may still be the start of ``dNAME / dt``."""
+    first = window[0]
+    if first.type != "NAME" or len(first) < 2 or not str(first).startswith("d"):
+        return False
+    if len(window) >= 2 and (window[1].type != "MULOP" or str(window[1]) != "/"):
+        return False
+    return len(window) < 3 or (window[2].type == "NAME" and str(window[2]) == "dt")
+
+
 def _describe_token(tok: Token) -> str:
     if tok.type == "$END":
         return "the end of the file"
@@ -110,8 +160,8 @@ def _describe_token(tok: Token) -> str:
         return f"the number {tok}"
     if tok.type == "STRING":
         return "quoted text"
-    if tok.type == "PRIME":
-        return "a prime (')"
+    if tok.type == "DERIVATIVE":
+        return f"the derivative d{tok}/dt"
     if str(tok) in KEYWORDS:
         return f"the word '{tok}'"
     return f"'{tok}'"
@@ -129,8 +179,8 @@ def _token_error(
         expected = expected - {"LPAR"}  # a call is possible, but never what was meant
     if "SYSTEM" in expected:
         words = (
-            "a statement (system, const, param, state, let, domain, equilibrium, claim, "
-            "or an equation x' = ...)"
+            "a statement (system, constant, parameter, state, let, domain, equilibrium, "
+            "claim, or an equation dx/dt = ...)"
         )
     else:
         words = describe_expected(expected)
@@ -143,21 +193,13 @@ def _token_error(
     at_statement_start = prev is not None and (before is None or before.type == "_NL")
     if tok.type == "NAME" and at_statement_start and ptype == "NAME":
         guess = closest(str(prev), _STATEMENT_WORDS)
-        hint = f"did you mean '{guess}'?" if guess else (
-            "a statement starts with system, const, param, state, let, domain, "
-            "equilibrium, claim, or a state name followed by ' (as in x' = ...)"
-        )
-    elif tok.type == "PRIME" and ptype == "PRIME":
-        hint = (
-            "models are first order: give the rate its own state, e.g. state x, v with "
-            "x' = v and v' = ..."
-        )
+        hint = f"did you mean '{guess}'?" if guess else _STATEMENT_HINT
     elif (
         tok.type == "MULOP" and str(tok) == "/" and at_statement_start
         and prev is not None and str(prev).startswith("d")
     ):
         state = str(prev)[1:] or "x"
-        hint = f"write the time derivative of {state} as {state}' = ..."
+        hint = f"write the time derivative of {state} as d{state}/dt = ..."
     elif ptype == "NUMBER" and tok.type in {"NAME", "LPAR"} and "MULOP" in expected:
         hint = f"write {prev}*{tok} for a product: multiplication is never implicit"
         message = f"a number directly followed by {_describe_token(tok)}; expected {words}"
@@ -176,8 +218,8 @@ def _token_error(
         hint = "a set condition compares with <=, <, >= or >"
     elif tok.type == "EQUAL" and ptype == "NAME" and at_statement_start:
         hint = (
-            f"a state equation is written {prev}' = ...; a constant is "
-            f"const {prev} = ...; a shorthand is let {prev} = ..."
+            f"a state equation is written d{prev}/dt = ...; a constant is "
+            f"constant {prev} = ...; a shorthand is let {prev} = ..."
         )
     elif tok.type in {"RPAR", "RSQB"} and tok.type not in expected:
         hint = f"this '{tok}' has no matching opening bracket"
@@ -187,10 +229,7 @@ def _token_error(
         hint = "write ^ (or **) for a power"
     elif tok.type == "NAME" and (prev is None or ptype == "_NL"):
         guess = closest(str(tok), _STATEMENT_WORDS)
-        hint = f"did you mean '{guess}'?" if guess else (
-            "a statement starts with system, const, param, state, let, domain, "
-            "equilibrium, claim, or a state name followed by ' (as in x' = ...)"
-        )
+        hint = f"did you mean '{guess}'?" if guess else _STATEMENT_HINT
     elif tok.type in {"_NL", "$END"}:
         hint = "the statement is incomplete"
     return make_error(where, message, line, column, end, hint=hint)
@@ -204,7 +243,48 @@ def _syntax_error(where: Located, parser: Lark, tokens: list[Token], tok: Token)
     expected = set(replay.accepts())
     prev = tokens[-1] if tokens else None
     before = tokens[-2] if len(tokens) > 1 else None
+    if tok.type == "NAME" and (prev is None or prev.type == "_NL"):
+        if str(tok) in _OLD_WORDS:
+            return _old_keyword_error(where, tok)
+        prime = _prime_error(where, tok.start_pos)
+        if prime is not None:
+            return prime
     return _token_error(where, tok, prev, before, expected)
+
+
+def _old_keyword_error(where: Located, word: Token) -> InputError:
+    """``param``/``const`` at the start of a statement: name the full keyword, fix the line."""
+    full = _OLD_WORDS[str(word)]
+    line = where.line_text(word.line) or ""
+    start = word.column - 1
+    fixed = (line[:start] + full + line[start + len(word) :]).strip()
+    return make_error(
+        where,
+        f"'{word}' is not a word of this language; a {full} is declared with '{full}'",
+        word.line, word.column, word.end_column,
+        hint=f"write: {fixed}",
+    )
+
+
+def _prime_error(where: Located, offset: int) -> InputError | None:
+    """A prime derivative ``x' = ...``: the error with the Leibniz form of that line."""
+    line, _column = where.position(offset)
+    text = where.line_text(line) or ""
+    m = _PRIME_LINE.match(text)
+    if m is None:
+        return None
+    column = m.start(3) + 1
+    fixed = f"d{m.group(2)}/dt = {text[m.end():].strip()}".rstrip()
+    return make_error(
+        where,
+        "a prime derivative is not part of this language; time derivatives are written "
+        f"d{m.group(2)}/dt",
+        line, m.start(2) + 1, column + len(m.group(3)),
+        hint=f"write: {fixed}" if len(m.group(3)) == 1 else (
+            f"models are first order: give the rate its own state, e.g. state {m.group(2)}, "
+            f"v with d{m.group(2)}/dt = v and dv/dt = ..."
+        ),
+    )
 
 
 def _keyword_types() -> frozenset[str]:
@@ -213,6 +293,10 @@ def _keyword_types() -> frozenset[str]:
 
 def _char_error(where: Located, err: UnexpectedCharacters) -> InputError:
     ch = where.text[err.pos_in_stream] if err.pos_in_stream < len(where.text) else ""
+    if ch == "'":
+        prime = _prime_error(where, err.pos_in_stream)
+        if prime is not None:
+            return prime
     hints = {
         ";": "one statement per line: start a new line instead of ';'",
         "&": "join conditions with the word 'and'",
@@ -228,6 +312,7 @@ def _char_error(where: Located, err: UnexpectedCharacters) -> InputError:
         "?": "there is no '?' operator",
         "~": "there is no '~' operator",
         "`": "there is no '`' operator",
+        "'": "there is no prime notation; a time derivative is written dx/dt = ...",
         ".": "'.' appears only inside numbers such as 0.25",
     }
     return make_error(
@@ -274,7 +359,7 @@ def parse_tree(where: Located) -> Tree:
     tokens: list[Token] = []
     try:
         interactive = parser.parse_interactive("")
-        for tok in _significant_tokens(where, parser.lex(text)):
+        for tok in _merge_derivatives(_significant_tokens(where, parser.lex(text))):
             try:
                 interactive.feed_token(tok)
             except UnexpectedToken:
