@@ -16,7 +16,7 @@ x, y, z = sym("x", "y", "z")
 
 
 def test_irrational_equilibria_sqrt2() -> None:
-    # computed by hand: x' = x^2 - 2, y' = -y has (+-sqrt 2, 0); J = diag(2x, -1)
+    # computed by hand: dx/dt = x^2 - 2, dy/dt = -y has (+-sqrt 2, 0); J = diag(2x, -1)
     s = survey(model("x y", [x**2 - 2, -y]))
     assert s.complete and s.at_nominal
     pts = {e.point["x"]: e for e in s.equilibria}
@@ -74,7 +74,7 @@ def test_lorenz_below_pitchfork_only_origin_stable() -> None:
 
 
 def test_curve_of_equilibria_is_not_complete() -> None:
-    # computed by hand: x' = x y, y' = -y vanishes on the whole line y = 0
+    # computed by hand: dx/dt = x y, dy/dt = -y vanishes on the whole line y = 0
     pts, complete, reason = find_equilibria(model("x y", [x * y, -y]))
     assert not complete and "a curve of equilibria" in reason and "y = 0" in reason
     assert pts == ()
@@ -89,7 +89,7 @@ def test_curve_plus_isolated_point() -> None:
 
 
 def test_multiple_root_is_reported_once_and_degenerate() -> None:
-    # computed by hand: x' = x^2, y' = -y: the double root x = 0, a zero eigenvalue
+    # computed by hand: dx/dt = x^2, dy/dt = -y: the double root x = 0, a zero eigenvalue
     s = survey(model("x y", [x**2, -y]))
     assert s.complete and len(s.equilibria) == 1
     e = s.equilibria[0]
@@ -103,7 +103,7 @@ def test_no_real_equilibria() -> None:
 
 
 def test_pendulum_in_a_box_certified_and_complete() -> None:
-    # computed by hand: x' = y, y' = -sin x - y/2 vanishes at (k pi, 0); in [-10, 10]^2, k = -3..3;
+    # computed by hand: dx/dt = y, dy/dt = -sin x - y/2 vanishes at (k pi, 0); in [-10, 10]^2, k = -3..3;
     # J = [[0, 1], [-cos(k pi), -1/2]]: even k stable focus (disc 1/4 - 4 < 0), odd k saddle
     s = survey(model("x y", [y, -sp.sin(x) - y / 2]))
     assert s.complete and "Krawczyk" in s.complete_reason
@@ -149,7 +149,7 @@ def test_domain_bounds_the_search_box() -> None:
 
 
 def test_six_state_product_system() -> None:
-    # computed by hand: x_i' = x_i (x_i - 1) (x_i + 2) for i = 1, 2 and linear coupling-free
+    # computed by hand: dx_i/dt = x_i (x_i - 1) (x_i + 2) for i = 1, 2 and linear coupling-free
     # decay for the rest gives 3 * 3 = 9 equilibria
     xs = sym("a", "b", "c", "d", "e", "f")
     a, b = xs[0], xs[1]
@@ -162,7 +162,7 @@ def test_six_state_product_system() -> None:
 
 
 def test_multiple_zeros_of_a_non_polynomial_field_found_but_incomplete() -> None:
-    # computed by hand: x' = sin(x)^2 - y, y' = -y vanishes at (k pi, 0), each a double zero
+    # computed by hand: dx/dt = sin(x)^2 - y, dy/dt = -y vanishes at (k pi, 0), each a double zero
     # in x, so no box around them can be certified unique; the exact zeros are still found
     s = survey(model("x y", [sp.sin(x) ** 2 - y, -y]))
     assert not s.complete and "could not be decided" in s.complete_reason
