@@ -10,14 +10,14 @@ from pathlib import Path
 from proofkit.cli.inspect_cmd import inspect_report, inspect_text
 from proofkit.lang import parse_model
 
-# computed by hand: theta' = omega, omega' = -2 theta + theta^3/6 - omega/2 rests where
+# computed by hand: dtheta/dt = omega, domega/dt = -2 theta + theta^3/6 - omega/2 rests where
 # theta (theta^2/6 - 2) = 0: theta = 0, +-2 sqrt(3); J = [[0, 1], [-2 + theta^2/2, -1/2]]
 TEXT = """\
 system pitch
-param k = 2 in [3/2, 3]
+parameter k = 2 in [3/2, 3]
 state theta, omega
-theta' = omega
-omega' = -k*theta + theta^3/6 - omega/2
+dtheta/dt = omega
+domega/dt = -k*theta + theta^3/6 - omega/2
 equilibrium level at theta = 0, omega = 0
 claim level stable at nominal
 """
