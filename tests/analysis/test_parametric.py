@@ -52,7 +52,7 @@ def test_two_parameter_oscillator() -> None:
 
 
 def test_moving_equilibrium_is_not_handled() -> None:
-    # computed by hand: x' = K - x rests at x = K, which moves; the declared x = 1 is the
+    # computed by hand: dx/dt = K - x rests at x = K, which moves; the declared x = 1 is the
     # equilibrium only at K = 1, so no statement over the range is made
     m = model(
         "x1",
