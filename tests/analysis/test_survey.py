@@ -69,7 +69,7 @@ def test_reversed_time_oscillator_survey() -> None:
 
 
 def test_declared_names_match_exact_points() -> None:
-    # computed by hand: equilibria of x' = x^2 - 2, y' = -y are (+-sqrt 2, 0)
+    # computed by hand: equilibria of dx/dt = x^2 - 2, dy/dt = -y are (+-sqrt 2, 0)
     m = model(
         "x y",
         [x**2 - 2, -y],
@@ -88,7 +88,7 @@ def test_declared_point_missing_from_complete_list_is_a_bug() -> None:
 
 
 def test_declared_point_on_a_curve_is_analysed() -> None:
-    # computed by hand: x' = x y, y' = -y: every (a, 0) rests; at (2, 0) J = [[0, 2], [0, -1]]
+    # computed by hand: dx/dt = x y, dy/dt = -y: every (a, 0) rests; at (2, 0) J = [[0, 2], [0, -1]]
     m = model("x y", [x * y, -y], equilibria={"p": {"x": 2, "y": 0}})
     s = survey(m)
     assert not s.complete
@@ -97,7 +97,7 @@ def test_declared_point_on_a_curve_is_analysed() -> None:
 
 
 def test_claims_from_linearization_and_parameter_ranges() -> None:
-    # computed by hand: x' = -k x + y, y' = -y with k = 2 nominal: stable node at the origin
+    # computed by hand: dx/dt = -k x + y, dy/dt = -y with k = 2 nominal: stable node at the origin
     k = sp.Symbol("k", real=True)
     m = model(
         "x y",
@@ -150,7 +150,7 @@ def test_declared_point_outside_the_search_box_is_still_analysed() -> None:
 
 
 def test_exact_zero_with_transcendental_jacobian_gets_an_enclosure_verdict() -> None:
-    # computed by hand: x' = (x - 1)^2 - y e^x, y' = -y has the double zero (1, 0), which the
+    # computed by hand: dx/dt = (x - 1)^2 - y e^x, dy/dt = -y has the double zero (1, 0), which the
     # box search cannot certify; J(1, 0) = [[0, -e], [0, -1]] is not algebraic, so the verdict
     # comes from ball arithmetic: det J = 0 cannot be signed, no verdict (a zero eigenvalue)
     s = survey(model("x y", [(x - 1) ** 2 - y * sp.exp(x), -y]))
