@@ -17,20 +17,20 @@ from proofkit.provenance import check_provenance
 BISTABLE_TEXT = """\
 system duffing_like
 state x, y
-x' = y
-y' = -x + x^3 - y
+dx/dt = y
+dy/dt = -x + x^3 - y
 equilibrium origin at x = 0, y = 0
 equilibrium right at x = 1, y = 0
 claim origin stable
 claim right unstable
 """
 
-# x' = x^2 - 2, y' = -y: equilibria (+-sqrt 2, 0) (computed by hand): J = diag(+-2 sqrt 2, -1).
+# dx/dt = x^2 - 2, dy/dt = -y: equilibria (+-sqrt 2, 0) (computed by hand): J = diag(+-2 sqrt 2, -1).
 SQRT_TEXT = """\
 system root_two
 state x, y
-x' = x^2 - 2
-y' = -y
+dx/dt = x^2 - 2
+dy/dt = -y
 equilibrium plus at x = sqrt(2), y = 0
 equilibrium minus at x = -sqrt(2), y = 0
 claim plus unstable
@@ -41,8 +41,8 @@ claim minus stable
 REVERSED_TEXT = """\
 system reversed_oscillator
 state x1, x2
-x1' = -x2
-x2' = x1 + (x1^2 - 1)*x2
+dx1/dt = -x2
+dx2/dt = x1 + (x1^2 - 1)*x2
 equilibrium origin at x1 = 0, x2 = 0
 claim origin stable
 """
@@ -53,9 +53,9 @@ def companion_text(coeffs: list[str], claim: str) -> str:
     n = len(coeffs)
     xs = [f"x{i + 1}" for i in range(n)]
     lines = ["system companion", "state " + ", ".join(xs)]
-    lines += [f"{xs[i]}' = {xs[i + 1]}" for i in range(n - 1)]
+    lines += [f"d{xs[i]}/dt = {xs[i + 1]}" for i in range(n - 1)]
     last = " ".join(f"- ({c})*{xs[n - 1 - k]}" for k, c in enumerate(coeffs))
-    lines.append(f"{xs[-1]}' = 0 {last}")
+    lines.append(f"d{xs[-1]}/dt = 0 {last}")
     lines.append("equilibrium o at " + ", ".join(f"{x} = 0" for x in xs))
     lines.append(f"claim o {claim}")
     return "\n".join(lines) + "\n"
