@@ -40,7 +40,7 @@ def workdir(tmp_path_factory) -> Path:
     d = tmp_path_factory.mktemp("cli")
     (d / "bistable.pk").write_text(BISTABLE_TEXT)
     (d / "mixed.pk").write_text(BISTABLE_TEXT + "claim origin attracts x^2 + y^2 <= 1/4\n")
-    (d / "broken.pk").write_text("state x\nx' = 2x\n")
+    (d / "broken.pk").write_text("state x\ndx/dt = 2x\n")
     r = pk("prove", "bistable.pk", "--out", "out_bistable", cwd=d)
     assert r.returncode == 0, r.stderr  # every claim proved: exit 0
     r = pk("prove", "mixed.pk", "--json", "--out", "out_mixed", cwd=d)
