@@ -38,12 +38,12 @@ def _bump(value, delta: Fraction = Fraction(1)):
 
 # parameters with a range, constants, a domain: their numbers are checked by provenance
 PARAM_TEXT = """\
-const g = 981/100
-param k = 2 in [3/2, 3]
-param c = 2/5
+constant g = 981/100
+parameter k = 2 in [3/2, 3]
+parameter c = 2/5
 state x, y
-x' = y
-y' = -k*x + x^3/6 - c*y + 0*g
+dx/dt = y
+dy/dt = -k*x + x^3/6 - c*y + 0*g
 domain x^2 <= 4 and y^2 < 9
 equilibrium o at x = 0, y = 0
 claim o stable at nominal
