@@ -33,10 +33,10 @@ def test_linear_verdicts_agree_with_numpy_and_always_audit(coeffs, claim) -> Non
     b=st.fractions(min_value=-3, max_value=3, max_denominator=5),
 )
 def test_planar_nonlinear_models_audit(a, b) -> None:
-    # x' = y, y' = a x + b y - x^3: at the origin the verdict follows trace b and det -a
+    # dx/dt = y, dy/dt = a x + b y - x^3: at the origin the verdict follows trace b and det -a
     # (computed by hand: J = [[0, 1], [a, b]]).
     text = (
-        f"state x, y\nx' = y\ny' = ({a})*x + ({b})*y - x^3\n"
+        f"state x, y\ndx/dt = y\ndy/dt = ({a})*x + ({b})*y - x^3\n"
         "equilibrium o at x = 0, y = 0\nclaim o stable\n"
     )
     run = prove_text(text)
@@ -62,7 +62,7 @@ def test_lyapunov_matrix_matches_scipy_on_random_hurwitz_matrices(entries) -> No
     if np.linalg.eigvals(a).real.max() > -1e-3:
         return
     rows = [" + ".join(f"({int(a[i, j])})*x{j + 1}" for j in range(3)) for i in range(3)]
-    text = "state x1, x2, x3\n" + "".join(f"x{i + 1}' = {rows[i]}\n" for i in range(3))
+    text = "state x1, x2, x3\n" + "".join(f"dx{i + 1}/dt = {rows[i]}\n" for i in range(3))
     text += "equilibrium o at x1 = 0, x2 = 0, x3 = 0\nclaim o stable\n"
     run = prove_text(text)
     assert run.outcomes[0].status == "proved"
