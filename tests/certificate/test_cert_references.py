@@ -95,7 +95,7 @@ def test_reversed_oscillator_linearization_and_lyapunov_matrix(reversed_run) -> 
 
 
 def test_irrational_equilibria_in_a_quadratic_field(sqrt_run) -> None:
-    # computed by hand: x' = x^2 - 2, y' = -y; J(+-sqrt 2) = diag(+-2 sqrt 2, -1).
+    # computed by hand: dx/dt = x^2 - 2, dy/dt = -y; J(+-sqrt 2) = diag(+-2 sqrt 2, -1).
     plus, minus = sqrt_run.certificate["claims"]
     assert [o.status for o in sqrt_run.outcomes] == ["proved", "proved"]
     assert plus["number_field"] == {"sqrt": "2"}
@@ -110,7 +110,7 @@ def test_irrational_equilibria_in_a_quadratic_field(sqrt_run) -> None:
 def test_cubic_irrational_point_is_not_proved() -> None:
     # x = cube root of 2 lies outside every quadratic field: the prover must decline.
     text = (
-        "state x, y\nx' = x^3 - 2\ny' = -y\nequilibrium c at x = 2^(1/3), y = 0\nclaim c unstable\n"
+        "state x, y\ndx/dt = x^3 - 2\ndy/dt = -y\nequilibrium c at x = 2^(1/3), y = 0\nclaim c unstable\n"
     )
     try:
         run = prove_text(text)
@@ -121,9 +121,9 @@ def test_cubic_irrational_point_is_not_proved() -> None:
 
 
 def test_centre_type_linearization_is_not_proved() -> None:
-    # common practice: eigenvalues +-i (x' = y, y' = -x - x^2 y) leave the linear test undecided.
+    # common practice: eigenvalues +-i (dx/dt = y, dy/dt = -x - x^2 y) leave the linear test undecided.
     run = prove_text(
-        "state x, y\nx' = y\ny' = -x - x^2*y\nequilibrium o at x = 0, y = 0\n"
+        "state x, y\ndx/dt = y\ndy/dt = -x - x^2*y\nequilibrium o at x = 0, y = 0\n"
         "claim o stable\nclaim o unstable\n"
     )
     assert [o.status for o in run.outcomes] == ["not proved", "not proved"]
@@ -134,7 +134,7 @@ def test_centre_type_linearization_is_not_proved() -> None:
 def test_non_polynomial_model_claims_are_not_proved() -> None:
     # certificates cover polynomial vector fields only (documented limitation)
     run = prove_text(
-        "state x, y\nx' = y\ny' = -sin(x) - y\nequilibrium o at x = 0, y = 0\nclaim o stable\n"
+        "state x, y\ndx/dt = y\ndy/dt = -sin(x) - y\nequilibrium o at x = 0, y = 0\nclaim o stable\n"
     )
     assert run.outcomes[0].status == "not proved"
     assert "polynomial" in run.outcomes[0].detail
@@ -144,7 +144,7 @@ def test_non_polynomial_model_claims_are_not_proved() -> None:
 
 def test_irrational_parameter_coefficient_is_not_proved() -> None:
     # a coefficient pi is exact but not rational: outside the certificate format for now
-    run = prove_text("param a = pi\nstate x\nx' = -a*x\nequilibrium o at x = 0\nclaim o stable\n")
+    run = prove_text("parameter a = pi\nstate x\ndx/dt = -a*x\nequilibrium o at x = 0\nclaim o stable\n")
     assert run.outcomes[0].status == "not proved"
     assert run.certificate["model"]["vector_field"] is None
     assert "rational" in run.certificate["model"]["field_note"]
