@@ -22,7 +22,7 @@ def validator() -> jsonschema.Draft202012Validator:
 def test_produced_certificates_validate(validator, bistable_run, sqrt_run, reversed_run) -> None:
     shifted = prove_text(companion_text(["2", "3", "6", "5", "3"], "unstable"))
     mixed = prove_text(
-        "param k = 1 in [1/2, 2]\nstate x\nx' = -k*x\nequilibrium o at x = 0\n"
+        "parameter k = 1 in [1/2, 2]\nstate x\ndx/dt = -k*x\nequilibrium o at x = 0\n"
         "claim o stable\nclaim o stable at nominal\nclaim o unstable at nominal\n"
     )
     assert [o.status for o in mixed.outcomes] == ["not proved", "proved", "counterexample"]
