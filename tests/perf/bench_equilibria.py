@@ -6,9 +6,9 @@ Run on purpose (not collected by pytest):
 Model (invented for timing only): two double-well oscillators with spring
 coupling k and a bias h (h != 0 breaks the symmetry, so the equilibria
 have coordinates of high algebraic degree), and a two-state filter,
-    a' = b,  b' = a - a^3 - b/2 + k (c - a) + h,
-    c' = d,  d' = c - c^3 - d/2 + k (a - c),
-    e' = -e + a c,  f' = -2 f + e - b.
+    da/dt = b,  db/dt = a - a^3 - b/2 + k (c - a) + h,
+    dc/dt = d,  dd/dt = c - c^3 - d/2 + k (a - c),
+    de/dt = -e + a c,  df/dt = -2 f + e - b.
 It prints where the time goes: Groebner bases, the quotient-algebra solve,
 real root isolation, exact points, Jacobians, characteristic polynomials,
 Routh arrays, Lyapunov equations; each as seconds and share of the total.
