@@ -43,8 +43,8 @@ def test_assembly_matches_sympy_expansion() -> None:
 
 
 def test_global_lyapunov_function_found_and_checked_independently() -> None:
-    # common practice: x' = -x + y, y' = -x - y^3 is globally asymptotically stable
-    # (V = x^2 + y^2 gives V' = -2x^2 - 2y^4); the program must find some V with
+    # common practice: dx/dt = -x + y, dy/dt = -x - y^3 is globally asymptotically stable
+    # (V = x^2 + y^2 gives dV/dt = -2x^2 - 2y^4); the program must find some V with
     # V - |x|^2/100 and -V' - |x|^2/100 SOS, and the certificate must re-check with sympy.
     f = [-X + Y, -X - Y**3]
     prog = SearchProgram([X, Y])
