@@ -33,6 +33,7 @@ import threading
 from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass, field
+from typing import Any
 
 import flint
 import sympy as sp
@@ -254,18 +255,12 @@ def _point_key(K: RealAlgebraicField, coords: Sequence[AlgNum]) -> tuple:
     return tuple(K.locate(c.p) for c in coords)
 
 
-def solve_polynomial_system(
-    fs: Sequence[sp.Expr], xs: Sequence[sp.Symbol], names: Sequence[str], limits: Limits
-) -> PolynomialSolution:
-    """All real solutions of fs = 0 (rational polynomial coefficients), exactly."""
-    import time
-
-    timings = {"groebner": 0.0, "solve": 0.0}
-    polys = [sp.Poly(f, *xs, domain=sp.QQ) for f in fs]
-    degs = [p.total_degree() for p in polys if not p.is_zero]
+def _split_systems(polys: list[sp.Poly], limits: Limits) -> list[list[sp.Expr]]:
+    """The systems to solve: one per choice of an irreducible factor of each equation."""
     bezout = 1
-    for d in degs:
-        bezout *= max(d, 1)
+    for p in polys:
+        if not p.is_zero:
+            bezout *= max(p.total_degree(), 1)
     if bezout > limits.max_bezout:
         raise LimitHit(f"Bezout bound {bezout} exceeds the limit {limits.max_bezout}")
     factor_lists = []
@@ -278,42 +273,54 @@ def solve_polynomial_system(
     for fl in factor_lists:
         n_splits *= len(fl)
     if n_splits > limits.max_splits:
-        systems = [[p.as_expr() for p in polys if not p.is_zero]]
-    else:
-        systems = list({frozenset(c): list(c) for c in itertools.product(*factor_lists)}.values())
-    zero_dim: list[tuple[RealAlgebraicField, tuple[AlgNum, ...]]] = []
-    positive: list[tuple[sp.GroebnerBasis, int]] = []
+        return [[p.as_expr() for p in polys if not p.is_zero]]
+    return list({frozenset(c): list(c) for c in itertools.product(*factor_lists)}.values())
+
+
+_ZeroDim = list[tuple[RealAlgebraicField, tuple[AlgNum, ...]]]
+_Positive = list[tuple[Any, int]]
+
+
+def _solve_pieces(
+    systems: list[list[sp.Expr]], xs: Sequence[sp.Symbol], limits: Limits, timings: dict
+) -> tuple[_ZeroDim, _Positive]:
+    """Points of the finite pieces, and (basis, dimension) of the positive-dimensional ones."""
+    import time
+
+    zero_dim: _ZeroDim = []
+    positive: _Positive = []
     for gens in systems:
-        gens = gens or [sp.Integer(0)]
         t0 = time.perf_counter()
-        G = _groebner(gens, xs, limits)
+        G = _groebner(gens or [sp.Integer(0)], xs, limits)
         timings["groebner"] += time.perf_counter() - t0
         if G.exprs == [1]:
             continue
         if G.exprs == [] or G.exprs == [0]:
             positive.append((G, len(xs)))
-            continue
-        if G.is_zero_dimensional:
+        elif G.is_zero_dimensional:
             t0 = time.perf_counter()
             zero_dim.extend(_solve_zero_dim(G, xs, limits))
             timings["solve"] += time.perf_counter() - t0
         else:
             lms = [sp.Poly(g, *xs).monoms(order="grevlex")[0] for g in G.exprs]
             positive.append((G, _dimension(lms, len(xs))))
-    t0 = time.perf_counter()
+    return zero_dim, positive
+
+
+def _isolated_points(
+    zero_dim: _ZeroDim, positive: _Positive, names: Sequence[str], dedupe: bool
+) -> tuple[list[FoundPoint], int]:
+    """Distinct points not lying on a positive-dimensional piece, and how many were dropped."""
     seen: set[tuple] = set()
     points: list[FoundPoint] = []
     dropped = 0
     for K, coords in zero_dim:
-        if len(systems) > 1:  # the points of one zero-dimensional system are distinct
+        if dedupe:  # the points of one zero-dimensional system are distinct
             key = _point_key(K, coords)
             if key in seen:
                 continue
             seen.add(key)
-        on_component = any(
-            all(_eval_poly_at(p, coords, K).is_zero() for p in G.polys) for G, _d in positive
-        )
-        if on_component:
+        if any(all(_eval_poly_at(p, coords, K).is_zero() for p in G.polys) for G, _d in positive):
             dropped += 1
             continue
         points.append(
@@ -325,6 +332,30 @@ def solve_polynomial_system(
             )
         )
     points.sort(key=lambda fp: tuple(fp.numeric[nm] for nm in names))
+    return points, dropped
+
+
+def _finite_reason(count: int) -> str:
+    if count == 0:
+        what = "no real equilibria"
+    elif count == 1:
+        what = "the only real equilibrium found exactly"
+    else:
+        what = f"all {count} real equilibria found exactly"
+    return f"zero-dimensional system: {what} (Groebner basis, real root isolation)"
+
+
+def solve_polynomial_system(
+    fs: Sequence[sp.Expr], xs: Sequence[sp.Symbol], names: Sequence[str], limits: Limits
+) -> PolynomialSolution:
+    """All real solutions of fs = 0 (rational polynomial coefficients), exactly."""
+    import time
+
+    timings = {"groebner": 0.0, "solve": 0.0}
+    systems = _split_systems([sp.Poly(f, *xs, domain=sp.QQ) for f in fs], limits)
+    zero_dim, positive = _solve_pieces(systems, xs, limits, timings)
+    t0 = time.perf_counter()
+    points, dropped = _isolated_points(zero_dim, positive, names, dedupe=len(systems) > 1)
     timings["points"] = time.perf_counter() - t0
     components = []
     for G, d in positive:
@@ -332,23 +363,7 @@ def solve_polynomial_system(
         eqs = ", ".join(f"{sp.sstr(g)} = 0" for g in G.exprs) if G.exprs else "the whole space"
         components.append(f"{what} of equilibria (complex dimension {d}): {eqs}")
     if not components:
-        return PolynomialSolution(
-            tuple(points),
-            True,
-            (
-                "zero-dimensional system: "
-                + (
-                    "no real equilibria"
-                    if not points
-                    else "the only real equilibrium found exactly"
-                    if len(points) == 1
-                    else f"all {len(points)} real equilibria found exactly"
-                )
-                + " (Groebner basis, real root isolation)"
-            ),
-            (),
-            timings,
-        )
+        return PolynomialSolution(tuple(points), True, _finite_reason(len(points)), (), timings)
     reason = "not a finite set: " + "; ".join(components)
     reason += f"; {len(points)} isolated equilibria listed"
     if dropped:
