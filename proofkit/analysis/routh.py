@@ -143,11 +143,31 @@ class _Frac:
         return poly(self.num) / poly(self.den)
 
 
-def routh_array_in(coeffs: Sequence[AlgNum], K: RealAlgebraicField) -> RouthArray:
-    """The Routh array of sum coeffs[i] s^(n-i) (highest degree first) over the field K."""
-    cs = list(coeffs)
-    if not cs or cs[0].is_zero():
-        raise ValueError("the leading coefficient must be nonzero")
+def _settle(rows: list[list[_Frac]], i: int, n: int, K: RealAlgebraicField, notes: dict) -> None:
+    """Apply the special-case rules to row i (power s^(n-i)), recording what was done."""
+    row = rows[i]
+    power = n - i
+    zero = _Frac.const(K.zero)
+    if all(e.is_zero() for e in row):
+        above = rows[i - 1]
+        m = power + 1
+        a_expr = sp.Add(*[above[j].to_sympy() * _S ** (m - 2 * j) for j in range(m // 2 + 1)])
+        notes["aux"].append((m, a_expr))
+        notes["special"].append(
+            f"row of zeros at row s^{power}: auxiliary polynomial A(s) = {a_expr}; "
+            "the row is replaced by the coefficients of A'(s)"
+        )
+        rows[i] = [above[j].scale(m - 2 * j) if m - 2 * j > 0 else zero for j in range(len(row))]
+    elif row[0].is_zero():
+        notes["special"].append(
+            f"zero in first column at row s^{power}: replaced by epsilon, "
+            "signs taken as epsilon -> 0+"
+        )
+        rows[i] = [_Frac.eps(K), *row[1:]]
+
+
+def _frac_rows(cs: list[AlgNum], K: RealAlgebraicField, notes: dict) -> list[list[_Frac]]:
+    """The rows of the array as rational functions of epsilon, special cases applied."""
     n = len(cs) - 1
     width = n // 2 + 1
     zero = _Frac.const(K.zero)
@@ -159,41 +179,28 @@ def routh_array_in(coeffs: Sequence[AlgNum], K: RealAlgebraicField) -> RouthArra
     rows: list[list[_Frac]] = [row_of(cs[0::2])]
     if n >= 1:
         rows.append(row_of(cs[1::2]))
-    special: list[str] = []
-    aux: list[tuple[int, sp.Expr]] = []
-
-    def settle(i: int) -> None:
-        """Apply the special-case rules to row i (power s^(n-i))."""
-        row = rows[i]
-        power = n - i
-        if all(e.is_zero() for e in row):
-            above = rows[i - 1]
-            m = power + 1
-            a_expr = sp.Add(*[above[j].to_sympy() * _S ** (m - 2 * j) for j in range(m // 2 + 1)])
-            aux.append((m, a_expr))
-            special.append(
-                f"row of zeros at row s^{power}: auxiliary polynomial A(s) = {a_expr}; "
-                "the row is replaced by the coefficients of A'(s)"
-            )
-            rows[i] = [above[j].scale(m - 2 * j) if m - 2 * j > 0 else zero for j in range(width)]
-        elif row[0].is_zero():
-            special.append(
-                f"zero in first column at row s^{power}: replaced by epsilon, "
-                "signs taken as epsilon -> 0+"
-            )
-            rows[i] = [_Frac.eps(K), *row[1:]]
-
-    if n >= 1:
-        settle(1)
+        _settle(rows, 1, n, K, notes)
     for i in range(2, n + 1):
         a, b = rows[i - 2], rows[i - 1]
-        new = [
-            (b[0] * a[j + 1] - a[0] * b[j + 1]) / b[0] if j + 1 < width else zero
-            for j in range(width)
-        ]
-        rows.append(new)
-        settle(i)
+        rows.append(
+            [
+                (b[0] * a[j + 1] - a[0] * b[j + 1]) / b[0] if j + 1 < width else zero
+                for j in range(width)
+            ]
+        )
+        _settle(rows, i, n, K, notes)
+    return rows
 
+
+def routh_array_in(coeffs: Sequence[AlgNum], K: RealAlgebraicField) -> RouthArray:
+    """The Routh array of sum coeffs[i] s^(n-i) (highest degree first) over the field K."""
+    cs = list(coeffs)
+    if not cs or cs[0].is_zero():
+        raise ValueError("the leading coefficient must be nonzero")
+    n = len(cs) - 1
+    notes: dict[str, list] = {"special": [], "aux": []}
+    rows = _frac_rows(cs, K, notes)
+    special: list[str] = notes["special"]
     signs = tuple(r[0].sign() for r in rows)
     regular = not special and all(s != 0 for s in signs)
     field_rows = (
@@ -216,7 +223,7 @@ def routh_array_in(coeffs: Sequence[AlgNum], K: RealAlgebraicField) -> RouthArra
         first_column=tuple(r[0] for r in exact_rows),
         first_column_signs=signs,
         special=tuple(special),
-        auxiliary=tuple(aux),
+        auxiliary=tuple(notes["aux"]),
         sign_changes=changes,
         rhp_count=rhp,
         imag_count=imag,
