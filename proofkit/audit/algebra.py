@@ -19,12 +19,17 @@ __all__ = [
     "Matrix",
     "Poly",
     "char_poly",
+    "gram_form",
     "ldl_pivots",
     "poly_add",
+    "poly_constant",
     "poly_derivative",
     "poly_eval",
     "poly_mul",
+    "poly_pow",
     "poly_scale",
+    "poly_str",
+    "poly_substitute",
     "routh_rows",
     "shift_and_multiply",
 ]
@@ -66,6 +71,64 @@ def poly_derivative(p: Poly, i: int) -> Poly:
             e2 = (*e[:i], e[i] - 1, *e[i + 1 :])
             out[e2] = c * Num.of(e[i], c.d)
     return _clean(out)
+
+
+def poly_constant(c: Num, nvars: int) -> Poly:
+    return _clean({(0,) * nvars: c})
+
+
+def poly_pow(p: Poly, k: int, nvars: int) -> Poly:
+    out = poly_constant(Num.of(1), nvars)
+    for _ in range(k):
+        out = poly_mul(out, p)
+    return out
+
+
+def poly_substitute(p: Poly, values: Sequence[Poly], nvars: int) -> Poly:
+    """``p(values[0], values[1], ...)``: each variable replaced by a polynomial in ``nvars``."""
+    powers: list[list[Poly]] = [[poly_constant(Num.of(1), nvars)] for _ in values]
+    out: Poly = {}
+    for e, c in p.items():
+        term = poly_constant(c, nvars)
+        for i, k in enumerate(e):
+            while len(powers[i]) <= k:
+                powers[i].append(poly_mul(powers[i][-1], values[i]))
+            if k:
+                term = poly_mul(term, powers[i][k])
+        out = poly_add(out, term)
+    return out
+
+
+def gram_form(basis: Sequence[tuple[int, ...]], gram: Sequence[Sequence[Num]]) -> Poly:
+    """``z' G z`` for the monomial vector ``z`` given by its exponent vectors."""
+    form: Poly = {}
+    for i, mi in enumerate(basis):
+        for j, mj in enumerate(basis):
+            if gram[i][j].is_zero():
+                continue
+            e = tuple(a + b for a, b in zip(mi, mj, strict=True))
+            form[e] = form[e] + gram[i][j] if e in form else gram[i][j]
+    return _clean(form)
+
+
+def poly_str(p: Poly, names: Sequence[str]) -> str:
+    """``p`` written with ``names``, highest degree first, e.g. ``x^2 + 2*x*y - 1/2``."""
+    if not p:
+        return "0"
+    parts = []
+    for e in sorted(p, key=lambda e: (-sum(e), tuple(-k for k in e))):
+        c = p[e]
+        mono = "*".join(n if k == 1 else f"{n}^{k}" for n, k in zip(names, e, strict=True) if k)
+        neg = c.sign() < 0 if c.b == 0 else False
+        mag = -c if neg else c
+        text = str(mag) if c.b == 0 else f"({mag})"
+        if mono:
+            text = mono if text == "1" else f"{text}*{mono}"
+        parts.append(("- " if neg else "+ ") + text)
+    first = parts[0]
+    return (first[2:] if first.startswith("+") else "-" + first[2:]) + "".join(
+        " " + q for q in parts[1:]
+    )
 
 
 def poly_eval(p: Poly, point: Sequence[Num]) -> Num:

@@ -16,10 +16,17 @@ from dataclasses import dataclass
 from fractions import Fraction
 from math import isqrt
 
-__all__ = ["FormatError", "Num", "parse_number", "parse_radicand", "write_number"]
+__all__ = [
+    "MAX_DIGITS",
+    "FormatError",
+    "Num",
+    "parse_number",
+    "parse_radicand",
+    "write_number",
+]
 
 _RATIONAL = re.compile(r"-?(0|[1-9][0-9]*)(/[1-9][0-9]*)?")
-_MAX_DIGITS = 4000  # a certificate number longer than this is refused, not parsed
+MAX_DIGITS = 1000  # a certificate number longer than this is refused, not parsed
 
 
 class FormatError(ValueError):
@@ -99,11 +106,16 @@ def _sgn(x: Fraction) -> int:
 
 
 def _rational(text: object, where: str) -> Fraction:
-    if not isinstance(text, str) or len(text) > _MAX_DIGITS or not _RATIONAL.fullmatch(text):
-        raise FormatError(f'{where}: expected an exact rational like "3/4", got {text!r}')
+    if isinstance(text, str) and len(text) > MAX_DIGITS + 2:
+        raise FormatError(
+            f"{where}: a number of {len(text)} characters; at most {MAX_DIGITS} digits"
+        )
+    if not isinstance(text, str) or not _RATIONAL.fullmatch(text):
+        shown = repr(text)[:60].encode("ascii", "backslashreplace").decode()
+        raise FormatError(f'{where}: expected an exact rational like "3/4", got {shown}')
     value = Fraction(text)
     if str(value) != text:
-        raise FormatError(f"{where}: rational {text!r} is not in lowest terms")
+        raise FormatError(f"{where}: rational {text[:60]!r} is not in lowest terms")
     return value
 
 
@@ -111,7 +123,7 @@ def parse_radicand(value: object, where: str) -> int:
     """The ``d`` of Q(sqrt(d)): an integer >= 2 that is not a perfect square."""
     d = _rational(value, where)
     if d.denominator != 1 or d < 2 or isqrt(int(d)) ** 2 == d:
-        raise FormatError(f"{where}: sqrt({value}) does not define a quadratic field")
+        raise FormatError(f"{where}: sqrt({str(value)[:60]}) does not define a quadratic field")
     return int(d)
 
 

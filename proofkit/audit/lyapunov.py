@@ -1,0 +1,193 @@
+"""Schemas for Lyapunov functions and certified regions of attraction (sums of squares).
+
+Every target polynomial is built here, from the certificate's ``V``, numbers and
+multipliers and the model's field shifted to the claim's equilibrium
+(``g(y) = f(x* + y)``, ``y`` the deviation); the certificate supplies only
+those and one Gram matrix per obligation (see DEVELOPERS.md, "The theorem
+schemas and their obligation names"). Rational equilibria only.
+
+``lyapunov-global`` (Lyapunov's theorem with a radially unbounded ``V``):
+V >= eps|y|^2 and lie(V) <= -eps (|y|^2)^m everywhere imply global asymptotic
+stability. ``lyapunov-local``: the same decrease on the sublevel set
+{V <= level} (S-procedure multiplier s0 >= 0) gives local asymptotic
+stability. ``region-of-attraction``: moreover the claim's set lies in
+{V <= level} and {V <= level} lies in the domain; {V <= level} is compact and
+forward invariant and every trajectory in it tends to the equilibrium, so the
+set lies in the region of attraction.
+
+This module must never import anything outside the standard library and
+:mod:`proofkit.audit`, and never use floating point.
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+
+from proofkit.audit.algebra import (
+    Poly,
+    poly_add,
+    poly_constant,
+    poly_derivative,
+    poly_mul,
+    poly_pow,
+    poly_scale,
+    poly_substitute,
+)
+from proofkit.audit.numbers import Num
+from proofkit.audit.read import Condition, only_keys
+from proofkit.audit.schemas import (
+    Checks,
+    ClaimData,
+    ModelData,
+    check_squares,
+    equilibrium_point,
+    read_function,
+    read_multipliers,
+    read_numbers,
+    require,
+    schema,
+    shifted_field,
+    sum_of_squares_norm,
+)
+
+__all__ = ["lie_derivative", "lyapunov_global", "lyapunov_local", "region_of_attraction"]
+
+EVIDENCE_KEYS = {"V", "numbers", "multipliers", "squares", "margin_power"}
+MAX_MARGIN_POWER = 4
+
+
+def lie_derivative(v: Poly, field: list[Poly]) -> Poly:
+    """``lie(V) = sum_i dV/dy_i * g_i``."""
+    out: Poly = {}
+    for i, gi in enumerate(field):
+        out = poly_add(out, poly_mul(poly_derivative(v, i), gi))
+    return out
+
+
+def _neg(p: Poly) -> Poly:
+    return poly_scale(p, Num.of(-1))
+
+
+def _const(c: Fraction, n: int) -> Poly:
+    return poly_constant(Num.of(c), n)
+
+
+class _Setup:
+    """What all three schemas share: the shifted field, V, eps, m and the first targets."""
+
+    def __init__(self, model: ModelData, claim: ClaimData, checks: Checks, numbers: set[str]):
+        ev, self.w = claim.evidence, f"{claim.where}.evidence"
+        only_keys(ev, EVIDENCE_KEYS, self.w)
+        self.n = n = len(model.states)
+        self.point = equilibrium_point(model, claim, rational=True)
+        self.g = shifted_field(model, self.point)
+        checks.ok("the point is an exact zero of the field; the field is shifted to it exactly")
+        self.v = read_function(ev, "V", n, self.w)
+        require(
+            all(sum(e) >= 2 for e in self.v), "V", "V has a term of degree below 2 in y = x - x*"
+        )
+        self.num = read_numbers(ev, numbers, self.w)
+        for k, x in self.num.items():
+            require(x > 0, "numbers", f"{k} = {x} must be positive")
+        m = ev.get("margin_power", 1)
+        require(
+            isinstance(m, int) and not isinstance(m, bool) and 1 <= m <= MAX_MARGIN_POWER,
+            "margin_power",
+            f"margin_power must be an integer 1..{MAX_MARGIN_POWER}",
+        )
+        eps = Num.of(self.num["eps"])
+        norm = sum_of_squares_norm(n)
+        self.lie = lie_derivative(self.v, self.g)
+        self.targets: dict[str, Poly] = {
+            "positive": poly_add(self.v, poly_scale(norm, -eps)),
+            "decrease": poly_add(_neg(self.lie), poly_scale(poly_pow(norm, m, n), -eps)),
+        }
+        checks.ok(f"positive: V - eps|y|^2 with eps = {self.num['eps']} (V positive definite)")
+
+    def unshift(self, p: Poly) -> Poly:
+        """``p(x* + y)`` for a polynomial ``p`` over the states."""
+        n = self.n
+        values = [
+            poly_add({tuple(int(i == j) for j in range(n)): Num.of(1)}, poly_constant(c, n))
+            for i, c in enumerate(self.point)
+        ]
+        return poly_substitute(p, values, n)
+
+    def level_gap(self) -> Poly:
+        """``level - V``."""
+        return poly_add(_const(self.num["level"], self.n), _neg(self.v))
+
+
+@schema("globally stable", "lyapunov", "lyapunov-global")
+def lyapunov_global(model: ModelData, claim: ClaimData, checks: Checks) -> None:
+    """V >= eps|y|^2 and -lie(V) >= eps|y|^(2m) everywhere: global asymptotic stability."""
+    require(
+        model.domain is None,
+        "domain",
+        "the model declares a domain; a global claim needs the domain shown forward invariant",
+    )
+    s = _Setup(model, claim, checks, {"eps"})
+    require(not claim.evidence.get("multipliers"), "multipliers", "this theorem has none")
+    checks.ok("decrease: -lie(V) - eps (|y|^2)^m (V strictly decreases away from the point)")
+    check_squares(s.targets, claim.evidence, s.n, checks, s.w)
+    checks.ok("V is radially unbounded (V >= eps|y|^2): every trajectory tends to the point")
+
+
+@schema("stable", "lyapunov", "lyapunov-local")
+def lyapunov_local(model: ModelData, claim: ClaimData, checks: Checks) -> None:
+    """V >= eps|y|^2, and -lie(V) >= eps|y|^(2m) on {V <= level}: local asymptotic stability."""
+    s = _Setup(model, claim, checks, {"eps", "level"})
+    mult = read_multipliers(claim.evidence, ["s0"], s.n, s.w)
+    s.targets["decrease"] = poly_add(
+        s.targets["decrease"], _neg(poly_mul(mult["s0"], s.level_gap()))
+    )
+    s.targets["s0"] = mult["s0"]
+    checks.ok(
+        f"decrease: -lie(V) - eps (|y|^2)^m - s0 (level - V) with level = {s.num['level']} "
+        "and s0 a sum of squares (S-procedure): lie(V) < 0 on {V <= level} away from the point"
+    )
+    check_squares(s.targets, claim.evidence, s.n, checks, s.w)
+
+
+def _set_multipliers(conditions: tuple[Condition, ...], prefix: str) -> list[str]:
+    return [f"{prefix}{i + 1}" for i in range(len(conditions))]
+
+
+@schema("attracts", "sublevel-set", "region-of-attraction")
+def region_of_attraction(model: ModelData, claim: ClaimData, checks: Checks) -> None:
+    """{V <= level} is forward invariant, inside the domain, contains the set, and V decreases."""
+    require(claim.set is not None, "set", "the claim has no set")
+    s = _Setup(model, claim, checks, {"eps", "level"})
+    cset, dom = claim.set or (), model.domain or ()
+    names = ["s0", *_set_multipliers(cset, "s"), *_set_multipliers(dom, "t")]
+    mult = read_multipliers(claim.evidence, names, s.n, s.w)
+    gap = s.level_gap()
+    s.targets["decrease"] = poly_add(s.targets["decrease"], _neg(poly_mul(mult["s0"], gap)))
+    inside = gap
+    for i, (g, _strict) in enumerate(cset):
+        inside = poly_add(inside, _neg(poly_mul(mult[f"s{i + 1}"], s.unshift(g))))
+    s.targets["inside"] = inside
+    eps = Num.of(s.num["eps"])
+    for j, (h, strict) in enumerate(dom):
+        t = mult[f"t{j + 1}"]
+        target = poly_add(s.unshift(h), _neg(poly_mul(t, gap)))
+        if strict:
+            target = poly_add(target, poly_constant(-eps, s.n))
+        s.targets[f"domain {j + 1}"] = target
+    for k in names:
+        s.targets[k] = mult[k]
+    checks.ok(
+        f"decrease: -lie(V) - eps (|y|^2)^m - s0 (level - V), level = {s.num['level']}: "
+        "lie(V) < 0 on {V <= level} away from the point, so {V <= level} is forward invariant"
+    )
+    checks.ok(
+        f"inside: level - V - sum s_i g_i over the set's {len(cset)} condition(s): "
+        "the claim's set lies in {V <= level}"
+    )
+    if dom:
+        checks.ok(
+            f"domain j: h_j - t_j (level - V) (minus eps when strict) for the {len(dom)} "
+            "domain condition(s): {V <= level} lies in the domain"
+        )
+    check_squares(s.targets, claim.evidence, s.n, checks, s.w)
+    checks.ok("every multiplier is a sum of squares; {V <= level} is compact (V >= eps|y|^2)")
