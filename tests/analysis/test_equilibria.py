@@ -45,8 +45,9 @@ def test_cubic_root_as_crootof() -> None:
 
 
 def test_three_state_lorenz_equilibria() -> None:
-    # published: Strogatz, Nonlinear Dynamics and Chaos, section 9.2 (memory): C+- at
-    # (+-sqrt(b(r-1)), +-sqrt(b(r-1)), r-1); with r = 28 > r_H ~ 24.74 all three are unstable
+    # published: Strogatz, Nonlinear Dynamics and Chaos, section 9.2; Sparrow, The Lorenz
+    # Equations (1982): C+- at (+-sqrt(b(r-1)), +-sqrt(b(r-1)), r-1), and with
+    # r = 28 > r_H = 470/19 all three are unstable (../shared/REFERENCES.md, convection loop)
     sigma, r, b = 10, 28, sp.Rational(8, 3)
     m = model("x y z", [sigma * (y - x), r * x - y - x * z, x * y - b * z])
     s = survey(m)
@@ -63,14 +64,17 @@ def test_three_state_lorenz_equilibria() -> None:
 
 
 def test_lorenz_below_pitchfork_only_origin_stable() -> None:
-    # published: Strogatz section 9.2 (memory): for r < 1 the origin is the only equilibrium,
-    # globally attracting; its linearization is stable
+    # published: Strogatz, Nonlinear Dynamics and Chaos, section 9.2: for r < 1 the origin is
+    # the only equilibrium, and its linearization is stable; computed: numpy eigenvalues below
+    # (r = 1/2: -8/3 and the roots of s^2 + 11 s + 5, all negative)
     half, b = sp.Rational(1, 2), sp.Rational(8, 3)
     m = model("x y z", [10 * (y - x), half * x - y - x * z, x * y - b * z])
     s = survey(m)
     assert s.complete and len(s.equilibria) == 1
     assert s.equilibria[0].verdict == "stable"
     assert s.equilibria[0].type == "0 unstable directions"
+    ev = np.linalg.eigvals(np.array(s.equilibria[0].jacobian.evalf(), dtype=float))
+    assert np.all(ev.real < 0)
 
 
 def test_curve_of_equilibria_is_not_complete() -> None:

@@ -24,8 +24,8 @@ def _loop(low: int, high: int):  # K/(s+1)^3 in unity feedback, in companion for
 
 
 def test_third_order_loop_gain_margin() -> None:
-    # published (memory): s^3 + 3 s^2 + 3 s + 1 + K is Hurwitz exactly for -1 < K < 8
-    # (the classic gain margin of K/(s+1)^3); computed by hand: Delta_2 = 9 - (1 + K)
+    # common practice: K/(s+1)^3 in unity feedback has gain margin 8, so s^3 + 3 s^2 + 3 s +
+    # 1 + K is Hurwitz exactly for -1 < K < 8; computed by hand: Delta_2 = 9 - (1 + K)
     r = parametric_stability(_loop(0, 7), "o")
     assert r.status == "holds"
     assert r.charpoly == (1, 3, 3, K + 1)

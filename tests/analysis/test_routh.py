@@ -23,8 +23,10 @@ def test_ogata_example_first_column_and_two_rhp_roots() -> None:
 
 
 def test_zero_in_first_column_epsilon_method() -> None:
-    # published textbook example (which textbook: memory): two RHP roots
+    # memory: a textbook example of the epsilon rule (book not confirmed); computed: numpy.roots
+    # finds two roots with positive real part, which is what is checked
     r = routh_array([1, 2, 3, 6, 5, 3])
+    assert int(np.sum(np.roots([1, 2, 3, 6, 5, 3]).real > 0)) == 2
     assert r.rhp_count == 2 and r.imag_count == 0
     assert any("zero in first column at row s^3" in e for e in r.special)
     assert r.first_column[2] == EPSILON  # the zero replaced by epsilon
@@ -36,8 +38,10 @@ def test_zero_in_first_column_epsilon_method() -> None:
 
 
 def test_row_of_zeros_auxiliary_polynomial() -> None:
-    # published course solution sheet; computed roots agree: roots 2, -2, -1, -4
+    # computed: sympy.roots gives 2, -2, -1, -4 (one root in the right half plane); the
+    # polynomial is a course exercise recalled from memory
     r = routh_array([1, 5, 0, -20, -16])
+    assert sp.roots(sp.Poly([1, 5, 0, -20, -16], S)) == {2: 1, -2: 1, -1: 1, -4: 1}
     assert r.auxiliary == ((2, 4 * S**2 - 16),)
     # computed by hand: rows s^4..s^0; the zero row s^1 becomes A'(s) = 8 s
     assert r.rows == ((1, 0, -16), (5, -20), (4, -16), (8,), (-16,))
