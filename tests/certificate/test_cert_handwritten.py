@@ -53,7 +53,8 @@ def gram_from_squares(squares, variables):
 
 
 def motzkin_times_certificate() -> dict:
-    # published: Parrilo's thesis (2000) (memory): (x^2 + y^2 + 1) * Motzkin is the sum
+    # memory: attributed to Parrilo's thesis (2000), not confirmed from the text;
+    # computed (sympy expansion, tests/sos/test_sos_references.py): (x^2 + y^2 + 1) * Motzkin is
     # (x^2 y - y)^2 + (x y^2 - x)^2 + (x^2 y^2 - 1)^2 + 1/4 (x y^3 - x^3 y)^2
     # + 3/4 (x y^3 + x^3 y - 2 x y)^2; the identity itself is verified exactly here.
     motzkin = X**4 * Y**2 + X**2 * Y**4 - 3 * X**2 * Y**2 + 1

@@ -34,8 +34,8 @@ def test_motzkin_is_nonnegative_where_sampled() -> None:
 
 
 def test_motzkin_times_sum_of_squares_is_certified_exactly() -> None:
-    # published: Parrilo's thesis (2000) (memory): (x^2+y^2+1)*Motzkin is SOS; one
-    # decomposition, checked exactly below, is listed in REFERENCES.md.
+    # memory: attributed to Parrilo's thesis (2000), not confirmed from the text; computed:
+    # the decomposition listed in REFERENCES.md is checked by sympy expansion below.
     p = sp.expand((X**2 + Y**2 + 1) * MOTZKIN)
     listed = (
         (X**2 * Y - Y) ** 2
