@@ -188,7 +188,7 @@ def _period_guess(tail: np.ndarray, dt: float) -> float | None:
 
 def _group(tails: np.ndarray, scale: float) -> list[int]:
     """One representative column per group of trajectories with a common limit set."""
-    n, count, _k = tails.shape
+    _n, count, _k = tails.shape
     ends = tails[:, :, -1]
     reps: list[int] = []
     for i in range(count):
