@@ -1,15 +1,12 @@
-"""Exact answers from search programs: ``solve_exactly`` (any program) and ``decompose`` (one p).
+"""Exact sum-of-squares certificates of one polynomial: ``decompose``.
 
-``solve_exactly`` climbs a ladder: a margin-maximising solve (default solver),
-exact rounding with a denominator ladder (:func:`proofkit.exact.round_program`),
-then facial reduction (drop Gram basis monomials whose diagonal the solution
-shows forced to zero) and re-solve, then the other solver; when every rung
-fails it says why. ``decompose`` adds cheap necessary conditions (odd degree,
-a negative value at a rational sample point) and the Newton-polytope basis,
-and, when the ladder fails on a program with no interior point, iterated
-facial reduction (:mod:`proofkit.sos.face`: exact faces from high-precision
-real zeros and Newton-polytope faces) and then the single-step kernel
-reduction, within one shared time budget.
+``decompose(p, variables)`` adds to the ladder of :func:`proofkit.exact.ladder.solve_exactly`
+cheap necessary conditions (odd degree, a negative value at a rational
+sample point) and the Newton-polytope basis, and, when the ladder fails on a
+program with no interior point, iterated facial reduction
+(:mod:`proofkit.exact.iterated`: exact faces from high-precision real zeros
+and Newton-polytope faces) and then the single-step kernel reduction
+(:mod:`proofkit.exact.facial`), within one shared time budget.
 
 ``found=True`` is returned only after :func:`proofkit.exact.check.check_gram`
 passed (identity expanded exactly, LDL' over QQ). This module never trusts a
@@ -29,34 +26,20 @@ import sympy as sp
 
 from proofkit.exact.check import GramCheck, check_gram, squares_from_ldl
 from proofkit.exact.facial import face_candidates, integer_relations, range_candidates
+from proofkit.exact.iterated import iterated_faces
+from proofkit.exact.ladder import Attempt, ProgramOutcome, solve_exactly
 from proofkit.exact.ldl import LdlResult
-from proofkit.exact.rounding import DENOMINATOR_LADDER, ExactSolution, round_program
+from proofkit.exact.rounding import DENOMINATOR_LADDER
 from proofkit.sos.basis import newton_basis
-from proofkit.sos.face import iterated_faces
 from proofkit.sos.poly import PolySpace
-from proofkit.sos.program import SearchProgram, SosPoly
+from proofkit.sos.program import SearchProgram
 from proofkit.sos.refine import gram_system, numerical_kernel, refine_low_rank, solve_on_range
-from proofkit.sos.solve import SOLVER_SETTINGS, NumericSolution, pick_solver, solve_program
+from proofkit.sos.solve import NumericSolution
 
-__all__ = ["Attempt", "Decomposition", "ProgramOutcome", "decompose", "solve_exactly"]
+__all__ = ["Decomposition", "decompose"]
 
-_MARGIN_NEGATIVE = -1e-7
 _FACE_BUDGET = 12.0  # seconds for all facial reduction after the ladder in decompose
 _ITERATED_SHARE = 8.0  # of which at most this for iterated facial reduction
-# Relative diagonal sizes treated as forced zeros, tried in turn: degenerate programs
-# are solved only to about the square root of the solver tolerance.
-_DIAG_ZERO = (1e-7, 1e-5, 1e-3)
-
-
-@dataclass(frozen=True)
-class Attempt:
-    """One rung of the ladder: solver, basis size, solver status, margin, outcome."""
-
-    solver: str
-    basis_size: int
-    status: str
-    margin: float | None
-    outcome: str
 
 
 @dataclass
@@ -94,144 +77,12 @@ def _sample_negative(p: flint.fmpq_mpoly, nvars: int) -> tuple[flint.fmpq, ...] 
     return None
 
 
-@dataclass
-class ProgramOutcome:
-    """Result of :func:`solve_exactly`: ``exact`` is set only when the exact checks passed."""
-
-    exact: ExactSolution | None
-    reason: str | None
-    attempts: list[Attempt] = field(default_factory=list)
-    timings: dict[str, float] = field(default_factory=dict)
-    numerics: list[tuple[NumericSolution, dict[str, np.ndarray]]] = field(default_factory=list)
-
-    @property
-    def found(self) -> bool:
-        return self.exact is not None and self.exact.ok
-
-
-def _shapes_match(program: SearchProgram, sol: NumericSolution) -> bool:
-    for u in program.unknowns:
-        v = sol.values.get(u.name)
-        if v is None:
-            return False
-        want = (u.size, u.size) if isinstance(u, SosPoly) else (u.ncols,)
-        if np.shape(v) != want and not (u.kind == "scalar" and np.size(v) == 1):
-            return False
-    return True
-
-
-def _forced_zero(
-    program: SearchProgram, values: dict[str, np.ndarray], tol: float
-) -> dict[int, np.ndarray]:
-    """Per Gram unknown, the mask of basis monomials to keep (those with a visible diagonal)."""
-    out: dict[int, np.ndarray] = {}
-    for u in program.unknowns:
-        if isinstance(u, SosPoly) and u.size:
-            diag = np.diag(values[u.name])
-            scale = max(1.0, float(np.abs(diag).max(initial=0.0)))
-            keep = diag > tol * scale
-            if not keep.all():
-                out[u.uid] = keep
-    return out
-
-
-def solve_exactly(
-    program: SearchProgram,
-    *,
-    solver: str | None = None,
-    ladder: Sequence[int] = DENOMINATOR_LADDER,
-    facial_rounds: int = 3,
-) -> ProgramOutcome:
-    """Solve numerically, round exactly, reduce faces and retry; never trusts a float.
-
-    Facial reduction changes the bases of the program's Gram unknowns in place.
-    """
-    order = [pick_solver(program, solver)]
-    order += [s for s in SOLVER_SETTINGS if s not in order]
-    out = ProgramOutcome(None, None)
-    out.timings = {"assembly": 0.0, "compile": 0.0, "solve": 0.0, "exact": 0.0}
-    reasons: list[str] = []
-    size = lambda: sum(u.size for u in program.unknowns if isinstance(u, SosPoly))  # noqa: E731
-    rounds = 0
-    level = 0  # index into _DIAG_ZERO
-    saved: dict[int, np.ndarray] | None = None  # bases before the last facial reduction
-    k = 0
-    while k < len(order):
-        name = order[k]
-        sol = solve_program(program, name, margin=True)
-        out.timings["assembly"] += sol.assembly_time
-        out.timings["compile"] += sol.build_time + sol.compile_time
-        out.timings["solve"] += sol.solve_time
-        if sol.usable and not _shapes_match(program, sol):
-            sol.status = "failed"
-            sol.message += "; values do not match the unknowns' shapes"
-            sol.values = {}
-        if not sol.usable and sol.status in ("solved", "inaccurate"):
-            sol.message = f"solver said {sol.status} but gave no usable (finite) values"
-            sol.status = "failed"
-        if sol.status in ("infeasible", "unbounded") or not sol.usable:
-            out.attempts.append(Attempt(name, size(), sol.status, None, sol.message))
-            reasons.append(f"{name}: {sol.status} ({sol.message})")
-            if sol.status == "infeasible":
-                break
-            k += 1
-            continue
-        margin = sol.margin if sol.margin is not None else 0.0
-        bases = {u.name: u.basis.copy() for u in program.unknowns if isinstance(u, SosPoly)}
-        out.numerics.append((sol, bases))
-        if margin < _MARGIN_NEGATIVE and sol.status == "solved" and saved is not None:
-            for u in program.unknowns:
-                if u.uid in saved:
-                    program.rebase(u, saved[u.uid])  # type: ignore[arg-type]
-            saved = None
-            reasons.append(f"{name}: facial reduction went too far (margin {margin:.3g}); undone")
-            out.attempts.append(Attempt(name, size(), sol.status, margin, "reduction undone"))
-            rounds = facial_rounds
-            k += 1
-            continue
-        if margin < _MARGIN_NEGATIVE and sol.status == "solved":
-            msg = (
-                f"best margin {margin:.3g} < 0: no PSD Gram matrices with these bases (numerically)"
-            )
-            out.attempts.append(Attempt(name, size(), sol.status, margin, msg))
-            reasons.append(f"{name}: {msg}")
-            break
-        t0 = time.perf_counter()
-        exact = round_program(program, sol, ladder)
-        out.timings["exact"] += time.perf_counter() - t0
-        if exact.ok:
-            out.attempts.append(Attempt(name, size(), sol.status, margin, "exact solution"))
-            out.exact = exact
-            return out
-        msg = f"rounding failed ({exact.reason})"
-        if sol.status == "inaccurate":
-            msg = f"solver inaccurate; {msg}"
-        out.attempts.append(Attempt(name, size(), sol.status, margin, msg))
-        reasons.append(f"{name}: {msg}")
-        masks: dict[int, np.ndarray] = {}
-        while rounds < facial_rounds and level < len(_DIAG_ZERO) and not masks:
-            masks = _forced_zero(program, sol.values, _DIAG_ZERO[level])
-            if not masks:
-                level += 1
-        if masks:
-            rounds += 1
-            saved = {u.uid: u.basis.copy() for u in program.unknowns if isinstance(u, SosPoly)}
-            for u in program.unknowns:
-                if u.uid in masks:
-                    program.restrict(u, masks[u.uid])  # type: ignore[arg-type]
-            reasons.append(f"facial reduction {rounds}: Gram bases now {size()} monomials in all")
-            continue
-        k += 1
-    out.reason = "; ".join(reasons) or "no solution found"
-    return out
-
-
-def _face_hints(space, poly, prog, b, q, ladder):
-    """Candidate exact Gram matrices on faces guessed from the numerical ``q``."""
-    gram = prog.unknowns[0]
-    system = None
-    if isinstance(gram, SosPoly) and np.array_equal(gram.basis, b):
-        system = gram_system(prog, gram)
+def _face_hints(space, poly, b, q, ladder):
+    """Candidate exact Gram matrices on faces guessed from the numerical ``q`` (basis ``b``)."""
+    prog = SearchProgram(space.variables)  # the one identity p == b'Qb on this basis
+    gram = prog.sos("gram", b)
+    prog.equate(gram, poly, name="target")
+    system = gram_system(prog, gram)
     refined = refine_low_rank(*system, q) if system else None
     if refined is not None:
         kernel = numerical_kernel(refined)
@@ -270,7 +121,6 @@ def _try_face(
     variables: Sequence[sp.Symbol],
     res: ProgramOutcome,
     ladder: Sequence[int],
-    prog: SearchProgram,
     budget: float = _FACE_BUDGET,
 ) -> Decomposition | None:
     """Facial reduction by the numerical kernel (see :mod:`proofkit.exact.facial`)."""
@@ -278,11 +128,11 @@ def _try_face(
     notes = []
     ranked = sorted(res.numerics, key=lambda it: it[0].status != "solved")
     for sol, bases in ranked:
-        if not sol.usable or (sol.margin or 0.0) < _MARGIN_NEGATIVE:
+        if not sol.usable or sol.status == "infeasible":
             continue
         b = bases["gram"]
         basis_syms = [space.monomial(e) for e in b]
-        cands = _face_hints(space, poly, prog, b, sol.values["gram"], ladder)
+        cands = _face_hints(space, poly, b, sol.values["gram"], ladder)
         for cand, note in cands:
             if time.perf_counter() - t0 > budget:
                 notes.append(f"time budget of {budget:.1f} s for facial reduction used up")
@@ -312,9 +162,10 @@ def _try_iterated(
     ladder: Sequence[int],
     b: np.ndarray,
 ) -> Decomposition | None:
-    """Iterated facial reduction (:mod:`proofkit.sos.face`) on the basis ``b``; checked exactly."""
+    """Iterated facial reduction (:mod:`proofkit.exact.iterated`) on ``b``; checked exactly."""
     if b.shape[0] == 0:
         return None
+
     # Only for the signature of a missing interior point: a usable solution, margin ~ 0.
     def near_psd(sol: NumericSolution) -> bool:
         q = np.asarray(sol.values.get("gram", np.zeros((0, 0))), dtype=float)
@@ -324,12 +175,13 @@ def _try_iterated(
         return float(w.min()) >= -1e-6 * max(1.0, float(np.abs(w).max()))
 
     hints = [
-        s for s, _b in res.numerics
-        if s.usable and (s.margin or 0.0) >= _MARGIN_NEGATIVE and near_psd(s)
+        s
+        for s, _b in res.numerics
+        if s.usable and s.status != "infeasible" and near_psd(s)
     ]
     if not hints:
         return None
-    prog = SearchProgram(variables)  # fresh: solve_exactly may have shrunk its bases
+    prog = SearchProgram(variables)
     gram = prog.sos("gram", b)
     prog.equate(gram, poly, name="target")
     system = gram_system(prog, gram)
@@ -403,7 +255,7 @@ def decompose(
         found = _try_iterated(space, poly, variables, res, ladder, b)
         if found is None:
             left = max(2.0, _FACE_BUDGET - (time.perf_counter() - t_face))
-            found = _try_face(space, poly, variables, res, ladder, prog, left)
+            found = _try_face(space, poly, variables, res, ladder, left)
         timings["total"] = time.perf_counter() - t_start
         if found is not None:
             found.timings = timings

@@ -306,8 +306,10 @@ def iterated_faces(
         w, v = np.linalg.eigh(gr)
         k = face_gap_rank(w)
         if k == 0 or depth >= _MAX_DEPTH:
-            wt = [[flint.fmpq(int(Fraction(x).numerator), int(Fraction(x).denominator))
-                   for x in row] for row in wrows]
+            wt = [
+                [flint.fmpq(int(Fraction(x).numerator), int(Fraction(x).denominator)) for x in row]
+                for row in wrows
+            ]
             for cand, note in range_candidates(space, basis, target, wt, g, ladder):
                 yield cand, f"{note} (facial reduction depth {depth})"
             if k == 0:
@@ -325,7 +327,15 @@ def iterated_faces(
 def _compose(c: np.ndarray, wrows: np.ndarray) -> np.ndarray:
     """Exact product ``C W`` of rational (object) arrays."""
     return np.array(
-        [[sum((Fraction(ci) * Fraction(wj) for ci, wj in zip(crow, col, strict=True)),
-              Fraction(0)) for col in wrows.T] for crow in c],
+        [
+            [
+                sum(
+                    (Fraction(ci) * Fraction(wj) for ci, wj in zip(crow, col, strict=True)),
+                    Fraction(0),
+                )
+                for col in wrows.T
+            ]
+            for crow in c
+        ],
         dtype=object,
     )

@@ -2,9 +2,6 @@
 
 Public names
 ------------
-``decompose(p, variables)``
-    exact SOS certificate of one polynomial (``Decomposition`` with ``found``,
-    ``basis``, ``gram``, ``squares()``, ``reason``, ``attempts``, ``timings``).
 ``SearchProgram``
     programs whose unknowns are polynomials: ``free``/``free_of_degree``
     (free polynomials), ``sos``/``sos_of_degree``/``require_sos`` (Gram
@@ -15,20 +12,24 @@ Public names
     ``diff`` and ``lie`` (Lie derivative along a vector field).
 ``solve_program(program, solver)``
     cvxpy with ``"clarabel"``, ``"scs"`` or ``"auto"`` (default, see ``pick_solver``);
-    returns ``NumericSolution`` with an
-    honest ``status``: solved, inaccurate, infeasible, unbounded or failed.
-``solve_exactly(program)``
-    the rounding/facial-reduction ladder for any program; ``ProgramOutcome``
-    with ``found``, ``exact`` (an :class:`proofkit.exact.ExactSolution`),
-    ``reason``, ``attempts``, ``timings``.
+    returns ``NumericSolution`` with an honest ``status``: solved, inaccurate,
+    infeasible (also when the best Gram margin is negative), unbounded or
+    failed. The cvxpy problem is cached per program structure; a level change
+    (``Level.set``) is re-solved without rebuilding it.
+``drop_monomials``, ``Reduction``, ``forced_zero_masks``
+    reductions returning a NEW program plus the inverse data (``lift_numeric``).
 ``full_basis``, ``newton_basis``, ``prune_diagonal``
     monomial bases as exponent arrays.
 ``PolySpace``
     sympy <-> FLINT ``fmpq_mpoly`` conversion without ``expand``.
 
-The exact side (rounding, projection, LDL', checks) lives in
-:mod:`proofkit.exact`. Nothing here declares anything proved: only
-:mod:`proofkit.exact` checks do.
+The exact side (rounding, projection, LDL', facial reduction, checks, the
+ladder ``solve_exactly`` and ``decompose``) lives in :mod:`proofkit.exact`,
+which builds on this package; no module here imports it. For callers written
+against the earlier layout, ``proofkit.sos.solve_exactly``, ``decompose``,
+``Decomposition``, ``ProgramOutcome`` and ``Attempt`` still resolve (lazily)
+to their :mod:`proofkit.exact` definitions; new code imports them from there.
+Nothing here declares anything proved.
 """
 
 from __future__ import annotations
@@ -37,14 +38,9 @@ import importlib
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
+    from proofkit.exact.decompose import Decomposition, decompose
+    from proofkit.exact.ladder import Attempt, ProgramOutcome, solve_exactly
     from proofkit.sos.basis import full_basis, newton_basis, prune_diagonal
-    from proofkit.sos.certify import (
-        Attempt,
-        Decomposition,
-        ProgramOutcome,
-        decompose,
-        solve_exactly,
-    )
     from proofkit.sos.poly import PolySpace
     from proofkit.sos.program import (
         FreePoly,
@@ -55,31 +51,38 @@ if TYPE_CHECKING:
         SosPoly,
         Unknown,
     )
+    from proofkit.sos.reduce import Reduction, drop_monomials, forced_zero_masks
     from proofkit.sos.solve import DEFAULT_SOLVER, NumericSolution, pick_solver, solve_program
 
 # Names are loaded on first use so that importing a light sub-module (e.g.
 # proofkit.sos.poly from proofkit.exact) does not pull in cvxpy.
 _WHERE = {
-    "full_basis": "basis",
-    "newton_basis": "basis",
-    "prune_diagonal": "basis",
-    "Attempt": "certify",
-    "Decomposition": "certify",
-    "ProgramOutcome": "certify",
-    "decompose": "certify",
-    "solve_exactly": "certify",
-    "PolySpace": "poly",
-    "FreePoly": "program",
-    "Level": "program",
-    "PolyExpr": "program",
-    "Scalar": "program",
-    "SearchProgram": "program",
-    "SosPoly": "program",
-    "Unknown": "program",
-    "DEFAULT_SOLVER": "solve",
-    "pick_solver": "solve",
-    "NumericSolution": "solve",
-    "solve_program": "solve",
+    "full_basis": "proofkit.sos.basis",
+    "newton_basis": "proofkit.sos.basis",
+    "prune_diagonal": "proofkit.sos.basis",
+    "PolySpace": "proofkit.sos.poly",
+    "FreePoly": "proofkit.sos.program",
+    "Level": "proofkit.sos.program",
+    "PolyExpr": "proofkit.sos.program",
+    "Scalar": "proofkit.sos.program",
+    "SearchProgram": "proofkit.sos.program",
+    "SosPoly": "proofkit.sos.program",
+    "Unknown": "proofkit.sos.program",
+    "Reduction": "proofkit.sos.reduce",
+    "drop_monomials": "proofkit.sos.reduce",
+    "forced_zero_masks": "proofkit.sos.reduce",
+    "DEFAULT_SOLVER": "proofkit.sos.solve",
+    "pick_solver": "proofkit.sos.solve",
+    "NumericSolution": "proofkit.sos.solve",
+    "solve_program": "proofkit.sos.solve",
+}
+# Compatibility names (see the module docstring): defined in proofkit.exact.
+_MOVED = {
+    "Attempt": "ladder",
+    "ProgramOutcome": "ladder",
+    "solve_exactly": "ladder",
+    "Decomposition": "decompose",
+    "decompose": "decompose",
 }
 
 __all__ = [
@@ -92,11 +95,14 @@ __all__ = [
     "PolyExpr",
     "PolySpace",
     "ProgramOutcome",
+    "Reduction",
     "Scalar",
     "SearchProgram",
     "SosPoly",
     "Unknown",
     "decompose",
+    "drop_monomials",
+    "forced_zero_masks",
     "full_basis",
     "newton_basis",
     "pick_solver",
@@ -108,9 +114,11 @@ __all__ = [
 
 def __getattr__(name: str) -> object:
     if name in _WHERE:
-        return getattr(importlib.import_module(f"proofkit.sos.{_WHERE[name]}"), name)
+        return getattr(importlib.import_module(_WHERE[name]), name)
+    if name in _MOVED:
+        return getattr(importlib.import_module(f"proofkit.exact.{_MOVED[name]}"), name)
     raise AttributeError(f"module 'proofkit.sos' has no attribute {name!r}")
 
 
 def __dir__() -> list[str]:
-    return sorted(set(globals()) | set(_WHERE))
+    return sorted(set(globals()) | set(_WHERE) | set(_MOVED))

@@ -9,8 +9,15 @@ partial derivatives and Lie derivatives of unknowns). Each identity becomes
 ONE sparse coefficient-matching system ``sum_u A_u vec(u) = b`` built with
 numpy index arithmetic.
 
+A program is never changed behind its caller's back: a reduction (fewer
+Gram basis monomials) is :meth:`SearchProgram.with_bases`, which returns a NEW
+program with the same names (see :mod:`proofkit.sos.reduce` for the inverse
+data). ``version`` counts structural changes, so that solvers may cache the
+compiled problem and re-solve after a mere level change.
+
 This module only builds and numbers things; it never solves and never
-decides anything (see :mod:`proofkit.sos.solve` and :mod:`proofkit.exact`).
+decides anything (see :mod:`proofkit.sos.solve`); it must never import
+:mod:`proofkit.exact` (exactness builds on search, not the other way).
 """
 
 from __future__ import annotations
@@ -297,6 +304,12 @@ class SearchProgram:
         self.identities: list[Identity] = []
         self.objective: tuple[str, dict[int, Fraction]] | None = None
         self._names: set[str] = set()
+        self.version = 0  # bumped by every structural change (not by Level.set)
+        self.solver_cache: dict[object, object] = {}  # compiled problems (solve.py)
+
+    def _changed(self) -> None:
+        self.version += 1
+        self.solver_cache.clear()
 
     # -- unknowns -------------------------------------------------------
     def _register(self, u: Unknown) -> None:
@@ -305,6 +318,7 @@ class SearchProgram:
         self._names.add(u.name)
         u.uid = len(self.unknowns)
         self.unknowns.append(u)
+        self._changed()
 
     def _exps(self, monomials: object) -> np.ndarray:
         if isinstance(monomials, np.ndarray):
@@ -344,6 +358,7 @@ class SearchProgram:
         q = to_fmpq(value)
         lv = Level(name, Fraction(int(q.p), int(q.q)), len(self.levels))
         self.levels.append(lv)
+        self._changed()
         return lv
 
     def poly(self, obj: object) -> PolyExpr:
@@ -363,6 +378,7 @@ class SearchProgram:
         expr = self._as_expr(lhs) - rhs
         ident = Identity(name or f"identity{len(self.identities)}", expr)
         self.identities.append(ident)
+        self._changed()
         return ident
 
     def possible_support(self, expr: object) -> np.ndarray:
@@ -389,25 +405,52 @@ class SearchProgram:
     def minimize(self, weights: dict[Scalar, object]) -> None:
         """Minimise ``sum w * scalar`` (exact rational weights)."""
         self.objective = ("min", {u.uid: Fraction(str(to_fmpq(w))) for u, w in weights.items()})
+        self._changed()
 
     def maximize(self, weights: dict[Scalar, object]) -> None:
         self.objective = ("max", {u.uid: Fraction(str(to_fmpq(w))) for u, w in weights.items()})
+        self._changed()
 
-    def restrict(self, u: SosPoly, keep: np.ndarray) -> None:
-        """Facial reduction: keep only the basis monomials ``keep`` (mask) of ``u``.
+    def with_bases(self, bases: dict[str, np.ndarray]) -> SearchProgram:
+        """A NEW program equal to this one except for the named Gram unknowns' bases.
 
-        Used when a solution shows those diagonal entries are forced to zero;
-        the identities are re-assembled on the next solve.
+        Unknowns, levels and identities keep their names and order (levels are
+        copied with their current values); this program is not changed.
         """
-        self.rebase(u, u.basis[np.asarray(keep, dtype=bool)])
-
-    def rebase(self, u: SosPoly, basis: np.ndarray) -> None:
-        """Give ``u`` a new basis (exponent array); identities are re-assembled on next solve."""
-        u.basis = np.asarray(basis, dtype=np.int64).reshape(-1, self.space.nvars)
-        u.size = int(u.basis.shape[0])
-        u.ncols = u.size * u.size
+        new = SearchProgram.__new__(SearchProgram)
+        new.space = self.space
+        new.unknowns, new.levels, new.identities = [], [], []
+        new.objective = self.objective
+        new._names = set(self._names)
+        new.version = 0
+        new.solver_cache = {}
+        umap: dict[int, Unknown] = {}
+        for u in self.unknowns:
+            if isinstance(u, SosPoly):
+                b = np.asarray(bases.get(u.name, u.basis), np.int64)
+                c: Unknown = SosPoly(new, u.name, b.reshape(-1, self.space.nvars))
+            elif isinstance(u, FreePoly):
+                c = FreePoly(new, u.name, u.support)
+            else:
+                c = Scalar(new, u.name)
+            c.uid = u.uid
+            umap[id(u)] = c
+            new.unknowns.append(c)
+        lmap = {id(lv): Level(lv.name, lv.value, lv.lid) for lv in self.levels}
+        new.levels = [lmap[id(lv)] for lv in self.levels]
         for ident in self.identities:
-            ident.blocks = []
+            parts = [
+                _Part(
+                    umap[id(p.unknown)] if p.unknown is not None else None,
+                    p.mult,
+                    p.dvar,
+                    lmap[id(p.level)] if p.level is not None else None,
+                )
+                for p in ident.expr.parts
+            ]
+            expr = PolyExpr(self.space, ident.expr.const, parts)
+            new.identities.append(Identity(ident.name, expr))
+        return new
 
     # -- assembly -------------------------------------------------------
     def assemble(self) -> float:

@@ -24,6 +24,7 @@ from proofkit.sos.program import Identity, Scalar, SearchProgram, SosPoly
 __all__ = [
     "AUTO_CLARABEL_MAX_GRAM",
     "DEFAULT_SOLVER",
+    "MARGIN_INFEASIBLE",
     "SOLVER_SETTINGS",
     "NumericSolution",
     "pick_solver",
@@ -111,36 +112,45 @@ def _identity_constraint(
     return lhs == rhs
 
 
-def solve_program(
-    program: SearchProgram,
-    solver: str | None = None,
-    *,
-    margin: bool = True,
-    margin_cap: float = 1.0,
-    margin_weight: float = 1e-3,
-    settings: dict[str, object] | None = None,
-) -> NumericSolution:
-    """Assemble (if needed) and solve numerically; never raises for solver trouble."""
-    solver = pick_solver(program, solver)
-    if solver not in SOLVER_SETTINGS:
-        raise ValueError(f"unknown solver {solver!r}; choose one of {sorted(SOLVER_SETTINGS)}")
-    asm = program.assemble()
-    t_build = time.perf_counter()
+#: A maximised margin below this, relative to the largest Gram entry (at least 1),
+#: means no PSD Gram matrices exist (numerically). Programs without an interior
+#: point are solved only to about the square root of the solver tolerance.
+MARGIN_INFEASIBLE = -1e-7
+
+
+def _negative_margin(program: SearchProgram, out: NumericSolution) -> bool:
+    if out.margin is None:
+        return False
+    scale = 1.0
+    for u in program.unknowns:
+        v = out.values.get(u.name)
+        if isinstance(u, SosPoly) and v is not None and v.size:
+            scale = max(scale, float(np.abs(v).max()))
+    return out.margin < MARGIN_INFEASIBLE * scale
+
+
+@dataclass
+class _Compiled:
+    """A cvxpy problem built once per program structure; levels are its Parameters."""
+
+    problem: cp.Problem
+    mats: dict[int, cp.Variable]
+    margin: cp.Variable | None
+    params: dict[int, cp.Parameter]
+
+
+def _variables(program: SearchProgram, t: cp.Variable | None) -> tuple[dict, dict, list]:
     var: dict[int, cp.Expression] = {}
     mats: dict[int, cp.Variable] = {}
     cons: list = []
-    t = cp.Variable() if margin else None
     for u in program.unknowns:
-        if isinstance(u, SosPoly) and u.size == 0:
-            continue
         if isinstance(u, SosPoly):
+            if u.size == 0:
+                continue
             q = cp.Variable((u.size, u.size), symmetric=True, name=u.name)
             mats[u.uid] = q
             var[u.uid] = cp.vec(q, order="F")
-            if u.size == 0:
-                continue
-            shift = t * np.eye(u.size) if t is not None else 0
-            cons.append(q - shift >> 0)
+            cons.append(q - t * np.eye(u.size) >> 0 if t is not None else q >> 0)
         elif isinstance(u, Scalar):
             v = cp.Variable(name=u.name)
             mats[u.uid] = v
@@ -149,6 +159,13 @@ def solve_program(
             v = cp.Variable(u.ncols, name=u.name)
             mats[u.uid] = v
             var[u.uid] = v
+    return var, mats, cons
+
+
+def _compile(program: SearchProgram, margin: bool, cap: float, weight: float) -> _Compiled:
+    """The cvxpy problem of ``program``: identities, PSD cones, objective, margin."""
+    t = cp.Variable(name="margin") if margin else None
+    var, mats, cons = _variables(program, t)
     par = {lv.lid: cp.Parameter(name=lv.name, value=float(lv.value)) for lv in program.levels}
     for ident in program.identities:
         c = _identity_constraint(ident, var, par)
@@ -160,22 +177,75 @@ def solve_program(
         user = sum(float(w) * mats[uid] for uid, w in weights.items())
         if sense == "max":
             user = -user
-    if t is not None:
-        cons.append(t <= margin_cap)
-        obj = cp.Minimize(user - (margin_weight if program.objective else 1.0) * t)
-    else:
+    if t is None:
         obj = cp.Minimize(user)
-    prob = cp.Problem(obj, cons)
+    elif program.objective is not None:
+        # the objective may not trade PSD-ness for a better value: margin >= 0
+        cons += [t <= cap, t >= 0]
+        obj = cp.Minimize(user - weight * t)
+    else:
+        cons.append(t <= cap)
+        obj = cp.Minimize(-t)
+    return _Compiled(cp.Problem(obj, cons), mats, t, par)
+
+
+def _read_values(program: SearchProgram, comp: _Compiled, out: NumericSolution) -> None:
+    """Copy the solver's values into ``out`` (status ``failed`` when any is missing)."""
+    for u in program.unknowns:
+        if u.uid not in comp.mats:
+            out.values[u.name] = np.zeros((0, 0))
+            continue
+        val = comp.mats[u.uid].value
+        if val is None:
+            out.status = "failed"
+            out.message += f"; no value for {u.name}"
+            out.values = {}
+            return
+        shape = (u.size, u.size) if isinstance(u, SosPoly) else (-1,)
+        out.values[u.name] = np.array(val, dtype=float).reshape(shape)
+
+
+def solve_program(
+    program: SearchProgram,
+    solver: str | None = None,
+    *,
+    margin: bool = True,
+    margin_cap: float = 1.0,
+    margin_weight: float = 1e-3,
+    settings: dict[str, object] | None = None,
+) -> NumericSolution:
+    """Assemble (if needed) and solve numerically; never raises for solver trouble.
+
+    The cvxpy problem is cached on the program per structure (``program.version``)
+    and margin options; a program whose only change is a level value (bisection)
+    is re-solved with new Parameter values, without rebuilding. Without an
+    objective the smallest Gram eigenvalue margin is maximised, and a best
+    margin below ``MARGIN_INFEASIBLE`` (relative) is reported as ``infeasible``; with an
+    objective the margin is kept nonnegative, so every answer has PSD Gram
+    matrices up to the solver's tolerance.
+    """
+    solver = pick_solver(program, solver)
+    if solver not in SOLVER_SETTINGS:
+        raise ValueError(f"unknown solver {solver!r}; choose one of {sorted(SOLVER_SETTINGS)}")
+    asm = program.assemble()
+    t_build = time.perf_counter()
+    key = ("cvxpy", program.version, margin, margin_cap, margin_weight)
+    comp = program.solver_cache.get(key)
+    if not isinstance(comp, _Compiled):
+        comp = _compile(program, margin, margin_cap, margin_weight)
+        program.solver_cache[key] = comp
+    for lv in program.levels:
+        comp.params[lv.lid].value = float(lv.value)
     opts = dict(SOLVER_SETTINGS[solver])
     opts.update(settings or {})
-    name = {"clarabel": cp.CLARABEL, "scs": cp.SCS}[solver]
     out = NumericSolution(status="failed", solver=solver, assembly_time=asm)
     t0 = time.perf_counter()
     out.build_time = t0 - t_build
+    prob = comp.problem
     try:
         with warnings.catch_warnings():  # "inaccurate" is reported in the status instead
             warnings.simplefilter("ignore", UserWarning)
-            prob.solve(solver=name, **opts)
+            prob.solve(solver={"clarabel": cp.CLARABEL, "scs": cp.SCS}[solver], **opts)
     except (cp.error.SolverError, ValueError, ArithmeticError) as exc:
         out.message = f"solver error: {exc}"
         out.solve_time = time.perf_counter() - t0
@@ -187,23 +257,18 @@ def solve_program(
     out.status = _STATUS.get(prob.status, "failed")
     out.message = f"cvxpy status {prob.status}"
     if out.status in ("solved", "inaccurate"):
-        for u in program.unknowns:
-            if u.uid not in mats:
-                out.values[u.name] = np.zeros((0, 0))
-                continue
-            val = mats[u.uid].value
-            if val is None:
-                out.status = "failed"
-                out.message += f"; no value for {u.name}"
-                out.values = {}
-                break
-            out.values[u.name] = np.array(val, dtype=float).reshape(
-                (u.size, u.size) if isinstance(u, SosPoly) else (-1,)
-            )
-        if t is not None and t.value is not None:
-            out.margin = float(t.value)
+        _read_values(program, comp, out)
+        if comp.margin is not None and comp.margin.value is not None:
+            out.margin = float(comp.margin.value)
         out.objective = float(prob.value) if prob.value is not None else None
         if out.status != "failed" and not out.usable:
             out.status = "failed"
             out.message += "; non-finite values"
+    solved = out.status in ("solved", "inaccurate")
+    if solved and program.objective is None and _negative_margin(program, out):
+        out.message = (
+            f"best margin {out.margin:.3g} < 0: no PSD Gram matrices with these bases "
+            f"(numerically; cvxpy status {prob.status})"
+        )
+        out.status = "infeasible"
     return out

@@ -7,7 +7,8 @@ import numpy as np
 import pytest
 import sympy as sp
 
-import proofkit.sos.certify as certify
+import proofkit.exact.decompose as decompose_mod
+import proofkit.exact.ladder as certify
 from proofkit.sos import NumericSolution, SearchProgram, decompose, solve_program
 
 X, Y = sp.symbols("x y", real=True)
@@ -76,7 +77,7 @@ def test_lying_solver_cannot_certify_an_indefinite_polynomial(monkeypatch) -> No
     def liar(program):
         return {"g": np.diag([1.0, -1.0])}
 
-    monkeypatch.setattr(certify, "_sample_negative", lambda *a: None)
+    monkeypatch.setattr(decompose_mod, "_sample_negative", lambda *a: None)
     prog = SearchProgram([X, Y])
     prog.require_sos(prog.poly(p), "g", basis=[X, Y])
     monkeypatch.setattr(certify, "solve_program", _fake("solved", liar, margin=0.5))
