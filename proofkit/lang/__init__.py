@@ -58,8 +58,10 @@ def parse_model(text: str, file: str = "<model>") -> Model:
         raise
     except RecursionError:
         raise make_error(
-            where, f"the model is nested too deeply to process (limit {MAX_DEPTH} levels)",
-            None, limit=True,
+            where,
+            f"the model is nested too deeply to process (limit {MAX_DEPTH} levels)",
+            None,
+            limit=True,
         ) from None
     except MemoryError:
         raise make_error(where, "the model is too large to process", None, limit=True) from None

@@ -124,13 +124,16 @@ class _Builder:
         nodes, depth = expression_size(v.expr)
         if nodes > MAX_NODES or depth > MAX_EXPR_DEPTH:
             what = (
-                f"more than {MAX_NODES} operations" if nodes > MAX_NODES
+                f"more than {MAX_NODES} operations"
+                if nodes > MAX_NODES
                 else f"nesting deeper than {MAX_EXPR_DEPTH} levels"
             )
             raise make_error(
                 self.where,
                 f"this expression has {what} once its shorthands are substituted",
-                v.line, v.column, end,
+                v.line,
+                v.column,
+                end,
                 hint="shorthands that use earlier shorthands several times grow quickly; "
                 "simplify the model",
                 limit=True,
@@ -139,7 +142,9 @@ class _Builder:
             raise make_error(
                 self.where,
                 f"this expression could have more than {MAX_TERMS} terms once expanded",
-                v.line, v.column, end,
+                v.line,
+                v.column,
+                end,
                 hint="use smaller powers or fewer factors",
                 limit=True,
             )
@@ -153,7 +158,8 @@ class _Builder:
         if name in FUNCTIONS or name == "pi":
             what = "the constant pi" if name == "pi" else "a built-in function"
             raise self.err(
-                f"'{name}' is {what} and cannot be declared as a name", tok,
+                f"'{name}' is {what} and cannot be declared as a name",
+                tok,
                 hint=f"choose another name, e.g. {name}_1",
             )
         old = self.env.get(name)
@@ -177,12 +183,14 @@ class _Builder:
         tok = st.children[0]
         if self.system_line is not None:
             raise self.err(
-                f"a second system statement (the first is on line {self.system_line})", st.meta,
+                f"a second system statement (the first is on line {self.system_line})",
+                st.meta,
                 hint="a file describes one system; remove one of the two",
             )
         if index != 0:
             raise self.err(
-                "the system statement must be the first statement of the file", st.meta,
+                "the system statement must be the first statement of the file",
+                st.meta,
                 hint="move 'system ...' to the top (comments may come before it)",
             )
         self.name, self.system_line = str(tok), tok.line
@@ -228,7 +236,8 @@ class _Builder:
     def st_state(self, st: Tree, index: int) -> None:
         if self.states is not None:
             raise self.err(
-                f"a second state statement (the first is on line {self.state_line})", st.meta,
+                f"a second state statement (the first is on line {self.state_line})",
+                st.meta,
                 hint="list all states in one statement: state x, y, ...",
             )
         for tok in st.children:
@@ -247,32 +256,42 @@ class _Builder:
         deriv, body = st.children
         name = str(deriv)
         tok = Token(  # the state name inside dNAME/dt, for carets
-            "NAME", name, deriv.start_pos, deriv.line, deriv.column + 1,
-            deriv.line, deriv.column + 1 + len(name),
+            "NAME",
+            name,
+            deriv.start_pos,
+            deriv.line,
+            deriv.column + 1,
+            deriv.line,
+            deriv.column + 1 + len(name),
         )
         binding = self.env.get(name)
         if binding is None or binding.kind != "state":
             if binding is not None:
                 raise self.err(
                     f"'{name}' is {KIND_WORDS[binding.kind]}, not a state; only states "
-                    "have equations", tok,
+                    "have equations",
+                    tok,
                 )
             if self.states is None:
                 raise self.err(
-                    f"equation for '{name}' before the state statement", tok,
+                    f"equation for '{name}' before the state statement",
+                    tok,
                     hint="declare the states first, e.g. state x, y",
                 )
             guess = closest(name, self.states)
             raise self.err(
-                f"'{name}' is not a state", tok,
-                hint=f"did you mean '{guess}'?" if guess else
-                f"the states are: {', '.join(self.states)}",
+                f"'{name}' is not a state",
+                tok,
+                hint=f"did you mean '{guess}'?"
+                if guess
+                else f"the states are: {', '.join(self.states)}",
             )
         if name in self.equations:
             first = self.equations[name].span
             assert first is not None
             raise self.err(
-                f"a second equation for '{name}' (the first is on line {first.line})", st.meta,
+                f"a second equation for '{name}' (the first is on line {first.line})",
+                st.meta,
                 hint=f"each state has exactly one equation; first one at {first}",
             )
         rhs = self.expr(body, _DYNAMIC, "an equation").expr
@@ -286,7 +305,8 @@ class _Builder:
             ops = [str(o) for o in parts[1::2]]
             if len(ops) == 2 and (ops[0][0] != ops[1][0]):
                 raise self.err(
-                    "a chained condition must compare in one direction", cond.meta,
+                    "a chained condition must compare in one direction",
+                    cond.meta,
                     hint="write a <= x <= b or a >= x >= b, or split it with 'and'",
                 )
             span = _span(self.where, cond.meta)
@@ -297,7 +317,8 @@ class _Builder:
     def st_domain(self, st: Tree, index: int) -> None:
         if self.domain is not None:
             raise self.err(
-                f"a second domain statement (the first is on line {self.domain_line})", st.meta,
+                f"a second domain statement (the first is on line {self.domain_line})",
+                st.meta,
                 hint="join all conditions into one domain with 'and'",
             )
         self.domain = self.region(st.children[0], "a domain")
@@ -307,7 +328,8 @@ class _Builder:
         tok, *assigns = st.children
         if self.states is None:
             raise self.err(
-                "equilibrium before the state statement", st.meta,
+                "equilibrium before the state statement",
+                st.meta,
                 hint="declare the states first, e.g. state x, y",
             )
         given: dict[str, sp.Expr] = {}
@@ -317,9 +339,11 @@ class _Builder:
             if sname not in self.states:
                 guess = closest(sname, self.states)
                 raise self.err(
-                    f"'{sname}' is not a state", stok,
-                    hint=f"did you mean '{guess}'?" if guess else
-                    f"the states are: {', '.join(self.states)}",
+                    f"'{sname}' is not a state",
+                    stok,
+                    hint=f"did you mean '{guess}'?"
+                    if guess
+                    else f"the states are: {', '.join(self.states)}",
                 )
             if sname in given:
                 raise self.err(f"'{sname}' is given twice in this point", stok)
@@ -327,7 +351,8 @@ class _Builder:
         missing = [s for s in self.states if s not in given]
         if missing:
             raise self.err(
-                f"the point '{tok}' does not give {', '.join(missing)}", st.meta,
+                f"the point '{tok}' does not give {', '.join(missing)}",
+                st.meta,
                 hint="give every state: " + ", ".join(f"{s} = ..." for s in self.states),
             )
         self.declare(tok, "equilibrium", None)
@@ -357,13 +382,17 @@ class _Builder:
     def finish(self) -> Model:
         if self.states is None:
             raise make_error(
-                self.where, "the model has no state statement", 1, 1,
+                self.where,
+                "the model has no state statement",
+                1,
+                1,
                 hint="declare the state variables, e.g. state x, y",
             )
         for tok in self.state_tokens:
             if str(tok) not in self.equations:
                 raise self.err(
-                    f"state '{tok}' has no equation", tok,
+                    f"state '{tok}' has no equation",
+                    tok,
                     hint=f"add a line d{tok}/dt = ... giving its time derivative",
                 )
         equations = tuple(self.equations[s] for s in self.states)
@@ -377,7 +406,9 @@ class _Builder:
                     self.where,
                     f"a '{claim.kind}' claim is about planar systems, and this model has "
                     f"{len(self.states)} state{'s' if len(self.states) != 1 else ''}",
-                    claim.span.line, claim.span.column, claim.span.end_column,
+                    claim.span.line,
+                    claim.span.column,
+                    claim.span.end_column,
                     hint="periodic-orbit claims need exactly two states",
                 )
         for claim, tok in self.claims:
@@ -386,9 +417,11 @@ class _Builder:
                 kind = self.env.get(str(tok))
                 what = f"; '{tok}' is {KIND_WORDS[kind.kind]}" if kind else ""
                 raise self.err(
-                    f"the claim names '{tok}', which is not a declared equilibrium{what}", tok,
-                    hint=f"did you mean '{guess}'?" if guess else
-                    f"declare it: equilibrium {tok} at "
+                    f"the claim names '{tok}', which is not a declared equilibrium{what}",
+                    tok,
+                    hint=f"did you mean '{guess}'?"
+                    if guess
+                    else f"declare it: equilibrium {tok} at "
                     + ", ".join(f"{s} = ..." for s in self.states),
                 )
         return Model(

@@ -109,7 +109,10 @@ def exact_number(text: str, where: Located, line: int, column: int) -> sp.Ration
         raise make_error(
             where,
             f"a number with {len(digits)} digits; the limit is {MAX_LITERAL_DIGITS}",
-            line, column, end, limit=True,
+            line,
+            column,
+            end,
+            limit=True,
         )
     power = 0
     if exp is not None:
@@ -117,7 +120,10 @@ def exact_number(text: str, where: Located, line: int, column: int) -> sp.Ration
             raise make_error(
                 where,
                 f"the exponent of {text} is too large; the limit is {MAX_LITERAL_EXPONENT}",
-                line, column, end, limit=True,
+                line,
+                column,
+                end,
+                limit=True,
             )
         power = int(exp)
     power -= len(frac)
@@ -308,7 +314,10 @@ class ExprBuilder(Transformer):
             return sp.pi
         if name in FUNCTIONS:
             raise self._err(
-                f"'{name}' is a function, not a value", line, col, end,
+                f"'{name}' is a function, not a value",
+                line,
+                col,
+                end,
                 hint=f"call it with an argument, as in {name}(x); a variable needs another name",
             )
         binding = self.env.get(name)
@@ -320,7 +329,9 @@ class ExprBuilder(Transformer):
                     )
                 raise self._err(
                     f"'{name}' is used before it is declared (on line {self.later[name]})",
-                    line, col, end,
+                    line,
+                    col,
+                    end,
                     hint=f"move the declaration of '{name}' above this line",
                 )
             known = [n for n, b in self.env.items() if b.kind in self.allowed]
@@ -334,11 +345,14 @@ class ExprBuilder(Transformer):
                 hint = "declare it with constant, parameter, state or let before using it"
             raise self._err(f"unknown name '{name}'", line, col, end, hint=hint)
         if binding.kind not in self.allowed:
-            may = ", ".join(_PLURAL[k] for k in ("constant", "parameter", "state", "let")
-                            if k in self.allowed)
+            may = ", ".join(
+                _PLURAL[k] for k in ("constant", "parameter", "state", "let") if k in self.allowed
+            )
             raise self._err(
                 f"'{name}' is {KIND_WORDS[binding.kind]}, which {self.purpose} cannot use",
-                line, col, end,
+                line,
+                col,
+                end,
                 hint=f"{self.purpose} may use numbers, pi, functions and {may}",
             )
         assert binding.value is not None
@@ -389,12 +403,14 @@ class ExprBuilder(Transformer):
         e = exp.expr
         if e.free_symbols:
             raise self._err_val(
-                "an exponent must be a constant (a number or a constant expression)", exp,
+                "an exponent must be a constant (a number or a constant expression)",
+                exp,
                 hint="write the power as a product, or use exp(...) and log(...)",
             )
         if not e.is_Rational:
             raise self._err_val(
-                f"the exponent {show(e)} is not a rational number", exp,
+                f"the exponent {show(e)} is not a rational number",
+                exp,
                 hint="exponents must be integers or fractions such as 1/2",
             )
         p, q = int(e.p), int(e.q)
@@ -412,14 +428,13 @@ class ExprBuilder(Transformer):
                 raise self._err_val(
                     f"this power would be a number of about {bits} bits; the limit is "
                     f"{MAX_NUMBER_BITS}",
-                    base, limit=True,
+                    base,
+                    limit=True,
                 )
             if b.is_zero and p < 0:
                 raise self._err_val("zero raised to a negative power (division by zero)", base)
         if q != 1 and b.is_number and b.is_negative:
-            raise self._err_val(
-                "a negative number raised to a fractional power is not real", base
-            )
+            raise self._err_val("a negative number raised to a fractional power is not real", base)
         out = Val(sp.Pow(b, e), *_pos(meta))
         return Val(self._real(out.expr, out), *_pos(meta))
 
@@ -434,25 +449,36 @@ class ExprBuilder(Transformer):
                 kind = "a constant" if name == "pi" else KIND_WORDS[binding.kind]  # type: ignore[union-attr]
                 raise self._err(
                     f"'{name}' is {kind}, not a function, so it cannot be called",
-                    line, col, end,
+                    line,
+                    col,
+                    end,
                     hint=f"for a product write {name}*(...)",
                 )
             guess = closest(name, FUNCTIONS)
-            hint = f"did you mean '{guess}'?" if guess else (
-                "known functions: " + ", ".join(FUNCTIONS)
+            hint = (
+                f"did you mean '{guess}'?"
+                if guess
+                else ("known functions: " + ", ".join(FUNCTIONS))
             )
-            raise self._err(f"unknown name '{name}': not a known function", line, col, end,
-                            hint=hint)
+            raise self._err(
+                f"unknown name '{name}': not a known function", line, col, end, hint=hint
+            )
         if len(args) != 1:
             raise self._err(
-                f"{name} takes exactly one argument, got {len(args)}", line, col, end,
+                f"{name} takes exactly one argument, got {len(args)}",
+                line,
+                col,
+                end,
                 hint=f"write {name}(x)",
             )
         arg = args[0]
         if isinstance(arg, Token) and arg.type == "STRING":
             raise self._err(
-                "quoted text is not part of the language", arg.line, arg.column,
-                arg.end_column, hint=f"give {name} an expression, as in {name}(x)",
+                "quoted text is not part of the language",
+                arg.line,
+                arg.column,
+                arg.end_column,
+                hint=f"give {name} an expression, as in {name}(x)",
             )
         v = self._val(arg)
         if name in ("sqrt", "log") and v.expr.is_number and v.expr.is_negative:

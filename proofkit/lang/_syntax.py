@@ -33,9 +33,24 @@ MAX_DEPTH = 100  # nesting levels of an expression tree
 
 KEYWORDS = frozenset(
     {
-        "system", "constant", "parameter", "state", "let", "domain", "equilibrium", "at",
+        "system",
+        "constant",
+        "parameter",
+        "state",
+        "let",
+        "domain",
+        "equilibrium",
+        "at",
         "claim",
-        "stable", "unstable", "globally", "attracts", "no", "cycle", "in", "nominal", "and",
+        "stable",
+        "unstable",
+        "globally",
+        "attracts",
+        "no",
+        "cycle",
+        "in",
+        "nominal",
+        "and",
     }
 )
 # A newline right after one of these tokens continues the statement.
@@ -46,7 +61,14 @@ _OPEN = {"LPAR", "LSQB"}
 _CLOSE = {"RPAR", "RSQB"}
 _ALLOWED_CONTROL = {"\n", "\t", "\r", "\f"}
 _STATEMENT_WORDS = (
-    "system", "constant", "parameter", "state", "let", "domain", "equilibrium", "claim",
+    "system",
+    "constant",
+    "parameter",
+    "state",
+    "let",
+    "domain",
+    "equilibrium",
+    "claim",
 )
 
 _OLD_WORDS = {"param": "parameter", "const": "constant"}
@@ -100,7 +122,9 @@ def _significant_tokens(where: Located, tokens: Iterator[Token]) -> Iterator[Tok
                 raise make_error(
                     where,
                     f"parentheses nested more than {MAX_DEPTH} levels deep",
-                    tok.line, tok.column, tok.end_column,
+                    tok.line,
+                    tok.column,
+                    tok.end_column,
                     hint="simplify the expression, or split it with let shorthands",
                     limit=True,
                 )
@@ -131,8 +155,14 @@ def _merge_derivatives(tokens: Iterator[Token]) -> Iterator[Token]:
         elif len(window) == 3:
             first, dt = window[0], window[2]
             yield Token(
-                "DERIVATIVE", str(first)[1:], first.start_pos, first.line, first.column,
-                dt.end_line, dt.end_column, dt.end_pos,
+                "DERIVATIVE",
+                str(first)[1:],
+                first.start_pos,
+                first.line,
+                first.column,
+                dt.end_line,
+                dt.end_column,
+                dt.end_pos,
             )
             at_start = False
             window = []
@@ -194,12 +224,6 @@ def _token_error(
     if tok.type == "NAME" and at_statement_start and ptype == "NAME":
         guess = closest(str(prev), _STATEMENT_WORDS)
         hint = f"did you mean '{guess}'?" if guess else _STATEMENT_HINT
-    elif (
-        tok.type == "MULOP" and str(tok) == "/" and at_statement_start
-        and prev is not None and str(prev).startswith("d")
-    ):
-        state = str(prev)[1:] or "x"
-        hint = f"write the time derivative of {state} as d{state}/dt = ..."
     elif ptype == "NUMBER" and tok.type in {"NAME", "LPAR"} and "MULOP" in expected:
         hint = f"write {prev}*{tok} for a product: multiplication is never implicit"
         message = f"a number directly followed by {_describe_token(tok)}; expected {words}"
@@ -229,7 +253,17 @@ def _token_error(
         hint = "write ^ (or **) for a power"
     elif tok.type == "NAME" and (prev is None or ptype == "_NL"):
         guess = closest(str(tok), _STATEMENT_WORDS)
-        hint = f"did you mean '{guess}'?" if guess else _STATEMENT_HINT
+        rest = (where.line_text(tok.line) or "")[tok.end_column - 1 :].lstrip()
+        if rest.startswith("/") and str(tok).startswith("d"):
+            state = str(tok)[1:] or "x"
+            hint = f"write the time derivative of {state} as d{state}/dt = ..."
+        elif rest.startswith("=") and not rest.startswith("=="):
+            hint = (
+                f"a state equation is written d{tok}/dt = ...; a constant is "
+                f"constant {tok} = ...; a shorthand is let {tok} = ..."
+            )
+        else:
+            hint = f"did you mean '{guess}'?" if guess else _STATEMENT_HINT
     elif tok.type in {"_NL", "$END"}:
         hint = "the statement is incomplete"
     return make_error(where, message, line, column, end, hint=hint)
@@ -261,7 +295,9 @@ def _old_keyword_error(where: Located, word: Token) -> InputError:
     return make_error(
         where,
         f"'{word}' is not a word of this language; a {full} is declared with '{full}'",
-        word.line, word.column, word.end_column,
+        word.line,
+        word.column,
+        word.end_column,
         hint=f"write: {fixed}",
     )
 
@@ -274,13 +310,17 @@ def _prime_error(where: Located, offset: int) -> InputError | None:
     if m is None:
         return None
     column = m.start(3) + 1
-    fixed = f"d{m.group(2)}/dt = {text[m.end():].strip()}".rstrip()
+    fixed = f"d{m.group(2)}/dt = {text[m.end() :].strip()}".rstrip()
     return make_error(
         where,
         "a prime derivative is not part of this language; time derivatives are written "
         f"d{m.group(2)}/dt",
-        line, m.start(2) + 1, column + len(m.group(3)),
-        hint=f"write: {fixed}" if len(m.group(3)) == 1 else (
+        line,
+        m.start(2) + 1,
+        column + len(m.group(3)),
+        hint=f"write: {fixed}"
+        if len(m.group(3)) == 1
+        else (
             f"models are first order: give the rate its own state, e.g. state {m.group(2)}, "
             f"v with d{m.group(2)}/dt = v and dv/dt = ..."
         ),

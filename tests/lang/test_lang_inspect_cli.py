@@ -84,14 +84,14 @@ def test_inspect_text_shows_ranges_and_the_domain() -> None:
 
 def test_bad_files_exit_2_without_traceback(tmp_path: Path) -> None:
     bad = tmp_path / "bad.pk"
-    bad.write_text("state x\nx' = 2x\n")
+    bad.write_text("state x\ndx/dt = 2x\n")
     proc = run(str(bad))
     assert proc.returncode == 2
-    assert f"{bad}:2:7: error:" in proc.stderr and "hint: write 2*x" in proc.stderr
+    assert f"{bad}:2:10: error:" in proc.stderr and "hint: write 2*x" in proc.stderr
     assert proc.stdout == ""
 
     latin = tmp_path / "latin.pk"
-    latin.write_bytes(b"state x\nx' = -x  # \xe9\n")
+    latin.write_bytes(b"state x\ndx/dt = -x  # \xe9\n")
     proc = run(str(latin), "--json")
     assert proc.returncode == 2 and "not UTF-8" in proc.stderr
 
@@ -99,18 +99,17 @@ def test_bad_files_exit_2_without_traceback(tmp_path: Path) -> None:
     assert proc.returncode == 2 and "no such file" in proc.stderr
 
 
-
 def test_standard_input_in_process(monkeypatch: pytest.MonkeyPatch, capsys) -> None:
     import io
 
     from proofkit.cli import main
 
-    data = b"state x\nx' = -x\nequilibrium E at x = 1\n"
+    data = b"state x\ndx/dt = -x\nequilibrium E at x = 1\n"
     monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(data)))
     assert main(["inspect", "-"]) == 2
     err = capsys.readouterr().err
-    assert "<stdin>:3:1" in err and "residual x' = -1" in err
-    monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(b"state x\nx' = -x\n")))
+    assert "<stdin>:3:1" in err and "residual dx/dt = -1" in err
+    monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(b"state x\ndx/dt = -x\n")))
     assert main(["inspect", "-", "--json"]) == 0
     assert json.loads(capsys.readouterr().out)["model"]["equations"] == {"x": "-x"}
 

@@ -15,13 +15,13 @@ k = sp.Symbol("k", real=True)
 
 
 def rhs(expr_text: str, extra: str = "") -> sp.Expr:
-    """The right-hand side of x' in a one-state model (with optional declarations)."""
-    m = parse_model(f"{extra}state x, y\nx' = {expr_text}\ny' = 0\n")
+    """The right-hand side of dx/dt in a one-state model (with optional declarations)."""
+    m = parse_model(f"{extra}state x, y\ndx/dt = {expr_text}\ndy/dt = 0\n")
     return m.equations[0].rhs
 
 
 def const(value_text: str) -> sp.Expr:
-    return parse_model(f"const c = {value_text}\nstate x\nx' = -x\n").constants[0].value
+    return parse_model(f"constant c = {value_text}\nstate x\ndx/dt = -x\n").constants[0].value
 
 
 # --- exact numbers (common practice: decimal literals are exact decimal fractions) ---
@@ -41,7 +41,9 @@ def test_decimals_are_exact_rationals() -> None:
 
 
 def test_no_float_enters_a_model() -> None:
-    m = parse_model("const g = 9.81\nparam a = 0.4 in [0.25, 1e0]\nstate x\nx' = -a*x + g*1e-2\n")
+    m = parse_model(
+        "constant g = 9.81\nparameter a = 0.4 in [0.25, 1e0]\nstate x\ndx/dt = -a*x + g*1e-2\n"
+    )
     for c in m.constants:
         assert not c.value.has(sp.Float)
     assert m.params[0].nominal == sp.Rational(2, 5)
@@ -87,7 +89,13 @@ def test_unary_signs() -> None:
 
 def test_functions_and_pi() -> None:
     assert rhs("sin(x) + cos(y) + tan(x) + exp(y) + log(2) + sqrt(x) + tanh(y) + abs(x)") == (
-        sp.sin(x) + sp.cos(y) + sp.tan(x) + sp.exp(y) + sp.log(2) + sp.sqrt(x) + sp.tanh(y)
+        sp.sin(x)
+        + sp.cos(y)
+        + sp.tan(x)
+        + sp.exp(y)
+        + sp.log(2)
+        + sp.sqrt(x)
+        + sp.tanh(y)
         + sp.Abs(x)
     )
     assert const("sin(pi/6)") == sp.Rational(1, 2)
@@ -95,7 +103,7 @@ def test_functions_and_pi() -> None:
 
 
 def test_symbols_are_real() -> None:
-    m = parse_model("param k = 1\nstate x\nx' = -k*x\n")
+    m = parse_model("parameter k = 1\nstate x\ndx/dt = -k*x\n")
     for s in m.equations[0].rhs.free_symbols:
         assert s.is_real
 
@@ -105,13 +113,13 @@ def test_every_statement() -> None:
     text = """
 # a comment line
 system demo_1   # trailing comment
-const c = 3/2
-param k = 2 in [1, 3]
-param d = 1/2
+constant c = 3/2
+parameter k = 2 in [1, 3]
+parameter d = 1/2
 state x, y
 let r = c*x - x^3
-x' = y
-y' = -r - d*y + k*0
+dx/dt = y
+dy/dt = -r - d*y + k*0
 domain x^2 <= 4 and y^2 < 9
 equilibrium O at x = 0, y = 0
 claim O stable
@@ -158,51 +166,51 @@ claim cycle in 1 <= x^2 + y^2 <= 4
 
 
 def test_equations_are_stored_in_state_order() -> None:
-    m = parse_model("state a, b\nb' = a\na' = -b\n")
+    m = parse_model("state a, b\ndb/dt = a\nda/dt = -b\n")
     assert [e.state for e in m.equations] == ["a", "b"]
 
 
 def test_system_is_optional() -> None:
-    m = parse_model("state x\nx' = -x\n")
+    m = parse_model("state x\ndx/dt = -x\n")
     assert m.name is None and m.claims == () and m.domain is None
 
 
 def test_let_substitutes_and_chains() -> None:
-    m = parse_model("state x\nlet a = x + 1\nlet b = a^2\nx' = -b\n")
+    m = parse_model("state x\nlet a = x + 1\nlet b = a^2\ndx/dt = -b\n")
     assert m.equations[0].rhs == -((x + 1) ** 2)
 
 
 def test_constant_uses_earlier_constants() -> None:
-    m = parse_model("const a = 2\nconst b = a^2 + 1\nstate x\nx' = -b*x\n")
+    m = parse_model("constant a = 2\nconstant b = a^2 + 1\nstate x\ndx/dt = -b*x\n")
     assert m.constants[1].value == 5 and m.equations[0].rhs == -5 * x
 
 
 def test_equilibrium_moving_with_a_parameter() -> None:
     m = parse_model(
-        "param k = 1 in [1/2, 2]\nstate s, w\ns' = w\nw' = -k*s - w + s^2\n"
+        "parameter k = 1 in [1/2, 2]\nstate s, w\nds/dt = w\ndw/dt = -k*s - w + s^2\n"
         "equilibrium J at s = k, w = 0\n"
     )
     assert m.equilibria[0].as_dict() == {"s": k, "w": 0}
 
 
 def test_equilibrium_with_exact_irrational_point() -> None:
-    m = parse_model("state x\nx' = x - x^3/2\nequilibrium R at x = sqrt(2)\n")
+    m = parse_model("state x\ndx/dt = x - x^3/2\nequilibrium R at x = sqrt(2)\n")
     assert m.equilibria[0].as_dict() == {"x": sp.sqrt(2)}
 
 
 def test_param_range_may_be_a_single_point_and_use_constants() -> None:
-    m = parse_model("const a = 2\nparam k = a in [a, 2*a]\nstate x\nx' = -k*x\n")
+    m = parse_model("constant a = 2\nparameter k = a in [a, 2*a]\nstate x\ndx/dt = -k*x\n")
     assert (m.params[0].nominal, m.params[0].low, m.params[0].high) == (2, 2, 4)
-    m = parse_model("param k = 1 in [1, 1]\nstate x\nx' = -k*x\n")
+    m = parse_model("parameter k = 1 in [1, 1]\nstate x\ndx/dt = -k*x\n")
     assert m.params[0].low == m.params[0].high == 1
 
 
 # --- lexical rules ---------------------------------------------------------------------
 def test_line_continuation_inside_parentheses_and_after_operators() -> None:
     m = parse_model(
-        "param k = 2 in\n  [1,\n   3]\nstate x, y\n"
-        "x' = (y +\n  x)\n"
-        "y' = -x -   # a comment on a continued line\n   y*k\n"
+        "parameter k = 2 in\n  [1,\n   3]\nstate x, y\n"
+        "dx/dt = (y +\n  x)\n"
+        "dy/dt = -x -   # a comment on a continued line\n   y*k\n"
         "domain x^2 <= 1 and\n  y^2 <= 1\n"
     )
     assert m.equations[0].rhs == x + y
@@ -212,18 +220,18 @@ def test_line_continuation_inside_parentheses_and_after_operators() -> None:
 
 
 def test_crlf_tabs_and_blank_lines() -> None:
-    m = parse_model("\r\n\tstate x\r\n\r\nx'\t=\t-x # c\r\n\n\n")
+    m = parse_model("\r\n\tstate x\r\n\r\ndx/dt\t=\t-x # c\r\n\n\n")
     assert m.equations[0].rhs == -x
 
 
 def test_names_are_case_sensitive() -> None:
-    m = parse_model("state x, X\nx' = X\nX' = -x\n")
+    m = parse_model("state x, X\ndx/dt = X\ndX/dt = -x\n")
     assert m.states == ("x", "X")
 
 
 def test_claim_text_is_as_written_without_comments() -> None:
     m = parse_model(
-        "state x, y\nx' = -x\ny' = -y\nequilibrium O at x = 0, y = 0\n"
+        "state x, y\ndx/dt = -x\ndy/dt = -y\nequilibrium O at x = 0, y = 0\n"
         "claim O attracts x^2 +   # keep going\n   y^2 <= 1\n"
     )
     assert m.claims[0].text == "O attracts x^2 + y^2 <= 1"
@@ -232,7 +240,7 @@ def test_claim_text_is_as_written_without_comments() -> None:
 def test_format_expr_writes_language_syntax() -> None:
     # computed: the printed text must use the language's own spellings
     assert format_expr(sp.Abs(x) + x**2) == "x^2 + abs(x)"
-    assert format_expr(-x**2 / 3) == "-x^2/3"
+    assert format_expr(-(x**2) / 3) == "-x^2/3"
     assert format_expr(sp.sqrt(x)) == "sqrt(x)"
     assert format_expr(1 / (2 * y)) == "1/(2*y)"
     assert format_expr(sp.exp(1)) == "exp(1)"
@@ -243,8 +251,8 @@ def test_format_expr_writes_language_syntax() -> None:
 
 def test_sympy_rewrites_print_back_to_the_same_value() -> None:
     # computed: sympy turns tan(x + pi/2) into -cot(x); the text must mean the same
-    m = parse_model("state x\nx' = tan(x + pi/2) + tan(pi/2 - 2*x)\n")
+    m = parse_model("state x\ndx/dt = tan(x + pi/2) + tan(pi/2 - 2*x)\n")
     text = format_expr(m.equations[0].rhs)
     assert "cot" not in text
-    again = parse_model(f"state x\nx' = {text}\n")
+    again = parse_model(f"state x\ndx/dt = {text}\n")
     assert again.equations[0].rhs == m.equations[0].rhs

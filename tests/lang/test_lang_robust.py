@@ -19,12 +19,63 @@ from proofkit.errors import InputError
 from proofkit.lang import load_model, parse_model
 
 WORKED = Path(__file__).resolve().parents[2] / "worked"
-SEEDS = sorted(p.read_text() for p in WORKED.glob("*.pk")) or ["state x\nx' = -x\n"]
+SEEDS = sorted(p.read_text() for p in WORKED.glob("*.pk")) or ["state x\ndx/dt = -x\n"]
 PIECES = [
-    "(", ")", "[", "]", "^", "**", "*", "/", "-", "+", "=", "'", ",", "\n", " ", "#", "<=", ">",
-    "and", "in", "at", "nominal", "claim", "state", "let", "x", "2", "0.5", "1e-3", "sin(",
-    "__import__", '"', "\u2212", "\u00a0", "\t", "\r", "9" * 40, "^64", "^65", "(" * 30,
-    "equilibrium", "cycle", "no", "domain", "param", "const", ".", "e", "pi", "abs", "\x00",
+    "(",
+    ")",
+    "[",
+    "]",
+    "^",
+    "**",
+    "*",
+    "/",
+    "-",
+    "+",
+    "=",
+    "'",
+    ",",
+    "\n",
+    " ",
+    "#",
+    "<=",
+    ">",
+    "and",
+    "in",
+    "at",
+    "nominal",
+    "claim",
+    "state",
+    "let",
+    "x",
+    "2",
+    "0.5",
+    "1e-3",
+    "sin(",
+    "__import__",
+    '"',
+    "\u2212",
+    "\u00a0",
+    "\t",
+    "\r",
+    "9" * 40,
+    "^64",
+    "^65",
+    "(" * 30,
+    "equilibrium",
+    "cycle",
+    "no",
+    "domain",
+    "param",
+    "const",
+    "parameter",
+    "constant",
+    "dx/dt",
+    "/dt",
+    ".",
+    "e",
+    "pi",
+    "abs",
+    "\x00",
 ]
 
 
@@ -70,11 +121,11 @@ def mutated(draw: st.DrawFn) -> str:
         if action == "insert":
             text = text[:pos] + piece + text[pos:]
         elif action == "delete":
-            text = text[:pos] + text[pos + n:]
+            text = text[:pos] + text[pos + n :]
         elif action == "replace":
-            text = text[:pos] + piece + text[pos + n:]
+            text = text[:pos] + piece + text[pos + n :]
         else:
-            text = text[:pos] + text[pos:pos + 3 * n] + text[pos:]
+            text = text[:pos] + text[pos : pos + 3 * n] + text[pos:]
     return text
 
 
@@ -90,10 +141,10 @@ def test_token_soup_gives_only_input_errors(pieces: list[str]) -> None:
 
 def test_deeply_nested_input_is_a_limit_error_not_a_crash() -> None:
     for text in (
-        "state x\nx' = " + "(" * 5000 + "x" + ")" * 5000 + "\n",
-        "state x\nx' = " + "-" * 5000 + "x\n",
-        "state x\nx' = x" + "^1" * 5000 + "\n",
-        "state x\nx' = " + "sin(" * 3000 + "x" + ")" * 3000 + "\n",
+        "state x\ndx/dt = " + "(" * 5000 + "x" + ")" * 5000 + "\n",
+        "state x\ndx/dt = " + "-" * 5000 + "x\n",
+        "state x\ndx/dt = x" + "^1" * 5000 + "\n",
+        "state x\ndx/dt = " + "sin(" * 3000 + "x" + ")" * 3000 + "\n",
     ):
         with pytest.raises(InputError, match="nested"):
             parse_model(text)
@@ -101,7 +152,7 @@ def test_deeply_nested_input_is_a_limit_error_not_a_crash() -> None:
 
 def test_long_flat_sums_are_fine() -> None:
     # a 5000-term sum is long but not deep: it must parse (and quickly)
-    m = parse_model("state x\nx' = " + " + ".join(["x"] * 5000) + "\n")
+    m = parse_model("state x\ndx/dt = " + " + ".join(["x"] * 5000) + "\n")
     assert m.equations[0].rhs == 5000 * sympy.Symbol("x", real=True)
 
 
@@ -117,8 +168,8 @@ def test_nothing_in_a_model_is_evaluated(monkeypatch: pytest.MonkeyPatch) -> Non
         return real_sympify(a, *args, **kwargs)
 
     extra = (
-        "const c = 2.5e-3\nparam k = 1 in [0.5, 2]\nstate x, y\n"
-        "x' = sin(x)*exp(-y) + sqrt(2)*abs(y) - c*x^2\ny' = -k*y + log(3)*tanh(x) + pi\n"
+        "constant c = 2.5e-3\nparameter k = 1 in [0.5, 2]\nstate x, y\n"
+        "dx/dt = sin(x)*exp(-y) + sqrt(2)*abs(y) - c*x^2\ndy/dt = -k*y + log(3)*tanh(x) + pi\n"
     )
     for text in [*SEEDS, extra]:  # warm up: let sympy import its lazy modules first
         parse_model(text)
@@ -145,8 +196,8 @@ def test_nothing_in_a_model_is_evaluated(monkeypatch: pytest.MonkeyPatch) -> Non
     m = parse_model(extra)
     assert m.constants[0].value == sympy.Rational(1, 400)
     with pytest.raises(InputError, match="unknown name '__import__'"):
-        parse_model('state x\nx\' = __import__("os")\n')
+        parse_model('state x\ndx/dt = __import__("os")\n')
     with pytest.raises(InputError, match="unknown name 'open'"):
-        parse_model('state x\nx\' = open("/etc/passwd") + x\n')
+        parse_model('state x\ndx/dt = open("/etc/passwd") + x\n')
     with pytest.raises(InputError, match=r"unexpected character '\.'"):
-        parse_model('state x\nx\' = __import__("os").system("echo hacked")\n')
+        parse_model('state x\ndx/dt = __import__("os").system("echo hacked")\n')

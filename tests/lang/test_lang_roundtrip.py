@@ -16,7 +16,7 @@ from hypothesis import strategies as st
 
 from proofkit.lang import format_expr, format_model, parse_model
 
-STATE_POOL = ["x", "y", "z", "theta", "q_2", "Vel"]
+STATE_POOL = ["x", "y", "z", "theta", "q_2", "Vel", "dt", "dx"]
 PARAM_POOL = ["a", "b", "k", "gain", "c1"]
 CONST_POOL = ["g", "c0", "rho"]
 
@@ -55,8 +55,11 @@ def expressions(leaves: st.SearchStrategy[Ex], max_leaves: int = 6) -> st.Search
         binary = st.tuples(children, st.sampled_from(["+", "-", "*"]), children).map(
             lambda t: Ex(
                 f"{paren(t[0])} {t[1]} {paren(t[2])}",
-                {"+": t[0].value + t[2].value, "-": t[0].value - t[2].value,
-                 "*": t[0].value * t[2].value}[t[1]],
+                {
+                    "+": t[0].value + t[2].value,
+                    "-": t[0].value - t[2].value,
+                    "*": t[0].value * t[2].value,
+                }[t[1]],
             )
         )
         power = st.tuples(children, st.integers(0, 3), st.sampled_from(["^", "**"])).map(
@@ -84,11 +87,11 @@ def models(draw: st.DrawFn) -> tuple[str, dict[str, sp.Expr]]:
     leaves: list[st.SearchStrategy[Ex]] = [numbers()]
     for c in consts:
         e = draw(expressions(numbers(), 3))
-        lines.append(f"const {c} = {e.text}")
+        lines.append(f"constant {c} = {e.text}")
         leaves.append(st.just(Ex(c, e.value, True)))
     for p in params:
         nominal = draw(numbers())
-        text = f"param {p} = {nominal.text}"
+        text = f"parameter {p} = {nominal.text}"
         if draw(st.booleans()):
             lo, hi = draw(st.integers(0, 3)), draw(st.integers(0, 3))
             text += f" in [{nominal.text} - {lo}, {nominal.text} + {hi}]"
@@ -107,10 +110,11 @@ def models(draw: st.DrawFn) -> tuple[str, dict[str, sp.Expr]]:
         terms = [draw(expressions(leaf)) for _ in range(draw(st.integers(1, 2)))]
         carriers = [draw(st.sampled_from(states)) for _ in terms]
         pairs = list(zip(terms, carriers, strict=True))
-        lines.append(f"{s}' = " + " + ".join(f"({t.text})*{c}" for t, c in pairs))
+        lines.append(f"d{s}/dt = " + " + ".join(f"({t.text})*{c}" for t, c in pairs))
         expected[s] = sp.Add(*[t.value * sym(c) for t, c in pairs])
-    region = st.tuples(expressions(leaf, 4), st.sampled_from(["<=", "<", ">=", ">"]),
-                       expressions(leaf, 3))
+    region = st.tuples(
+        expressions(leaf, 4), st.sampled_from(["<=", "<", ">=", ">"]), expressions(leaf, 3)
+    )
 
     def set_text() -> str:
         conds = draw(st.lists(region, min_size=1, max_size=2))
@@ -130,9 +134,7 @@ def models(draw: st.DrawFn) -> tuple[str, dict[str, sp.Expr]]:
             lines.append(f"claim O attracts {set_text()}{suffix}")
         else:
             lines.append(f"claim {kind} in {set_text()}{suffix}")
-    decorated = [
-        line + ("   # note" if draw(st.booleans()) else "") for line in lines
-    ]
+    decorated = [line + ("   # note" if draw(st.booleans()) else "") for line in lines]
     return "\n".join(decorated) + "\n", expected
 
 
@@ -148,39 +150,56 @@ def test_random_models_mean_what_they_say_and_round_trip(case: tuple[str, dict])
     assert format_model(again) == printed
 
 
-@given(expressions(st.one_of(numbers(), st.sampled_from(
-    [Ex("x", sym("x"), True), Ex("y", sym("y"), True)])), 8))
+@given(
+    expressions(
+        st.one_of(numbers(), st.sampled_from([Ex("x", sym("x"), True), Ex("y", sym("y"), True)])), 8
+    )
+)
 def test_expression_printer_round_trips(e: Ex) -> None:
-    m = parse_model(f"state x, y\nx' = {e.text}\ny' = 0\n")
+    m = parse_model(f"state x, y\ndx/dt = {e.text}\ndy/dt = 0\n")
     rhs = m.equations[0].rhs
     assert sp.expand(rhs - e.value) == 0
-    back = parse_model(f"state x, y\nx' = {format_expr(rhs)}\ny' = 0\n").equations[0].rhs
+    back = parse_model(f"state x, y\ndx/dt = {format_expr(rhs)}\ndy/dt = 0\n").equations[0].rhs
     assert back == rhs
     assert "**" not in format_expr(rhs)
 
 
 FUNCTION_NAMES = ["sin", "cos", "tan", "exp", "log", "sqrt", "tanh", "abs"]
-SYMPY_FUNCTIONS = {"sin": sp.sin, "cos": sp.cos, "tan": sp.tan, "exp": sp.exp, "log": sp.log,
-                   "sqrt": sp.sqrt, "tanh": sp.tanh, "abs": sp.Abs}
+SYMPY_FUNCTIONS = {
+    "sin": sp.sin,
+    "cos": sp.cos,
+    "tan": sp.tan,
+    "exp": sp.exp,
+    "log": sp.log,
+    "sqrt": sp.sqrt,
+    "tanh": sp.tanh,
+    "abs": sp.Abs,
+}
 
 
 def with_functions() -> st.SearchStrategy[Ex]:
-    base = st.one_of(numbers(), st.sampled_from(
-        [Ex("x", sym("x"), True), Ex("y", sym("y"), True), Ex("pi", sp.pi, True)]))
+    base = st.one_of(
+        numbers(),
+        st.sampled_from([Ex("x", sym("x"), True), Ex("y", sym("y"), True), Ex("pi", sp.pi, True)]),
+    )
 
     def extend(children: st.SearchStrategy[Ex]) -> st.SearchStrategy[Ex]:
         # log and sqrt get positive arguments so every value stays real
         call = st.tuples(st.sampled_from(FUNCTION_NAMES), children).map(
-            lambda t: Ex(f"{t[0]}({paren(t[1])}^2 + 1)", SYMPY_FUNCTIONS[t[0]](t[1].value**2 + 1),
-                         True)
-            if t[0] in ("log", "sqrt") else
-            Ex(f"{t[0]}({t[1].text})", SYMPY_FUNCTIONS[t[0]](t[1].value), True)
+            lambda t: (
+                Ex(f"{t[0]}({paren(t[1])}^2 + 1)", SYMPY_FUNCTIONS[t[0]](t[1].value ** 2 + 1), True)
+                if t[0] in ("log", "sqrt")
+                else Ex(f"{t[0]}({t[1].text})", SYMPY_FUNCTIONS[t[0]](t[1].value), True)
+            )
         )
         binary = st.tuples(children, st.sampled_from(["+", "-", "*"]), children).map(
             lambda t: Ex(
                 f"{paren(t[0])} {t[1]} {paren(t[2])}",
-                {"+": t[0].value + t[2].value, "-": t[0].value - t[2].value,
-                 "*": t[0].value * t[2].value}[t[1]],
+                {
+                    "+": t[0].value + t[2].value,
+                    "-": t[0].value - t[2].value,
+                    "*": t[0].value * t[2].value,
+                }[t[1]],
             )
         )
         power = st.tuples(children, st.integers(-2, 3)).map(
@@ -193,7 +212,7 @@ def with_functions() -> st.SearchStrategy[Ex]:
 
 @given(with_functions())
 def test_expressions_with_functions_round_trip(e: Ex) -> None:
-    text = f"state x, y\nx' = {e.text}\ny' = 0\n"
+    text = f"state x, y\ndx/dt = {e.text}\ndy/dt = 0\n"
     try:
         m = parse_model(text)
     except Exception as err:  # e.g. 0^(-1) or tan at a pole: must be a clean InputError
@@ -203,7 +222,7 @@ def test_expressions_with_functions_round_trip(e: Ex) -> None:
         return
     rhs = m.equations[0].rhs
     assert rhs == e.value or sp.simplify(rhs - e.value) == 0
-    back = parse_model(f"state x, y\nx' = {format_expr(rhs)}\ny' = 0\n").equations[0].rhs
+    back = parse_model(f"state x, y\ndx/dt = {format_expr(rhs)}\ndy/dt = 0\n").equations[0].rhs
     assert back == rhs, format_expr(rhs)
 
 

@@ -77,8 +77,13 @@ def test_worked_claims_hold_numerically(path: Path) -> None:
             f = numeric_field(model, values)
             if claim.kind in ("stable", "unstable"):
                 assert claim.target is not None
-                point = dict(zip(xs, (v.subs(values) for _, v in
-                                      model.equilibrium(claim.target).point), strict=True))
+                point = dict(
+                    zip(
+                        xs,
+                        (v.subs(values) for _, v in model.equilibrium(claim.target).point),
+                        strict=True,
+                    )
+                )
                 a = np.array(jac.subs(values).subs(point).tolist(), dtype=float)
                 top = max(np.linalg.eigvals(a).real)
                 assert (top < 0) if claim.kind == "stable" else (top > 0), (claim.text, top)
@@ -100,8 +105,10 @@ def test_worked_claims_hold_numerically(path: Path) -> None:
             elif claim.kind == "no cycle":
                 # Bendixson: the divergence keeps one sign on the set (grid check)
                 assert claim.region is not None
-                div = sp.lambdify(xs, sum(sp.diff(e, s) for e, s in
-                                          zip(model.field, xs, strict=True)).subs(values))
+                div = sp.lambdify(
+                    xs,
+                    sum(sp.diff(e, s) for e, s in zip(model.field, xs, strict=True)).subs(values),
+                )
                 signs = {np.sign(div(*z)) for z in sample(claim.region, model, values, 200, 3)}
                 assert len(signs) == 1 and 0 not in signs, claim.text
             else:  # pragma: no cover - no worked file claims global stability
