@@ -1,79 +1,627 @@
-"""Figures for proof documents: a phase portrait of a planar polynomial model.
+"""Phase portraits: streamlines, equilibria by verdict, separatrices, basins and cycles.
 
-Illustration only: streamlines are drawn from floating-point evaluation of the
-certificate's vector field and are never used as evidence. Uses matplotlib's
-Agg backend (no display needed).
+One drawing routine, :func:`draw_portrait`, renders a :class:`PortraitData`
+(plain floats and numpy callables). The data come either from a model and its
+survey (:func:`model_portrait_data`, for ``proofkit portrait``, the shell and
+the Python API) or from a certificate (:func:`certificate_portrait_data`, for
+the proof documents). Equilibria are marked by verdict with distinct marker
+shapes and a legend in words; every equilibrium marker is one ``Line2D``
+whose ``gid`` is ``"equilibrium <verdict> <name>"`` so that tests and tools
+can read what was drawn.
+
+Illustration only: every curve here comes from floating-point integration and
+is never used as evidence; verdicts and regions are taken from the exact
+survey or from an audited certificate, never decided here. Uses matplotlib's
+Agg canvas without pyplot (no display, no global state); matplotlib and numpy
+are imported only when a figure is drawn. Model text is never evaluated: the
+field is evaluated by walking the exact sympy tree or the certificate's
+polynomial data.
 """
 
 from __future__ import annotations
 
+import io
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
 from fractions import Fraction
 from pathlib import Path
 from typing import Any
 
-__all__ = ["phase_portrait"]
+__all__ = [
+    "FORMATS",
+    "PortraitData",
+    "PortraitPoint",
+    "PortraitRegion",
+    "certificate_portrait_data",
+    "draw_portrait",
+    "phase_portrait",
+    "portrait_bytes",
+    "save_portrait",
+]
+
+FORMATS = ("png", "svg", "pdf")
+Field = Callable[[Any, Any], tuple[Any, Any]]
+Scalar = Callable[[Any, Any], Any]
+
+# verdict -> (marker, face colour, legend words); shapes differ, not only colours
+_MARKERS: dict[str, tuple[str, str, str]] = {
+    "stable": ("o", "black", "stable (asymptotically)"),
+    "unstable": ("s", "none", "unstable"),
+    "saddle": ("X", "tab:red", "saddle (unstable)"),
+    "inconclusive": ("D", "none", "not decided by linearization"),
+    "undecided": ("P", "none", "no verdict certified here"),
+}
 
 
-def _evaluate(poly: list[Any], x: Any, y: Any) -> Any:
-    total = 0.0 * x
-    for (i, j), c in poly:
-        coeff = float(Fraction(c)) if isinstance(c, str) else 0.0
-        total = total + coeff * x**i * y**j
-    return total
+@dataclass(frozen=True)
+class PortraitPoint:
+    """An equilibrium to mark: its plane coordinates and its verdict word."""
+
+    name: str | None
+    xy: tuple[float, float]
+    verdict: str  # stable | unstable | saddle | inconclusive
 
 
-def _to_float(v: Any, nf: Any) -> float:
+@dataclass(frozen=True)
+class PortraitRegion:
+    """The set ``{func <= level}`` (or the band ``level <= func <= upper``) to shade."""
+
+    label: str
+    func: Scalar
+    level: float
+    upper: float | None = None
+
+
+@dataclass(frozen=True)
+class PortraitData:
+    """Everything a portrait shows, as floats and vectorised callables."""
+
+    title: str
+    names: tuple[str, str]
+    field: Field
+    box: tuple[float, float, float, float]  # xmin, xmax, ymin, ymax
+    points: tuple[PortraitPoint, ...] = ()
+    regions: tuple[PortraitRegion, ...] = ()
+    cycles: tuple[Any, ...] = ()  # closed polylines, arrays of shape (n, 2)
+    note: str = ""
+    trajectories: int = 4
+    extra: dict[str, Any] = field(default_factory=dict, compare=False)
+
+
+# --- numerics (display only) --------------------------------------------------
+def _direction(f: Field, x: Any, y: Any) -> tuple[Any, Any, Any]:
+    import numpy as np
+
+    u, v = f(x, y)
+    speed = np.hypot(u, v)
+    with np.errstate(all="ignore"):
+        return u / speed, v / speed, speed
+
+
+def _arc_paths(f: Field, seeds: Any, step: float, count: int, box: Sequence[float]) -> Any:
+    """Streamline points from each seed along the direction field (arc length), both ways."""
+    import numpy as np
+
+    out = []
+    for sign in (1.0, -1.0):
+        pts = np.empty((count, len(seeds), 2))
+        p = seeds.astype(float).copy()
+        for k in range(count):
+            pts[k] = p
+            ux, uy, _ = _direction(f, p[:, 0], p[:, 1])
+            mx, my = p[:, 0] + 0.5 * step * sign * ux, p[:, 1] + 0.5 * step * sign * uy
+            vx, vy, _ = _direction(f, mx, my)
+            p = p + step * sign * np.stack([vx, vy], axis=1)
+        out.append(pts)
+    back = out[1][::-1]
+    paths = np.concatenate([back[:-1], out[0]], axis=0)  # (2 count - 1, seeds, 2)
+    xmin, xmax, ymin, ymax = box
+    inside = (
+        (paths[..., 0] >= xmin)
+        & (paths[..., 0] <= xmax)
+        & (paths[..., 1] >= ymin)
+        & (paths[..., 1] <= ymax)
+        & np.isfinite(paths).all(axis=-1)
+    )
+    return paths, inside
+
+
+def _streamlines(f: Field, box: Sequence[float], density: int = 15) -> list[Any]:
+    """Evenly spread streamlines: each is cut where it enters a cell another one took."""
+    import numpy as np
+
+    xmin, xmax, ymin, ymax = box
+    gx, gy = np.meshgrid(
+        np.linspace(xmin, xmax, density + 2)[1:-1], np.linspace(ymin, ymax, density + 2)[1:-1]
+    )
+    seeds = np.stack([gx.ravel(), gy.ravel()], axis=1)
+    step = max(xmax - xmin, ymax - ymin) / 90.0
+    paths, inside = _arc_paths(f, seeds, step, 70, box)
+    cells = 2 * density
+    fx = np.nan_to_num((paths[..., 0] - xmin) / (xmax - xmin) * cells)
+    fy = np.nan_to_num((paths[..., 1] - ymin) / (ymax - ymin) * cells)
+    ix = np.clip(fx, 0, cells - 1).astype(int)
+    iy = np.clip(fy, 0, cells - 1).astype(int)
+    owner = np.full((cells, cells), -1)
+    lines, mid = [], paths.shape[0] // 2
+    for s in range(paths.shape[1]):
+        if owner[iy[mid, s], ix[mid, s]] >= 0:
+            continue
+        ok = inside[:, s]
+        taken = (owner[iy[:, s], ix[:, s]] >= 0) & (owner[iy[:, s], ix[:, s]] != s)
+        bad = ~ok | taken
+        lo = mid - np.argmax(bad[mid::-1]) + 1 if bad[: mid + 1].any() else 0
+        hi = mid + np.argmax(bad[mid:]) if bad[mid:].any() else paths.shape[0]
+        if hi - lo < 4:
+            continue
+        owner[iy[lo:hi, s], ix[lo:hi, s]] = s
+        lines.append(paths[lo:hi, s])
+    return lines
+
+
+def _rk4(
+    f: Field, start: Any, dt: float, steps: int, box: Sequence[float], signs: Any = None
+) -> Any:
+    """Trajectories in time from the rows of ``start`` (fixed step), cut on leaving the box.
+
+    ``signs`` (one per row, +1 or -1) runs some rows backward in time.
+    """
+    import numpy as np
+
+    p = np.array(start, dtype=float)
+    sg = np.ones(len(p)) if signs is None else np.asarray(signs, dtype=float)
+    pts = [p]
+    xmin, xmax, ymin, ymax = box
+    wx, wy = (xmax - xmin) * 0.5, (ymax - ymin) * 0.5
+
+    def g(q: Any) -> Any:
+        u, v = f(q[:, 0], q[:, 1])
+        return np.stack([sg * u, sg * v], axis=1)
+
+    with np.errstate(all="ignore"):
+        for _ in range(steps):
+            k1 = g(p)
+            k2 = g(p + 0.5 * dt * k1)
+            k3 = g(p + 0.5 * dt * k2)
+            k4 = g(p + dt * k3)
+            p = p + dt / 6.0 * (k1 + 2 * k2 + 2 * k3 + k4)
+            far = (p[:, 0] < xmin - wx) | (p[:, 0] > xmax + wx)
+            far |= (p[:, 1] < ymin - wy) | (p[:, 1] > ymax + wy)
+            p = np.where(far[:, None] | ~np.isfinite(p), np.nan, p)
+            pts.append(p)
+    return np.stack(pts, axis=1)  # (starts, steps + 1, 2)
+
+
+def _jacobian(f: Field, xy: tuple[float, float], h: float) -> Any:
+    import numpy as np
+
+    x, y = xy
+    ux1, vx1 = f(np.array([x + h]), np.array([y]))
+    ux0, vx0 = f(np.array([x - h]), np.array([y]))
+    uy1, vy1 = f(np.array([x]), np.array([y + h]))
+    uy0, vy0 = f(np.array([x]), np.array([y - h]))
+    rows = [[ux1 - ux0, uy1 - uy0], [vx1 - vx0, vy1 - vy0]]
+    return np.array([[float(np.ravel(c)[0]) / (2 * h) for c in row] for row in rows])
+
+
+def _separatrices(f: Field, saddles: Sequence[PortraitPoint], box: Sequence[float]) -> list[Any]:
+    """The branches of the saddles' stable (False) and unstable (True) manifolds."""
+    import numpy as np
+
+    span = max(box[1] - box[0], box[3] - box[2])
+    starts, signs, origins, fastest = [], [], [], 1.0
+    for p in saddles:
+        vals, vecs = np.linalg.eig(_jacobian(f, p.xy, 1e-6 * span))
+        if np.iscomplexobj(vals) and np.abs(vals.imag).max() > 1e-12:
+            continue
+        for lam, vec in zip(vals.real, vecs.real.T, strict=True):
+            if abs(lam) < 1e-9:
+                continue
+            fastest = max(fastest, abs(lam))
+            for side in (1.0, -1.0):
+                starts.append(np.array(p.xy) + side * 1e-3 * span * vec)
+                signs.append(1.0 if lam > 0 else -1.0)
+                origins.append(p.xy)
+    if not starts:
+        return []
+    paths = _rk4(f, np.array(starts), min(0.05, 0.5 / fastest), 300, box, signs)
+    return [
+        (np.vstack([[xy], path]), sign > 0)
+        for xy, path, sign in zip(origins, paths, signs, strict=True)
+    ]
+
+
+# --- drawing ------------------------------------------------------------------
+def _draw_flow(ax: Any, data: PortraitData) -> None:
+    import numpy as np
+    from matplotlib.collections import LineCollection
+
+    lines = _streamlines(data.field, data.box)
+    if not lines:
+        return
+    speeds = [np.log1p(_direction(data.field, ln[:, 0], ln[:, 1])[2]) for ln in lines]
+    segs = np.concatenate([np.stack([ln[:-1], ln[1:]], axis=1) for ln in lines])
+    colour = np.concatenate([s[:-1] for s in speeds])
+    coll = LineCollection(segs, cmap="viridis", linewidths=0.7, zorder=1)
+    coll.set_array(np.nan_to_num(colour))
+    coll.set_gid("streamlines")
+    ax.add_collection(coll)
+    mids = np.array([ln[len(ln) // 2] for ln in lines])
+    u, v, _ = _direction(data.field, mids[:, 0], mids[:, 1])
+    ax.quiver(
+        mids[:, 0],
+        mids[:, 1],
+        u,
+        v,
+        color="0.35",
+        angles="xy",
+        pivot="mid",
+        scale=40,
+        width=0.004,
+        headwidth=5,
+        zorder=2,
+    )
+
+
+def _draw_regions(ax: Any, data: PortraitData) -> list[Any]:
+    import numpy as np
+    from matplotlib.patches import Patch
+
+    xmin, xmax, ymin, ymax = data.box
+    gx, gy = np.meshgrid(np.linspace(xmin, xmax, 160), np.linspace(ymin, ymax, 160))
+    handles, colours = [], ("tab:green", "tab:purple", "tab:orange", "tab:cyan")
+    for i, r in enumerate(data.regions):
+        colour = colours[i % len(colours)]
+        with np.errstate(all="ignore"):
+            z = np.broadcast_to(np.asarray(r.func(gx, gy), dtype=float), gx.shape)
+        if not np.isfinite(z).any():
+            continue
+        top = r.upper if r.upper is not None else np.inf
+        bottom = r.level if r.upper is not None else -np.inf
+        inside = (z >= bottom) & (z <= top)
+        if not inside.any():
+            continue
+        ax.contourf(
+            gx,
+            gy,
+            inside.astype(float),
+            levels=[0.5, 1.5],
+            colors=[colour],
+            alpha=0.18,
+            hatches=["//"],
+            zorder=0,
+        )
+        ax.contour(
+            gx,
+            gy,
+            z,
+            levels=sorted({r.level, *([r.upper] if r.upper else [])}),
+            colors=[colour],
+            linewidths=1.4,
+            zorder=3,
+        )
+        handles.append(
+            Patch(facecolor=colour, alpha=0.35, hatch="//", edgecolor=colour, label=r.label)
+        )
+    return handles
+
+
+def _draw_curves(ax: Any, data: PortraitData) -> None:
+    import numpy as np
+
+    first = {True: "unstable separatrix of a saddle", False: "stable separatrix of a saddle"}
+    saddles = [p for p in data.points if p.verdict == "saddle"]
+    for path, unstable in _separatrices(data.field, saddles, data.box):
+        ax.plot(
+            path[:, 0],
+            path[:, 1],
+            color="tab:red",
+            lw=1.5,
+            zorder=4,
+            ls="-" if unstable else "--",
+            label=first.pop(unstable, "_nolegend_"),
+            gid="separatrix",
+        )
+    starts = _trajectory_starts(data)
+    if len(starts):
+        paths = _rk4(data.field, starts, 0.04, 300, data.box)
+        for k, path in enumerate(paths):
+            ax.plot(
+                path[:, 0],
+                path[:, 1],
+                color="0.15",
+                lw=0.9,
+                zorder=4,
+                gid="trajectory",
+                label="sample trajectories (numerical)" if k == 0 else "_nolegend_",
+            )
+            ax.plot(*path[0], marker=".", color="0.15", ms=5, zorder=4)
+    for k, cyc in enumerate(data.cycles):
+        cyc = np.asarray(cyc, dtype=float)
+        ax.plot(
+            cyc[:, 0],
+            cyc[:, 1],
+            color="tab:blue",
+            lw=2.2,
+            zorder=5,
+            gid="cycle",
+            label="located periodic orbit (numerical)" if k == 0 else "_nolegend_",
+        )
+
+
+def _trajectory_starts(data: PortraitData) -> Any:
+    import numpy as np
+
+    xmin, xmax, ymin, ymax = data.box
+    ring = [(0.1, 0.9), (0.9, 0.1), (0.35, 0.95), (0.65, 0.05), (0.05, 0.4), (0.95, 0.6)]
+    pts = [(xmin + a * (xmax - xmin), ymin + b * (ymax - ymin)) for a, b in ring]
+    return np.array(pts[: data.trajectories]).reshape(-1, 2)
+
+
+def _draw_points(ax: Any, data: PortraitData) -> None:
+    seen: set[str] = set()
+    for p in data.points:
+        marker, face, words = _MARKERS.get(p.verdict, _MARKERS["inconclusive"])
+        label = words if p.verdict not in seen else "_nolegend_"
+        seen.add(p.verdict)
+        ax.plot(
+            [p.xy[0]],
+            [p.xy[1]],
+            linestyle="none",
+            marker=marker,
+            markersize=9,
+            markerfacecolor=face,
+            markeredgecolor="black",
+            markeredgewidth=1.4,
+            color="black",
+            zorder=6,
+            label=label,
+            gid=f"equilibrium {p.verdict} {p.name}",
+        )
+        if p.name:
+            ax.annotate(
+                p.name, p.xy, textcoords="offset points", xytext=(6, 6), fontsize=9, zorder=7
+            )
+
+
+def draw_portrait(data: PortraitData) -> Any:
+    """The portrait as a matplotlib ``Figure`` (Agg canvas attached, no pyplot)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(6.4, 5.6), dpi=100)
+    FigureCanvasAgg(fig)
+    ax = fig.add_subplot()
+    xmin, xmax, ymin, ymax = data.box
+    _draw_flow(ax, data)
+    region_handles = _draw_regions(ax, data)
+    _draw_curves(ax, data)
+    _draw_points(ax, data)
+    ax.set_xlim(xmin, xmax)
+    ax.set_ylim(ymin, ymax)
+    ax.set_xlabel(data.names[0])
+    ax.set_ylabel(data.names[1])
+    ax.set_title(data.title, fontsize=10)
+    if data.note:
+        fig.text(0.01, 0.005, data.note, fontsize=7, color="0.3", va="bottom")
+    handles, _ = ax.get_legend_handles_labels()
+    if handles or region_handles:
+        ax.legend(
+            handles=handles + region_handles,
+            loc="upper center",
+            fontsize=7,
+            bbox_to_anchor=(0.5, -0.1),
+            ncol=2,
+            frameon=False,
+        )
+    fig.subplots_adjust(left=0.11, right=0.97, top=0.93, bottom=0.27)
+    return fig
+
+
+def _format_of(path: Path | str, fmt: str | None) -> str:
+    fmt = (fmt or Path(path).suffix.lstrip(".") or "png").lower()
+    if fmt not in FORMATS:
+        raise ValueError(f"unknown picture format {fmt!r}; use one of: {', '.join(FORMATS)}")
+    return fmt
+
+
+def save_portrait(data: PortraitData, path: Path | str, fmt: str | None = None) -> Path:
+    """Draw and write the portrait; the format follows the suffix (png, svg, pdf)."""
+    kind = _format_of(path, fmt)
+    fig = draw_portrait(data)
+    fig.savefig(path, format=kind, metadata={"Creator": "proofkit"} if kind != "png" else None)
+    return Path(path)
+
+
+def portrait_bytes(data: PortraitData, fmt: str = "png") -> bytes:
+    """The portrait as file bytes (PNG by default), e.g. for notebook display."""
+    buf = io.BytesIO()
+    draw_portrait(data).savefig(buf, format=_format_of("x." + fmt, None))
+    return buf.getvalue()
+
+
+# --- portrait data from a certificate (documents) ------------------------------
+def _q(v: Any, d: int = 0) -> float:
     if isinstance(v, list):
-        return float(Fraction(v[0])) + float(Fraction(v[1])) * float(nf["sqrt"]) ** 0.5
+        return float(Fraction(v[0])) + float(Fraction(v[1])) * (d**0.5)
     return float(Fraction(v))
 
 
-def phase_portrait(cert: dict[str, Any], path: Path) -> bool:
-    """Draw the phase portrait of a planar model; False when the model is not planar."""
-    model = cert.get("model") or {}
-    field = model.get("vector_field")
-    states = model.get("states") or []
-    if field is None or len(states) != 2:
-        return False
-    import matplotlib
+def _poly_fn(terms: list[Any], fixed: Sequence[float] = (), shift: Sequence[float] = ()) -> Scalar:
+    """A certificate POLY as a numpy function of two plane variables (extra variables fixed)."""
+    coeffs = [(exps, _q(c)) for exps, c in terms]
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    def f(x: Any, y: Any) -> Any:
+        xs = [x - (shift[0] if shift else 0.0), y - (shift[1] if shift else 0.0), *fixed]
+        total = 0.0 * x
+        for exps, c in coeffs:
+            term = c
+            for value, e in zip(xs, exps, strict=False):
+                if e:
+                    term = term * value**e
+            total = total + term
+        return total
+
+    return f
+
+
+def _cert_field(model: dict[str, Any]) -> Field | None:
+    states = model.get("states") or []
+    if len(states) != 2:
+        return None
+    if model.get("vector_field") is not None:  # format 1
+        num, den, fixed = model["vector_field"], None, []
+    elif isinstance(model.get("field"), dict):  # format 2
+        fld = model["field"]
+        nominal = {p["name"]: _q(p["nominal"]) for p in model.get("parameters") or []}
+        fixed = [nominal.get(v, 0.0) for v in (fld.get("variables") or states)[2:]]
+        num, den = fld.get("numerators"), fld.get("denominators")
+    else:
+        return None
+    if not num or len(num) != 2:
+        return None
+    fs = [_poly_fn(p, fixed) for p in num]
+    ds = [_poly_fn(p, fixed) for p in den] if den else None
+
+    def field_fn(x: Any, y: Any) -> tuple[Any, Any]:
+        u, v = fs[0](x, y), fs[1](x, y)
+        if ds is not None:
+            u, v = u / ds[0](x, y), v / ds[1](x, y)
+        return u, v
+
+    return field_fn
+
+
+def _cert_point(entry: dict[str, Any]) -> tuple[str | None, tuple[float, float]] | None:
+    nf = entry.get("number_field") or {}
+    d = int(Fraction(nf["sqrt"])) if nf.get("sqrt") else 0
+    claim = entry.get("claim") if isinstance(entry.get("claim"), dict) else None
+    eq = (claim or {}).get("equilibrium") or {}
+    ev = entry.get("evidence") or {}
+    point = eq.get("point") or ev.get("point")
+    if not isinstance(point, list) or len(point) != 2:
+        return None
+    return eq.get("name") or ev.get("equilibrium"), (_q(point[0], d), _q(point[1], d))
+
+
+def _cert_regions(entry: dict[str, Any], xy: tuple[float, float] | None) -> list[PortraitRegion]:
+    ev = entry.get("evidence") or {}
+    nums = ev.get("numbers") or {}
+    kind = (
+        (entry.get("claim") or {}).get("kind")
+        if isinstance(entry.get("claim"), dict)
+        else (entry.get("kind"))
+    )
+    if entry.get("status") != "proved":
+        return []
+    if kind == "cycle" and "W" in ev and "inner" in nums and "outer" in nums:
+        return [
+            PortraitRegion(
+                "certified trapping annulus (holds a periodic orbit)",
+                _poly_fn(ev["W"]),
+                _q(nums["inner"]),
+                _q(nums["outer"]),
+            )
+        ]
+    if "V" in ev and "level" in nums and xy is not None:
+        name = ((entry.get("claim") or {}).get("equilibrium") or {}).get("name", "")
+        return [
+            PortraitRegion(
+                f"certified region of attraction of {name}".rstrip(),
+                _poly_fn(ev["V"], shift=xy),
+                _q(nums["level"]),
+            )
+        ]
+    return []
+
+
+def certificate_portrait_data(cert: dict[str, Any]) -> PortraitData | None:
+    """Portrait data from a certificate (planar field); None when it cannot be drawn."""
+    model = cert.get("model") or {}
+    fld = _cert_field(model)
+    if fld is None:
+        return None
+    verdicts: dict[tuple[float, float], tuple[str | None, str]] = {}
+    regions: list[PortraitRegion] = []
+    for entry in cert.get("claims", []):
+        found = _cert_point(entry)
+        xy = found[1] if found else None
+        regions += _cert_regions(entry, xy)
+        if found is None:
+            continue
+        kind = entry["claim"]["kind"] if isinstance(entry.get("claim"), dict) else entry.get("kind")
+        word = kind if entry.get("status") == "proved" and kind in ("stable", "unstable") else None
+        old = verdicts.get(found[1], (found[0], "undecided"))
+        verdicts[found[1]] = (found[0], word or old[1])
+    points = tuple(
+        PortraitPoint(name, xy, _display_type(fld, xy, v)) for xy, (name, v) in verdicts.items()
+    )
+    box = _box(points, _cert_domain(model))
+    title = f"phase portrait of {model.get('name') or 'the model'} (illustration, not evidence)"
+    return PortraitData(
+        title,
+        tuple(model["states"]),
+        fld,
+        box,
+        points,
+        tuple(regions),
+        note="marks: verdicts the audit accepted in this certificate",
+    )
+
+
+def _cert_domain(model: dict[str, Any]) -> Scalar | None:
+    conds = model.get("domain")
+    if not conds:
+        return None
+    gs = [_poly_fn(c["g"] if isinstance(c, dict) else c) for c in conds]
+
+    def inside(x: Any, y: Any) -> Any:
+        ok = True
+        for g in gs:
+            ok = ok & (g(x, y) >= 0)
+        return ok
+
+    return inside
+
+
+def _display_type(f: Field, xy: tuple[float, float], verdict: str) -> str:
+    """An unstable point with real eigenvalues of both signs is drawn as a saddle (display)."""
     import numpy as np
 
-    points = []
-    for c in cert.get("claims", []):
-        ev = c.get("evidence") or {}
-        if "point" in ev:
-            pt = [_to_float(v, c.get("number_field")) for v in ev["point"]]
-            points.append((pt, ev.get("equilibrium"), c.get("status")))
-    span = max([2.0] + [abs(v) + 1.5 for p, _, _ in points for v in p])
-    xs = np.linspace(-span, span, 40)
-    gx, gy = np.meshgrid(xs, xs)
-    u, v = _evaluate(field[0], gx, gy), _evaluate(field[1], gx, gy)
-    fig, ax = plt.subplots(figsize=(5, 5), dpi=110)
-    speed = np.hypot(u, v)
-    ax.streamplot(
-        gx,
-        gy,
-        u,
-        v,
-        density=0.9,
-        color=np.log1p(speed),
-        cmap="viridis",
-        linewidth=0.7,
-        arrowsize=0.8,
-    )
-    for pt, name, _status in points:
-        ax.plot(pt[0], pt[1], "o", color="crimson", markersize=6)
-        if name:
-            ax.annotate(name, (pt[0], pt[1]), textcoords="offset points", xytext=(5, 5))
-    ax.set_xlabel(states[0])
-    ax.set_ylabel(states[1])
-    ax.set_title("phase portrait (illustration, not evidence)")
-    ax.set_xlim(-span, span)
-    ax.set_ylim(-span, span)
-    fig.tight_layout()
-    fig.savefig(path)
-    plt.close(fig)
+    if verdict != "unstable":
+        return verdict
+    vals = np.linalg.eigvals(_jacobian(f, xy, 1e-6 * max(1.0, abs(xy[0]) + abs(xy[1]))))
+    real = np.abs(vals.imag).max() < 1e-9
+    return "saddle" if real and vals.real.min() < 0 < vals.real.max() else verdict
+
+
+def _box(points: Sequence[PortraitPoint], inside: Scalar | None) -> tuple[float, ...]:
+    """Axes: the bounded domain when there is one, else a margin around the equilibria."""
+    import numpy as np
+
+    xs = [p.xy[0] for p in points] or [0.0]
+    ys = [p.xy[1] for p in points] or [0.0]
+    half = max(2.0, 0.75 * max(max(xs) - min(xs), max(ys) - min(ys)) + 1.0)
+    cx, cy = (max(xs) + min(xs)) / 2, (max(ys) + min(ys)) / 2
+    if inside is not None:
+        big = 8 * half
+        gx, gy = np.meshgrid(
+            np.linspace(cx - big, cx + big, 241), np.linspace(cy - big, cy + big, 241)
+        )
+        with np.errstate(all="ignore"):
+            ok = np.broadcast_to(np.asarray(inside(gx, gy), dtype=bool), gx.shape)
+        edge = ok[0].any() or ok[-1].any() or ok[:, 0].any() or ok[:, -1].any()
+        if ok.any() and not edge:
+            x0, x1, y0, y1 = gx[ok].min(), gx[ok].max(), gy[ok].min(), gy[ok].max()
+            mx, my = 0.08 * (x1 - x0) + 1e-9, 0.08 * (y1 - y0) + 1e-9
+            return (x0 - mx, x1 + mx, y0 - my, y1 + my)
+    return (cx - half, cx + half, cy - half, cy + half)
+
+
+def phase_portrait(cert: dict[str, Any], path: Path | str) -> bool:
+    """Draw the portrait of a certificate's planar model into ``path``; False if not planar."""
+    data = certificate_portrait_data(cert)
+    if data is None:
+        return False
+    save_portrait(data, path)
     return True
