@@ -1,6 +1,7 @@
 """Benchmark of the sum-of-squares engine (a script, not a collected test).
 
     /work/venv/bin/python tests/perf/bench_sos.py [--quick] [--solvers clarabel,scs]
+    /work/venv/bin/python tests/perf/bench_sos.py --bisection
 
 For random SOS targets ``p = b' (R R' + I/10) b`` (R with small rational entries,
 full half-degree basis, so the Gram matrix is strictly feasible) on a grid of
@@ -19,6 +20,7 @@ import random
 import sys
 import time
 import warnings
+from fractions import Fraction
 
 import cvxpy as cp
 import flint
@@ -169,13 +171,56 @@ def fmt(r: dict) -> str:
     )
 
 
+def _level_program(degree: int) -> tuple[SearchProgram, object]:
+    """Reversed-time oscillator, fixed quadratic V (REFERENCES.md), level c as a parameter."""
+    x, y = sp.symbols("x y", real=True)
+    f = [-y, x + (x**2 - 1) * y]
+    v = sp.Rational(3, 2) * x**2 - x * y + y**2
+    prog = SearchProgram([x, y])
+    c = prog.level("c", 1)
+    s0 = prog.sos_of_degree("s0", degree)
+    vdot = sp.diff(v, x) * f[0] + sp.diff(v, y) * f[1]
+    prog.require_sos(-vdot - (x**2 + y**2) / 1000 - s0 * c + s0 * v, "decrease")
+    return prog, c
+
+
+def bisection(levels: int = 12, degree: int = 4) -> None:
+    """Per level: a fresh program (build, assemble, compile, solve) against a reused one."""
+    values = [Fraction(k, levels) * 3 for k in range(1, levels + 1)]
+    fresh, reused = [], []
+    prog, c = _level_program(degree)
+    solve_program(prog, "clarabel")  # warm-up and the one compile of the reused problem
+    for lv in values:
+        t0 = time.perf_counter()
+        p2, c2 = _level_program(degree)
+        c2.set(lv)
+        a = solve_program(p2, "clarabel")
+        fresh.append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        c.set(lv)
+        b = solve_program(prog, "clarabel")
+        reused.append(time.perf_counter() - t0)
+        assert a.status == b.status, (lv, a.status, b.status)
+    mf, mr = float(np.median(fresh)), float(np.median(reused))
+    print(f"bisection, s0 of degree {degree}, {levels} levels (clarabel): ")
+    print(f"  fresh program per level: median {1000 * mf:.1f} ms")
+    print(f"  reused program, level as a cvxpy Parameter: median {1000 * mr:.1f} ms")
+    print(f"  rebuild / re-solve: {mf / mr:.1f}x")
+
+
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="a few small sizes only")
     ap.add_argument("--solvers", default="clarabel,scs")
     ap.add_argument("--no-naive", action="store_true")
+    ap.add_argument(
+        "--bisection", action="store_true", help="only: rebuild vs re-solve of a level program"
+    )
     args = ap.parse_args(argv)
     warnings.filterwarnings("ignore")
+    if args.bisection:
+        bisection()
+        return 0
     print(HEADER)
     print("|" + "---|" * (HEADER.count("|") - 1))
     run(QUICK if args.quick else GRID, args.solvers.split(","), not args.no_naive)
