@@ -1,24 +1,33 @@
-"""Stability over a whole parameter box: Hurwitz determinants shown positive exactly.
+"""Linearization over a parameter box: exact characteristic polynomials and Bernstein covers.
 
-For an equilibrium that stays put for every parameter value (f(point, p) = 0
-identically in p), the characteristic polynomial det(sI - J(p)) has
-coefficients that are polynomials in the uncertain parameters p. By the
-Routh–Hurwitz theorem every root lies in the open left half plane exactly
-when the leading principal minors Delta_1, ..., Delta_n of the Hurwitz
-matrix are all positive. Each Delta_i(p) > 0 is proven on the closed box of
-parameter ranges by exact rational interval arithmetic with bisection (a
-budget bounds the work); an exact rational parameter value where some
-Delta_i <= 0 is a counterexample to "stable for every value". Parameters
-without a range are fixed at their nominal values.
+For an equilibrium that is a point for every value of the uncertain parameters
+``p`` (fixed, or moving as ``x_i = a_i(p) + b_i(p) sqrt(g(p))``), the Jacobian
+and the characteristic polynomial ``det(sI - J(p))`` are computed exactly in
+``Q[p][r]/(r^2 - g(p))`` with ``r = sqrt(g(p))``, so the radical cancels where
+it does. The Hurwitz conditions are the leading Hurwitz determinants
+``Delta_1 .. Delta_{n-1}`` and the constant coefficient ``a_n`` (whose sign
+with that of ``Delta_{n-1}`` gives ``Delta_n = a_n Delta_{n-1}``): the first
+column of the Routh array is ``1, Delta_1, Delta_2/Delta_1, ..., Delta_n/Delta_{n-1}``.
 
-This module must never accept a floating-point evaluation as a proof.
+Signs over the box come from exact Bernstein expansion with bisection: on a
+sub-box, a polynomial whose Bernstein coefficients are all positive is positive
+on the whole closed sub-box (Garloff 1986; Zettler and Garloff 1998). A cover
+is a list of sub-boxes that tile the box, each with the proven sign of every
+condition (and, when a radical is present, a rational enclosure of ``r``).
+
+This module must never accept a floating-point evaluation as evidence: every
+sign it reports is an exact rational fact. It decides nothing about claims;
+:mod:`proofkit.proofs.ranges` writes certificates, the audit decides.
 """
 
 from __future__ import annotations
 
 import itertools
+import time
 from collections.abc import Sequence
 from dataclasses import dataclass
+from fractions import Fraction
+from math import comb, isqrt
 from typing import Literal
 
 import flint
@@ -26,16 +35,500 @@ import sympy as sp
 
 from proofkit.model import Model
 
-__all__ = ["ParametricResult", "hurwitz_determinants", "parametric_stability"]
+__all__ = [
+    "Cover",
+    "Leaf",
+    "ParametricResult",
+    "RangeSystem",
+    "bernstein_sign",
+    "cover_box",
+    "hurwitz_determinants",
+    "parametric_stability",
+    "range_system",
+]
 
-_S = sp.Symbol("s")
-Interval = tuple[flint.fmpq, flint.fmpq]
+Mpoly = flint.fmpq_mpoly
+Box = tuple[tuple[Fraction, Fraction], ...]
+_RADICAL = "sqrt_g"
 
 
 @dataclass(frozen=True)
+class RangeSystem:
+    """The linearization of one equilibrium as exact polynomials in the uncertain parameters.
+
+    Variables of every polynomial: ``params`` then, when ``radicand`` is set, ``radical``
+    (``r = sqrt(radicand)``, always ``>= 0``). ``point[i] = (a_i, b_i)``: the i-th coordinate
+    is ``a_i + b_i r`` (``b_i = 0`` without a radical). ``charpoly`` is highest degree first
+    (leading 1) and ``conditions`` are ``Delta_1 .. Delta_{n-1}, a_n``, all reduced mod
+    ``r^2 - radicand`` (degree <= 1 in ``r``).
+    """
+
+    params: tuple[str, ...]
+    radical: str | None
+    box: Box
+    nominal: tuple[Fraction, ...]
+    ctx: flint.fmpq_mpoly_ctx
+    radicand: Mpoly | None
+    point: tuple[tuple[Mpoly, Mpoly], ...]
+    charpoly: tuple[Mpoly, ...]
+    conditions: tuple[Mpoly, ...]
+
+    @property
+    def condition_names(self) -> tuple[str, ...]:
+        n = len(self.charpoly) - 1
+        return (*(f"Delta_{k}" for k in range(1, n)), f"a_{n}")
+
+    @property
+    def variables(self) -> tuple[str, ...]:
+        return self.params + ((self.radical,) if self.radical else ())
+
+
+# --- building the system --------------------------------------------------------------
+def _frac(v: sp.Expr) -> Fraction | None:
+    v = sp.nsimplify(v) if isinstance(v, sp.Float) else v
+    return Fraction(int(v.p), int(v.q)) if isinstance(v, sp.Rational) else None
+
+
+def _to_mpoly(expr: sp.Expr, syms: Sequence[sp.Symbol], ctx: flint.fmpq_mpoly_ctx) -> Mpoly:
+    poly = sp.Poly(sp.expand(expr), *syms)
+    terms = {}
+    for monom, c in poly.terms():
+        if not c.is_Rational:
+            raise ValueError(f"coefficient {c} is not rational")
+        terms[tuple(monom)] = flint.fmpq(int(c.p), int(c.q))
+    return ctx.from_dict(terms) if terms else ctx.constant(0)
+
+
+def reduce_radical(p: Mpoly, radicand: Mpoly | None) -> Mpoly:
+    """Replace ``r^2`` by the radicand (``r`` is the last variable) until r-degree <= 1."""
+    if radicand is None:
+        return p
+    ctx = p.context()
+    k = ctx.nvars() - 1
+    if p.degrees()[k] <= 1:
+        return p
+    out = ctx.constant(0)
+    for monom, c in p.to_dict().items():
+        e = monom[k]
+        rest = ctx.from_dict({(*monom[:k], e % 2): c})
+        out += rest * radicand ** (e // 2)
+    return out
+
+
+def _radical_form(
+    values: Sequence[sp.Expr], syms: Sequence[sp.Symbol]
+) -> tuple[sp.Expr | None, list[sp.Expr]] | str:
+    """``(g, [a_i + b_i R])`` with a symbol R = sqrt(g), or why the point has another form."""
+    bases: list[sp.Expr] = []
+    for v in values:
+        for atom in sp.preorder_traversal(v):
+            if isinstance(atom, sp.Pow) and not atom.exp.is_Integer:
+                if atom.exp != sp.S.Half:
+                    return f"the point has the power {atom}; only square roots are supported"
+                bases.append(sp.expand(atom.base))
+            elif isinstance(atom, sp.Function) or (
+                atom.is_Atom and atom.is_number and not atom.is_Rational
+            ):
+                return f"the point contains {atom}; it must be polynomial in the parameters"
+    if not bases:
+        return None, list(values)
+    g = next((b for b in bases if not b.is_number), bases[0])
+    big_r = sp.Symbol(_RADICAL)
+    repl = {}
+    for b in set(bases):
+        q = sp.cancel(b / g)
+        if not (q.is_Rational and q > 0 and sp.sqrt(q).is_Rational):
+            return "the point has two different square roots; one radical per point is supported"
+        repl[sp.sqrt(b)] = sp.sqrt(q) * big_r
+    return g, [sp.expand(v.xreplace(repl)) for v in values]
+
+
+def range_system(model: Model, name: str) -> RangeSystem | str:
+    """The exact linearization of equilibrium ``name`` over the parameter box, or why not."""
+    uncertain = [p for p in model.params if p.is_uncertain]
+    if not uncertain:
+        return "the model has no uncertain parameter"
+    fixed = {p.symbol: p.nominal for p in model.params if not p.is_uncertain}
+    syms = [p.symbol for p in uncertain]
+    ends = [(_frac(p.low), _frac(p.high), _frac(p.nominal)) for p in uncertain]
+    if any(v is None for e in ends for v in e):
+        return "a parameter range or nominal value is not rational"
+    box = tuple((lo, hi) for lo, hi, _ in ends)
+    xs = model.state_symbols
+    values = [sp.expand(v.subs(fixed)) for _, v in model.equilibrium(name).point]
+    if any(not v.free_symbols <= set(syms) for v in values):
+        return "the point depends on something other than the uncertain parameters"
+    form = _radical_form(values, syms)
+    if isinstance(form, str):
+        return form
+    g, coords = form
+    radical = None
+    if g is not None:
+        radical = _RADICAL
+        while radical in {p.name for p in model.params}:
+            radical += "_"
+    names = tuple(p.name for p in uncertain) + ((radical,) if radical else ())
+    ctx = flint.fmpq_mpoly_ctx.get(names, "lex")
+    big_r = sp.Symbol(_RADICAL)
+    vsyms = [*syms, big_r] if radical else syms
+    fs = [sp.expand(f.subs(fixed)) for f in model.field]
+    try:
+        if not all(f.is_polynomial(*xs, *syms) for f in fs):
+            return "the vector field is not polynomial in the states and uncertain parameters"
+        radicand = _to_mpoly(g, [*syms, big_r], ctx) if radical else None
+        point = tuple(_to_mpoly(c, vsyms, ctx) for c in coords)
+        jac = [[sp.expand(sp.diff(f, x)) for x in xs] for f in fs]
+        sub = dict(zip(xs, coords, strict=True))
+        residual = [reduce_radical(_to_mpoly(f.subs(sub), vsyms, ctx), radicand) for f in fs]
+        jm = [
+            [reduce_radical(_to_mpoly(e.subs(sub), vsyms, ctx), radicand) for e in row]
+            for row in jac
+        ]
+    except (ValueError, sp.PolynomialError) as exc:
+        return f"not exact polynomials in the parameters: {exc}"
+    if any(not r.is_zero() for r in residual):
+        return f"{name} is not an equilibrium for every parameter value (f does not vanish)"
+    split = tuple(_split_radical(c, radicand) for c in point)
+    cp = charpoly(jm, radicand)
+    return RangeSystem(
+        tuple(p.name for p in uncertain),
+        radical,
+        box,
+        tuple(e[2] for e in ends),
+        ctx,
+        radicand,
+        split,
+        tuple(cp),
+        tuple(hurwitz_conditions(cp, radicand)),
+    )
+
+
+def _split_radical(c: Mpoly, radicand: Mpoly | None) -> tuple[Mpoly, Mpoly]:
+    ctx = c.context()
+    if radicand is None:
+        return c, ctx.constant(0)
+    k = ctx.nvars() - 1
+    a, b = {}, {}
+    for monom, v in c.to_dict().items():
+        (b if monom[k] else a)[(*monom[:k], 0)] = v
+    return ctx.from_dict(a) if a else ctx.constant(0), ctx.from_dict(b) if b else ctx.constant(0)
+
+
+def charpoly(a: list[list[Mpoly]], radicand: Mpoly | None) -> list[Mpoly]:
+    """``det(sI - A)`` highest first by Faddeev–LeVerrier (divides by integers only)."""
+    n = len(a)
+    ctx = a[0][0].context()
+    zero, one = ctx.constant(0), ctx.constant(1)
+    m = [[one if i == j else zero for j in range(n)] for i in range(n)]
+    coeffs = [one]
+    for k in range(1, n + 1):
+        am = [
+            [
+                reduce_radical(sum((a[i][t] * m[t][j] for t in range(n)), zero), radicand)
+                for j in range(n)
+            ]
+            for i in range(n)
+        ]
+        c = -sum((am[i][i] for i in range(n)), zero) / k
+        coeffs.append(c)
+        m = am
+        for i in range(n):
+            m[i][i] = m[i][i] + c
+    return coeffs
+
+
+def hurwitz_conditions(cp: Sequence[Mpoly], radicand: Mpoly | None) -> list[Mpoly]:
+    """``Delta_1 .. Delta_{n-1}`` (leading minors of the Hurwitz matrix) and ``a_n``."""
+    n = len(cp) - 1
+    zero = cp[0].context().constant(0)
+
+    def h(i: int, j: int) -> Mpoly:  # Hurwitz matrix entry a_{2j - i} (1-based)
+        k = 2 * (j + 1) - (i + 1)
+        return cp[k] if 0 <= k <= n else zero
+
+    out = [_minor(h, k, radicand) for k in range(1, n)]
+    return [*out, cp[n]]
+
+
+def _minor(h, k: int, radicand: Mpoly | None) -> Mpoly:
+    """det of the leading k x k block by Laplace expansion along rows (memo on columns)."""
+    memo: dict[tuple[int, frozenset[int]], Mpoly] = {}
+
+    def det(row: int, cols: frozenset[int]) -> Mpoly:
+        if row == k:
+            return h(0, 0).context().constant(1)
+        key = (row, cols)
+        if key not in memo:
+            total = h(0, 0).context().constant(0)
+            free = sorted(cols)
+            for pos, c in enumerate(free):
+                e = h(row, c)
+                if not e.is_zero():
+                    term = reduce_radical(e * det(row + 1, cols - {c}), radicand)
+                    total = total - term if pos % 2 else total + term
+            memo[key] = total
+        return memo[key]
+
+    return det(0, frozenset(range(k)))
+
+
+def hurwitz_determinants(coeffs: Sequence[sp.Expr]) -> tuple[sp.Expr, ...]:
+    """Delta_1..Delta_n of a_0 s^n + ... + a_n (coefficients highest first), as sympy."""
+    n = len(coeffs) - 1
+
+    def a(k: int) -> sp.Expr:
+        return coeffs[k] if 0 <= k <= n else sp.Integer(0)
+
+    H = sp.Matrix(n, n, lambda i, j: a(2 * (j + 1) - (i + 1)))
+    return tuple(sp.expand(H[:k, :k].det(method="berkowitz")) for k in range(1, n + 1))
+
+
+# --- Bernstein expansion ---------------------------------------------------------------------
+def bernstein(p: Mpoly, box: Sequence[tuple[Fraction, Fraction]]) -> list[flint.fmpq]:
+    """The Bernstein coefficients of ``p`` over ``box`` (tensor degrees = p's degrees)."""
+    ctx = p.context()
+    gens = ctx.gens()
+    shifted = p.compose(
+        *[
+            ctx.constant(flint.fmpq(lo.numerator, lo.denominator))
+            + flint.fmpq((hi - lo).numerator, (hi - lo).denominator) * t
+            for (lo, hi), t in zip(box, gens, strict=True)
+        ]
+    )
+    degs = p.degrees()
+    grid = dict(shifted.to_dict())
+    for axis, d in enumerate(degs):
+        if d == 0:
+            continue
+        new: dict[tuple[int, ...], flint.fmpq] = {}
+        for key, c in grid.items():
+            j = key[axis]
+            for i in range(j, d + 1):
+                k2 = (*key[:axis], i, *key[axis + 1 :])
+                v = c * comb(i, j) / comb(d, j)
+                new[k2] = new[k2] + v if k2 in new else v
+        grid = new
+    size = 1
+    for d in degs:
+        size *= d + 1
+    out = list(grid.values())
+    if len(out) < size:
+        out.append(flint.fmpq(0))  # a missing grid entry is a zero coefficient
+    return out
+
+
+def bernstein_sign(p: Mpoly, box: Sequence[tuple[Fraction, Fraction]], strict: bool = True) -> int:
+    """+1 / -1 when every Bernstein coefficient is > 0 / < 0 (>= 0 / <= 0 if not strict), else 0."""
+    coeffs = bernstein(p, box)
+    if strict:
+        if all(c > 0 for c in coeffs):
+            return 1
+        return -1 if all(c < 0 for c in coeffs) else 0
+    if all(c >= 0 for c in coeffs):
+        return 1
+    return -1 if all(c <= 0 for c in coeffs) else 0
+
+
+def _sqrt_bounds(q: flint.fmpq, bits: int = 24) -> tuple[Fraction, Fraction]:
+    """Rationals ``lo <= sqrt(q) <= hi`` for ``q >= 0``."""
+    num, den = int(q.p), int(q.q)
+    scale = 1 << bits
+    s = isqrt(num * den * scale * scale)
+    lo = Fraction(s, den * scale)
+    return lo, lo if s * s == num * den * scale * scale else Fraction(s + 1, den * scale)
+
+
+def radical_interval(radicand: Mpoly, pbox: Box) -> tuple[Fraction, Fraction] | None:
+    """A rational enclosure of ``sqrt(radicand)`` over ``pbox``; None if not shown real there."""
+    cs = bernstein(radicand, (*pbox, (Fraction(0), Fraction(1))))  # no r in the radicand
+    lo, hi = min(cs), max(cs)
+    if lo < 0:
+        return None
+    return _sqrt_bounds(lo)[0], _sqrt_bounds(hi)[1]
+
+
+# --- covers ---------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Leaf:
+    """A sub-box (parameters, then the radical's enclosure) and the proven sign of each
+    condition."""
+
+    box: Box
+    signs: tuple[int, ...]  # +1 / -1 proven, 0 not asserted
+
+
+@dataclass(frozen=True)
+class Cover:
+    """``covered``: leaves tile the box; ``fails``: at ``point`` the opposite can be shown;
+    ``undecided``: neither (reason)."""
+
+    status: Literal["covered", "fails", "undecided"]
+    leaves: tuple[Leaf, ...] = ()
+    point: tuple[Fraction, ...] | None = None
+    reason: str = ""
+
+
+def _value(p: Mpoly, values: Sequence[Fraction]) -> flint.fmpq:
+    return p(*[flint.fmpq(v.numerator, v.denominator) for v in values])
+
+
+def _good(signs: Sequence[int], kind: str) -> bool:
+    if kind == "stable":
+        return all(s > 0 for s in signs)
+    if signs[-1] < 0:  # a_n < 0: a real root s > 0
+        return True
+    first = [1, signs[0]] + [signs[k] * signs[k - 1] for k in range(1, len(signs))]
+    return all(signs) and any(a != b for a, b in itertools.pairwise(first))
+
+
+def _bad(signs: Sequence[int], kind: str) -> bool:
+    """The box certainly contradicts the claim (for instability: Hurwitz everywhere in it)."""
+    if kind == "stable":
+        return any(s < 0 for s in signs)
+    return all(s > 0 for s in signs)
+
+
+def _bisect(box: Box, widths: Sequence[Fraction]) -> tuple[Box, Box]:
+    k = max(range(len(box)), key=lambda i: (box[i][1] - box[i][0]) / widths[i] if widths[i] else 0)
+    lo, hi = box[k]
+    mid = (lo + hi) / 2
+    return (*box[:k], (lo, mid), *box[k + 1 :]), (*box[:k], (mid, hi), *box[k + 1 :])
+
+
+def cover_box(
+    system: RangeSystem,
+    kind: Literal["stable", "unstable"],
+    box: Box | None = None,
+    conditions: Sequence[Mpoly] | None = None,
+    budget: int = 4000,
+    seconds: float = 8.0,
+) -> Cover:
+    """Tile ``box`` (default: the declared ranges) with sub-boxes on which the claim's sign
+    pattern is proven, or find a point where the opposite holds.
+
+    Candidate points (vertices, centres, the simplest point of a box of the wrong sign) are
+    decided exactly by :func:`contradicts`.
+    """
+    box = box or system.box
+    conds = list(conditions or system.conditions)
+    widths = [hi - lo for lo, hi in box]
+    stack, leaves = [box], []
+    touched: list | None = None
+    deadline = time.monotonic() + seconds
+    used = 0
+    while stack:
+        if used >= budget or time.monotonic() > deadline:
+            if touched:
+                return Cover("undecided", point=touched[0], reason=touched[1])
+            return Cover("undecided", reason=f"the bisection budget ran out ({used} boxes)")
+        pbox = stack.pop()
+        used += 1
+        full = pbox
+        if system.radicand is not None:
+            riv = radical_interval(system.radicand, pbox)
+            if riv is None:
+                centre = tuple((lo + hi) / 2 for lo, hi in pbox)
+                if _value(system.radicand, (*centre, Fraction(0))) < 0:
+                    return Cover(
+                        "undecided",
+                        reason="the radicand of the point is negative at "
+                        + _show(system.params, centre),
+                    )
+                stack.extend(_bisect(pbox, widths))
+                continue
+            full = (*pbox, riv)
+        signs = tuple(bernstein_sign(c, full) for c in conds)
+        if _good(signs, kind):
+            leaves.append(Leaf(full, signs))
+            continue
+        verdict = _probe_box(system, pbox, full, conds, kind, signs)
+        if isinstance(verdict, tuple):
+            return Cover("fails", point=verdict)
+        if verdict:
+            touched = touched or verdict
+            continue  # a condition vanishes at a point of this box: it can never be covered
+        stack.extend(_bisect(pbox, widths))
+    if touched:
+        return Cover("undecided", point=touched[0], reason=touched[1])
+    return Cover("covered", tuple(leaves))
+
+
+def _show(names: Sequence[str], point: Sequence[Fraction]) -> str:
+    return ", ".join(f"{n} = {v}" for n, v in zip(names, point, strict=True))
+
+
+def simplest_between(lo: Fraction, hi: Fraction) -> Fraction:
+    """The rational with the smallest denominator in ``[lo, hi]`` (continued fractions)."""
+    if lo > hi:
+        lo, hi = hi, lo
+    if lo <= 0 <= hi:
+        return Fraction(0)
+    if hi < 0:
+        return -simplest_between(-hi, -lo)
+    fl = lo.numerator // lo.denominator
+    if fl == lo or fl + 1 <= hi:
+        return Fraction(fl) if fl == lo else Fraction(fl + 1)
+    return fl + 1 / simplest_between(1 / (hi - fl), 1 / (lo - fl))
+
+
+def linearization_at(system: RangeSystem, pt: Sequence[Fraction]):
+    """The exact Routh array (analysis.routh, with special cases) at one parameter value."""
+    from proofkit.analysis.routh import routh_array
+
+    values = [sp.Rational(v.numerator, v.denominator) for v in pt]
+    if system.radicand is not None:
+        g = _value(system.radicand, (*pt, Fraction(0)))
+        if g < 0:
+            return None
+        values.append(sp.sqrt(sp.Rational(int(g.p), int(g.q))))
+    coeffs = [
+        sp.expand(to_sympy(c).subs(dict(zip(_syms(system), values, strict=True))))
+        for c in system.charpoly
+    ]
+    return routh_array(coeffs)
+
+
+def _syms(system: RangeSystem) -> list[sp.Symbol]:
+    return [sp.Symbol(n, real=True) for n in system.variables]
+
+
+def contradicts(system: RangeSystem, kind: str, pt: Sequence[Fraction]) -> bool:
+    """Exactly: at ``pt`` the linearization has a root with Re s > 0 (claim stable), or
+    every root has Re s < 0 (claim unstable)."""
+    ra = linearization_at(system, pt)
+    if ra is None:
+        return False
+    return ra.rhp_count > 0 if kind == "stable" else ra.hurwitz
+
+
+def _probe_box(system, pbox, full, conds, kind, signs):
+    """A contradicting point (tuple), a touching point and reason (list), or None."""
+    candidates = []
+    if _bad(signs, kind):  # every point of the box has the wrong sign: pick a simple one
+        candidates.append(tuple(simplest_between(lo, hi) for lo, hi in pbox))
+    candidates += [tuple(v) for v in itertools.product(*pbox)]
+    candidates.append(tuple((lo + hi) / 2 for lo, hi in pbox))
+    for pt in candidates:
+        if contradicts(system, kind, pt):
+            return pt
+    if kind != "stable":
+        return None
+    for pt in candidates:
+        ra = linearization_at(system, pt)
+        if ra is not None and ra.imag_count > 0:
+            return [
+                pt,
+                f"at {_show(system.params, pt)} the linearization has a root on the "
+                "imaginary axis, so it decides nothing at that value",
+            ]
+    return None
+
+
+# --- the analysis view ------------------------------------------------------------------------
+@dataclass(frozen=True)
 class ParametricResult:
-    """``holds``: Delta_i(p) > 0 on the whole box; ``fails``: a value where the linearization
-    has a root in the closed right half plane; ``unknown``: neither was shown (see reason)."""
+    """``holds``: stable for every parameter value in the box (Bernstein cover); ``fails``: a
+    value where the linearization has a root in the open right half plane; ``unknown``."""
 
     status: Literal["holds", "fails", "unknown"]
     reason: str
@@ -47,163 +540,65 @@ class ParametricResult:
     boxes: int = 0
 
 
-def hurwitz_determinants(coeffs: Sequence[sp.Expr]) -> tuple[sp.Expr, ...]:
-    """Delta_1..Delta_n of a_0 s^n + ... + a_n (coefficients highest first)."""
-    n = len(coeffs) - 1
-
-    def a(k: int) -> sp.Expr:
-        return coeffs[k] if 0 <= k <= n else sp.Integer(0)
-
-    H = sp.Matrix(n, n, lambda i, j: a(2 * (j + 1) - (i + 1)))
-    return tuple(sp.expand(H[:k, :k].det(method="berkowitz")) for k in range(1, n + 1))
-
-
-def _q(r: sp.Rational) -> flint.fmpq:
-    r = sp.Rational(r)
-    return flint.fmpq(int(r.p), int(r.q))
-
-
-def _ipow(lo: flint.fmpq, hi: flint.fmpq, e: int) -> Interval:
-    a, b = lo**e, hi**e
-    if e % 2 == 0 and lo < 0 < hi:
-        return flint.fmpq(0), max(a, b)
-    return (min(a, b), max(a, b))
-
-
-def _range(terms: list[tuple[tuple[int, ...], flint.fmpq]], box: Sequence[Interval]) -> Interval:
-    """An exact rational enclosure of the polynomial over the box (naive interval evaluation)."""
-    tot_lo = tot_hi = flint.fmpq(0)
-    for monom, c in terms:
-        lo = hi = c
-        for (blo, bhi), e in zip(box, monom, strict=True):
-            if e:
-                plo, phi = _ipow(blo, bhi, e)
-                prods = (lo * plo, lo * phi, hi * plo, hi * phi)
-                lo, hi = min(prods), max(prods)
-        tot_lo += lo
-        tot_hi += hi
-    return tot_lo, tot_hi
-
-
-def _value(
-    terms: list[tuple[tuple[int, ...], flint.fmpq]], point: Sequence[flint.fmpq]
-) -> flint.fmpq:
-    total = flint.fmpq(0)
-    for monom, c in terms:
-        v = c
-        for x, e in zip(point, monom, strict=True):
-            if e:
-                v *= x**e
-        total += v
-    return total
-
-
-def _prove_positive(
-    poly: sp.Expr, syms: Sequence[sp.Symbol], box: Sequence[Interval], budget: int
-) -> tuple[str, list[flint.fmpq] | None, int]:
-    """('positive' | 'counterexample' | 'budget', point, boxes used) for poly > 0 on the box."""
-    P = sp.Poly(poly, *syms, domain=sp.QQ)
-    terms = [(m, _q(c)) for m, c in P.terms()]
-    for corner in itertools.product(*box):
-        if _value(terms, corner) <= 0:
-            return "counterexample", list(corner), 0
-    stack = [list(box)]
-    used = 0
-    while stack:
-        if used >= budget:
-            return "budget", None, used
-        b = stack.pop()
-        used += 1
-        lo, _hi = _range(terms, b)
-        if lo > 0:
-            continue
-        mid = [(a + c) / 2 for a, c in b]
-        if _value(terms, mid) <= 0:
-            return "counterexample", mid, used
-        k = max(range(len(b)), key=lambda i: b[i][1] - b[i][0])
-        a, c = b[k]
-        m = (a + c) / 2
-        left, right = list(b), list(b)
-        left[k], right[k] = (a, m), (m, c)
-        stack.extend([left, right])
-    return "positive", None, used
+def to_sympy(p: Mpoly) -> sp.Expr:
+    syms = [sp.Symbol(n, real=True) for n in p.context().names()]
+    return sp.Add(
+        *[
+            sp.Rational(int(c.p), int(c.q))
+            * sp.Mul(*[s ** int(e) for s, e in zip(syms, m, strict=True)])
+            for m, c in p.to_dict().items()
+        ]
+    )
 
 
 def parametric_stability(model: Model, name: str, budget: int = 4000) -> ParametricResult:
     """Is the declared equilibrium ``name`` stable for every value in the parameter ranges?"""
+    system = range_system(model, name)
     uncertain = [p for p in model.params if p.is_uncertain]
-    fixed = {p.symbol: p.nominal for p in model.params if not p.is_uncertain}
-    syms = [p.symbol for p in uncertain]
+    params = tuple(p.name for p in uncertain)
     box_q = tuple((sp.Rational(p.low), sp.Rational(p.high)) for p in uncertain)
-    xs = model.state_symbols
-    decl = model.equilibrium(name)
-    point = {sp.Symbol(s, real=True): v.subs(fixed) for s, v in decl.point}
-    fs = [sp.expand(f.subs(fixed)) for f in model.field]
-
-    def unknown(why: str, cp: tuple = (), dets: tuple = ()) -> ParametricResult:
-        return ParametricResult("unknown", why, tuple(p.name for p in uncertain), box_q, cp, dets)
-
-    if not all(isinstance(v, sp.Rational) for lh in box_q for v in lh):
-        return unknown("a parameter range has irrational end points")
-    if any(sp.expand(f.subs(point)) != 0 for f in fs):
-        return unknown(f"{name} moves with the parameters (f does not vanish there identically)")
-    J = sp.Matrix(fs).jacobian(list(xs)).subs(point)
-    J = J.applyfunc(sp.expand)
-    if not all(e.is_polynomial(*syms) for e in J):
-        return unknown("the Jacobian is not polynomial in the uncertain parameters")
-    cp = tuple(sp.expand(c) for c in J.charpoly(_S).all_coeffs())
-    dets = hurwitz_determinants(cp)
-    box = [(_q(a), _q(b)) for a, b in box_q]
-    used_total = 0
-    for i, d in enumerate(dets, 1):
-        if not all(isinstance(c, sp.Rational) for c in sp.Poly(d, *syms).coeffs()):
-            return unknown("coefficients are not rational", cp, dets)
-        status, where, used = _prove_positive(d, syms, box, budget)
-        used_total += used
-        if status == "budget":
-            return unknown(f"budget reached proving Delta_{i} > 0 ({budget} boxes)", cp, dets)
-        if status == "counterexample":
-            assert where is not None
-            at = {
-                p.name: sp.Rational(int(v.p), int(v.q))
-                for p, v in zip(uncertain, where, strict=True)
-            }
-            from proofkit.analysis.routh import routh_array
-
-            coeffs_at = [sp.expand(c.subs({p.symbol: at[p.name] for p in uncertain})) for c in cp]
-            ra = routh_array(coeffs_at)
-            text = ", ".join(f"{k} = {v}" for k, v in at.items())
-            if ra.rhp_count > 0:
-                return ParametricResult(
-                    "fails",
-                    f"at {text} the linearization has {ra.rhp_count} root(s) in the open right "
-                    f"half plane (Delta_{i} = {d.subs({s: at[str(s)] for s in syms})})",
-                    tuple(at),
-                    box_q,
-                    cp,
-                    dets,
-                    at,
-                    used_total,
-                )
-            return ParametricResult(
-                "unknown",
-                f"at {text} Delta_{i} <= 0: roots on the imaginary axis, stability not shown there",
-                tuple(at),
-                box_q,
-                cp,
-                dets,
-                at,
-                used_total,
-            )
-    ranges = ", ".join(f"{p.name} in [{p.low}, {p.high}]" for p in uncertain)
-    return ParametricResult(
-        "holds",
-        f"every Hurwitz determinant is positive for {ranges} (exact interval bisection, "
-        f"{used_total} boxes): Lyapunov's indirect method at every parameter value",
-        tuple(p.name for p in uncertain),
-        box_q,
-        cp,
-        dets,
-        None,
-        used_total,
+    if isinstance(system, str):
+        return ParametricResult("unknown", system, params, box_q, (), ())
+    cp = tuple(to_sympy(c) for c in system.charpoly)
+    dets = tuple(to_sympy(c) for c in system.conditions)
+    cover = cover_box(system, "stable", budget=budget)
+    if cover.status == "covered":
+        ranges = ", ".join(
+            f"{n} in [{lo}, {hi}]" for n, (lo, hi) in zip(params, system.box, strict=True)
+        )
+        return ParametricResult(
+            "holds",
+            f"every Hurwitz determinant is positive for {ranges} (exact Bernstein "
+            f"cover, {len(cover.leaves)} boxes): Lyapunov's indirect method at every value",
+            params,
+            box_q,
+            cp,
+            dets,
+            None,
+            len(cover.leaves),
+        )
+    if cover.status == "fails":
+        assert cover.point is not None
+        at = {
+            n: sp.Rational(v.numerator, v.denominator)
+            for n, v in zip(params, cover.point, strict=True)
+        }
+        text = _show(params, cover.point)
+        return ParametricResult(
+            "fails",
+            f"at {text} the linearization has a root in the open right half plane",
+            params,
+            box_q,
+            cp,
+            dets,
+            at,
+        )
+    at = (
+        None
+        if cover.point is None
+        else {
+            n: sp.Rational(v.numerator, v.denominator)
+            for n, v in zip(params, cover.point, strict=True)
+        }
     )
+    return ParametricResult("unknown", cover.reason, params, box_q, cp, dets, at)

@@ -1,0 +1,266 @@
+"""Claims ``E stable`` / ``E unstable`` over the parameter ranges: proved for every value,
+or refuted at one.
+
+Method ``range-linearization``: the exact characteristic polynomial of the
+equilibrium as polynomials in the uncertain parameters (also at a moving point
+with a square root, computed in Q[p][r]/(r^2 - g)), and a cover of the
+parameter box by sub-boxes on which exact Bernstein coefficients fix the sign
+of every Hurwitz condition (:mod:`proofkit.analysis.parametric`). When the
+claim fails somewhere, a rational value where the exact Routh array
+contradicts it is reported instead ("it breaks at rho = 25"). For a proved
+claim, the stability margin per parameter (others at nominal) is found by
+bisection on covers and carried in the evidence, so the audit checks it too.
+
+Why Bernstein and not sums of squares with box multipliers: the Hurwitz
+conditions of these claims are polynomials of low degree in one to three
+parameters; Bernstein covers need no solver and no rounding, their evidence is
+a list of boxes (a few hundred bytes), the audit re-derives every coefficient
+with integer-sized rational arithmetic, and they find the refuting values as a
+by-product. Measured in tests/perf/bench_ranges.py.
+
+This module never reports "proved" itself: the audit decides.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Any
+
+from proofkit.analysis.parametric import (
+    Box,
+    Cover,
+    RangeSystem,
+    cover_box,
+    range_system,
+)
+from proofkit.model import Claim, Model
+
+__all__ = [
+    "LYAPUNOV_RANGE_REASON",
+    "METHOD",
+    "RangeAttempt",
+    "attempt",
+    "equilibrium_json",
+    "margins_of",
+    "stability_margin",
+]
+
+METHOD = "range-linearization"
+THEOREM = {
+    "stable": "range-indirect-method-stability",
+    "unstable": "range-indirect-method-instability",
+}
+REFUTING = {
+    "stable": "indirect-method-instability-at-a-value",
+    "unstable": "indirect-method-stability-at-a-value",
+}
+LYAPUNOV_RANGE_REASON = (
+    "Lyapunov and region-of-attraction claims over parameter ranges are not available yet "
+    "(one V for the whole range, with the parameters as variables under box multipliers)"
+)
+
+
+@dataclass(frozen=True)
+class RangeAttempt:
+    """A certificate claim entry and a one-line detail for the user."""
+
+    entry: dict[str, Any]
+    detail: str
+    trace: Any = None
+
+
+def _poly(p: Any) -> list[Any]:
+    return [[[int(k) for k in e], str(c)] for e, c in sorted(p.to_dict().items(), reverse=True)]
+
+
+def _iv(lo: Fraction, hi: Fraction) -> list[str]:
+    return [str(lo), str(hi)]
+
+
+def equilibrium_json(system: RangeSystem, name: str) -> dict[str, Any]:
+    """The claim's equilibrium: ``point`` when it is rational and fixed, else ``moving``."""
+    fixed = system.radicand is None and all(
+        b.is_zero() and a.is_constant() for a, b in system.point
+    )
+    if fixed:
+        return {
+            "name": name,
+            "point": [
+                str(a.coefficients()[0]) if not a.is_zero() else "0" for a, _ in system.point
+            ],
+        }
+    ctx = system.ctx
+    r = ctx.gens()[-1] if system.radical else None
+    coords = [a + b * r if r is not None else a for a, b in system.point]
+    moving: dict[str, Any] = {"coordinates": [_poly(c) for c in coords]}
+    if system.radicand is not None:
+        moving["radicand"] = [
+            [[int(k) for k in e[:-1]], str(c)]
+            for e, c in sorted(system.radicand.to_dict().items(), reverse=True)
+        ]
+    return {"name": name, "moving": moving}
+
+
+def _cover_json(cover: Cover) -> list[dict[str, Any]]:
+    return [
+        {"box": [_iv(lo, hi) for lo, hi in leaf.box], "signs": list(leaf.signs)}
+        for leaf in cover.leaves
+    ]
+
+
+def _entry(model: Model, claim: Claim, status: str, **fields: Any) -> dict[str, Any]:
+    from proofkit.certificate import claim_entry
+
+    return claim_entry(model, claim, status, **fields)
+
+
+def _not_proved(model: Model, claim: Claim, reason: str) -> RangeAttempt:
+    return RangeAttempt(_entry(model, claim, "not proved", reason=reason), reason)
+
+
+def _show(system: RangeSystem, pt: tuple[Fraction, ...]) -> str:
+    return ", ".join(f"{n} = {v}" for n, v in zip(system.params, pt, strict=True))
+
+
+def attempt(
+    model: Model, claim: Claim, progress: Callable[[str], None] | None = None
+) -> RangeAttempt | None:
+    """Prove or refute a ``stable`` / ``unstable`` claim of scope ``range``; None otherwise."""
+    say = progress or (lambda _m: None)
+    if claim.at_nominal or not any(p.is_uncertain for p in model.params):
+        return None
+    if claim.kind in ("globally stable", "attracts"):
+        return _not_proved(model, claim, LYAPUNOV_RANGE_REASON)
+    if claim.kind not in THEOREM or claim.target is None:
+        return None
+    try:
+        system = range_system(model, claim.target)
+    except KeyError:
+        return _not_proved(model, claim, f"no declared equilibrium named {claim.target!r}")
+    if isinstance(system, str):
+        return _not_proved(model, claim, f"over the parameter ranges: {system}")
+    say(f"{claim.text}: Bernstein cover of the parameter box")
+    cover = cover_box(system, claim.kind)
+    return _from_cover(model, claim, system, cover, say)
+
+
+def _from_cover(model: Model, claim: Claim, system: RangeSystem, cover: Cover, say) -> RangeAttempt:
+    kind = claim.kind
+    if cover.status == "fails":
+        assert cover.point is not None
+        from proofkit.proofs._ranges_point import value_evidence
+
+        found = value_evidence(system, kind, cover.point)
+        at = _show(system, cover.point)
+        if found is None:
+            return _not_proved(
+                model,
+                claim,
+                f"the claim fails at {at}, but no regular Routh array was found there to show it",
+            )
+        evidence, d = found
+        entry = _entry(
+            model,
+            claim,
+            "refuted",
+            method=METHOD,
+            theorem=REFUTING[kind],
+            number_field={"sqrt": str(d)} if d else None,
+            evidence=evidence,
+        )
+        entry["claim"]["equilibrium"] = equilibrium_json(system, claim.target or "")
+        what = "a root in the right half plane" if kind == "stable" else "all roots in the left"
+        return RangeAttempt(entry, f"it breaks at {at}: the linearization has {what} there")
+    if cover.status == "undecided":
+        return _not_proved(model, claim, f"over the parameter ranges: {cover.reason}")
+    evidence: dict[str, Any] = {
+        "variables": list(system.variables),
+        "characteristic_polynomial": [_poly(c) for c in system.charpoly],
+        "conditions": [_poly(c) for c in system.conditions],
+        "cover": _cover_json(cover),
+    }
+    say(f"{claim.text}: stability margins")
+    margins = [stability_margin(system, kind, j) for j in range(len(system.params))]
+    evidence["margins"] = [
+        {"parameter": system.params[j], "range": _iv(*m[0]), "cover": _cover_json(m[1])}
+        for j, m in enumerate(margins)
+        if m is not None
+    ]
+    entry = _entry(
+        model,
+        claim,
+        "proved",
+        method=METHOD,
+        theorem=THEOREM[kind],
+        number_field=None,
+        evidence=evidence,
+    )
+    entry["claim"]["equilibrium"] = equilibrium_json(system, claim.target or "")
+    ranges = ", ".join(
+        f"{n} in [{lo}, {hi}]" for n, (lo, hi) in zip(system.params, system.box, strict=True)
+    )
+    detail = (
+        f"{'stable' if kind == 'stable' else 'unstable'} for every {ranges}: "
+        f"{len(cover.leaves)} sub-boxes, exact Bernstein signs of the Hurwitz conditions"
+    )
+    return RangeAttempt(entry, detail)
+
+
+# --- stability margins ------------------------------------------------------------------
+def _covered(system: RangeSystem, kind: str, j: int, lo: Fraction, hi: Fraction) -> Cover:
+    box: Box = tuple((lo, hi) if i == j else (v, v) for i, v in enumerate(system.nominal))
+    return cover_box(system, kind, box=box, budget=400, seconds=1.0)  # type: ignore[arg-type]
+
+
+def _extend(system: RangeSystem, kind: str, j: int, sign: int, seconds: float) -> Fraction:
+    """The farthest end (above nominal for sign +1, below for -1) that still gets a cover."""
+    nom = system.nominal[j]
+    lo, hi = system.box[j]
+    good = hi if sign > 0 else lo
+    width = max(hi - lo, Fraction(1, 1000))
+    deadline = time.monotonic() + seconds
+
+    def ok(end: Fraction) -> bool:
+        a, b = (nom, end) if sign > 0 else (end, nom)
+        return _covered(system, kind, j, a, b).status == "covered"
+
+    bad = None
+    for k in range(7):  # widen by doubling until a cover fails
+        trial = good + sign * width * 2**k
+        if time.monotonic() > deadline or not ok(trial):
+            bad = trial
+            break
+        good = trial
+    if bad is None:
+        return good
+    for _ in range(12):  # bisection between the last end covered and the first that was not
+        if time.monotonic() > deadline:
+            break
+        mid = (good + bad) / 2
+        if ok(mid):
+            good = mid
+        else:
+            bad = mid
+    return good
+
+
+def stability_margin(
+    system: RangeSystem, kind: str, j: int, seconds: float = 2.0
+) -> tuple[tuple[Fraction, Fraction], Cover] | None:
+    """The widest interval of parameter ``j`` around nominal (others at nominal) that a cover
+    proves, by doubling then bisection; with its cover. None when none was found."""
+    lo = _extend(system, kind, j, -1, seconds / 2)
+    hi = _extend(system, kind, j, +1, seconds / 2)
+    cover = _covered(system, kind, j, lo, hi)
+    if cover.status != "covered":
+        return None
+    return (lo, hi), cover
+
+
+def margins_of(entry: dict[str, Any]) -> list[dict[str, Any]]:
+    """``[{"parameter", "range"}]`` of a proved range claim's entry (for --json and documents)."""
+    ev = entry.get("evidence") or {}
+    return [{"parameter": m["parameter"], "range": m["range"]} for m in ev.get("margins", [])]
