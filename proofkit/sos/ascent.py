@@ -1,0 +1,355 @@
+"""Numerical basin search: the largest sublevel set ``{V <= c}`` shown to shrink, degree by degree.
+
+Works in the deviation from an equilibrium, in scaled coordinates ``z``
+(the caller chooses the scaling, e.g. from simulation). For a fixed ``V`` the
+level probe (program A) asks for a sum-of-squares multiplier ``s0`` with
+``-lie(V) - eps|y|^2 - s0 (c - V)`` a sum of squares, maximising the smallest
+eigenvalue of both Gram matrices (the margin exact rounding needs); the level
+``c`` is a cvxpy Parameter, so the bisection re-solves one compiled program.
+For fixed ``s0`` and ``c`` the shape step (program B) minimises ``V`` over a
+thin ring around the current boundary (the first-order change of the volume
+of ``{V <= c}``), followed by a line search on the step that is free of
+solves: every convex combination of the old and new ``V`` stays feasible.
+Each degree is warm-started from the previous one.
+
+Everything here is floating point: a hint for :mod:`proofkit.proofs.basin`,
+which rebuilds every obligation exactly. This module never declares anything
+proved and never sees the true region of attraction.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import cvxpy as cp
+import numpy as np
+
+from proofkit.sos._ascent_maps import (
+    MonoIndex,
+    NumPoly,
+    eval_map,
+    gram_map,
+    lie_map,
+    monomials,
+    mult_map,
+)
+
+__all__ = ["AscentSettings", "BasinIterate", "BasinSearch", "directions", "ray_radii"]
+
+FEASIBLE = 1e-7  # smallest Gram eigenvalue that counts as a numerical yes
+
+
+@dataclass(frozen=True)
+class AscentSettings:
+    """Knobs of the search; the defaults are the measured ones (tests/perf/bench_basin.py)."""
+
+    s0_degree: int = 4
+    backoff: float = 0.003
+    bisect_tol: float = 1e-3
+    max_iterations: int = 60
+    stall_iterations: int = 5
+    stall_gain: float = 2e-4
+    seconds_per_degree: float = 45.0
+    eps: float = 1e-5
+    directions: int = 256
+    solver: str = "CLARABEL"
+
+
+@dataclass
+class BasinIterate:
+    """A numerically certified level of one ``V`` (scaled coordinates)."""
+
+    degree: int
+    v: NumPoly
+    level: float
+    s0_basis: np.ndarray
+    s0_gram: np.ndarray
+    dec_basis: np.ndarray
+    dec_gram: np.ndarray
+    margin: float
+    volume: float
+    history: list[tuple[int, float, float, float]] = field(default_factory=list)
+
+
+def directions(nvars: int, count: int, seed: int = 7) -> np.ndarray:
+    """Unit vectors: equally spaced angles in the plane, fixed pseudo-random ones above."""
+    if nvars == 1:
+        return np.array([[1.0], [-1.0]])
+    if nvars == 2:
+        th = (np.arange(count) + 0.5) * 2 * np.pi / count
+        return np.column_stack([np.cos(th), np.sin(th)])
+    g = np.random.default_rng(seed).standard_normal((count, nvars))
+    return g / np.linalg.norm(g, axis=1, keepdims=True)
+
+
+def _homogeneous_parts(v: NumPoly, dirs: np.ndarray) -> np.ndarray:
+    """``a[j, k]``: the degree-k part of ``V`` at direction j, so ``V(r u_j) = sum_k a r^k``."""
+    deg = v.exps.sum(axis=1)
+    vals = eval_map(dirs, v.exps) * v.coeffs[None, :]
+    out = np.zeros((dirs.shape[0], int(deg.max(initial=0)) + 1))
+    for k in range(out.shape[1]):
+        out[:, k] = vals[:, deg == k].sum(axis=1)
+    return out
+
+
+def ray_radii(v: NumPoly, level: float, dirs: np.ndarray, r_max: float) -> np.ndarray:
+    """First radius where ``V(r u) = level`` along each direction (``r_max`` if none)."""
+    a = _homogeneous_parts(v, dirs)
+    powers = np.arange(a.shape[1])
+    grid = np.geomspace(r_max * 1e-4, r_max, 400)
+    vals = (a[:, None, :] * grid[None, :, None] ** powers[None, None, :]).sum(axis=2)
+    above = vals >= level
+    first = np.where(above.any(axis=1), above.argmax(axis=1), len(grid) - 1)
+    hi = grid[first]
+    lo = np.where(first > 0, grid[np.maximum(first - 1, 0)], 0.0)
+    for _ in range(40):
+        mid = 0.5 * (lo + hi)
+        f = (a * mid[:, None] ** powers[None, :]).sum(axis=1)
+        up = f >= level
+        hi = np.where(up, mid, hi)
+        lo = np.where(up, lo, mid)
+    return hi
+
+
+def _ball_volume(n: int) -> float:
+    return math.pi ** (n / 2) / math.gamma(n / 2 + 1)
+
+
+class BasinSearch:
+    """Alternating level/shape search for one vector field (scaled deviation coordinates)."""
+
+    def __init__(
+        self,
+        field_z: list[NumPoly],
+        settings: AscentSettings | None = None,
+        eps_weights: np.ndarray | None = None,
+        progress: Callable[[str], None] | None = None,
+    ) -> None:
+        self.field = field_z
+        self.n = len(field_z)
+        self.cfg = settings or AscentSettings()
+        self.say = progress or (lambda _m: None)
+        self.field_degree = max(int(g.exps.sum(axis=1).max(initial=1)) for g in field_z)
+        w = np.ones(self.n) if eps_weights is None else np.asarray(eps_weights, float)
+        self.eps_poly = NumPoly(2 * np.eye(self.n, dtype=np.int64), self.cfg.eps * w)
+        self.dirs = directions(self.n, self.cfg.directions)
+        self.solver_seconds = 0.0
+        self.solves = 0
+
+    # --- structure of one degree ------------------------------------------------------
+    def shapes(self, degree: int) -> dict[str, object]:
+        ds0 = max(self.cfg.s0_degree, 2 * math.ceil((self.field_degree - 1) / 2))
+        top = max(degree + self.field_degree - 1, degree + ds0)
+        top += top % 2
+        index = MonoIndex(self.n, top)
+        return {
+            "index": index,
+            "v_support": monomials(self.n, degree, 2),
+            "s0_basis": monomials(self.n, ds0 // 2, 1),
+            "dec_basis": monomials(self.n, top // 2, 1),
+            "pos_basis": monomials(self.n, degree // 2, 1),
+        }
+
+    def _solve(self, prob: cp.Problem) -> bool:
+        t0 = time.perf_counter()
+        try:
+            prob.solve(solver=self.cfg.solver)
+        except cp.error.SolverError:
+            return False
+        finally:
+            self.solver_seconds += time.perf_counter() - t0
+            self.solves += 1
+        return prob.status in ("optimal", "optimal_inaccurate")
+
+    # --- program A: the level probe ------------------------------------------------------
+    def level_program(self, v: NumPoly, sh: dict) -> tuple[cp.Problem, cp.Parameter, dict]:
+        index: MonoIndex = sh["index"]
+        b0, b1 = sh["s0_basis"], sh["dec_basis"]
+        k0, k1 = b0.shape[0], b1.shape[0]
+        s0_map = gram_map(b0, index)
+        s0_index = MonoIndex(self.n, 2 * int(b0.sum(axis=1).max()))
+        s0v_map = mult_map(v, s0_index.exps, index) @ gram_map(b0, s0_index)
+        lie = lie_map(self.field, v.exps, index) @ v.coeffs
+        rhs = -lie - index.vector(self.eps_poly)
+        q0 = cp.Variable((k0, k0), symmetric=True)
+        q1 = cp.Variable((k1, k1), symmetric=True)
+        lam = cp.Variable()
+        c = cp.Parameter(nonneg=True, value=1.0)
+        g1 = gram_map(b1, index)
+        lhs = g1 @ cp.vec(q1, order="F") + c * (s0_map @ cp.vec(q0, order="F"))
+        lhs = lhs - s0v_map @ cp.vec(q0, order="F")
+        cons = [lhs == rhs, q1 - lam * np.eye(k1) >> 0, q0 - lam * np.eye(k0) >> 0, lam <= 1]
+        prob = cp.Problem(cp.Maximize(lam), cons)
+        return prob, c, {"q0": q0, "q1": q1, "lam": lam}
+
+    def probe(self, prob: cp.Problem, c: cp.Parameter, var: dict, level: float) -> float | None:
+        """Margin of the level probe at ``level``, or None when not feasible."""
+        c.value = level
+        if not self._solve(prob) or var["lam"].value is None:
+            return None
+        lam = float(var["lam"].value)
+        return lam if lam > FEASIBLE else None
+
+    def best_level(self, v: NumPoly, sh: dict, start: float) -> tuple[float, float, dict] | None:
+        """Bisection for the largest feasible level, backed off; (level, margin, Gram values)."""
+        prob, c, var = self.level_program(v, sh)
+        lo, hi = 0.0, math.inf
+        x = start
+        for _ in range(40):  # bracket
+            if self.probe(prob, c, var, x) is not None:
+                lo, x = x, x * 2
+                if hi < math.inf or x > 1e6 * start:
+                    break
+            else:
+                hi, x = x, x / 2
+                if lo > 0 or x < 1e-8 * start:
+                    break
+        if lo == 0.0:
+            return None
+        while hi < math.inf and hi / lo > 1 + self.cfg.bisect_tol:
+            mid = math.sqrt(lo * hi)
+            if self.probe(prob, c, var, mid) is not None:
+                lo = mid
+            else:
+                hi = mid
+        level = lo * (1 - self.cfg.backoff)
+        margin = self.probe(prob, c, var, level)
+        if margin is None:
+            return None
+        return level, margin, {"q0": var["q0"].value.copy(), "q1": var["q1"].value.copy()}
+
+    # --- program B: the shape step ------------------------------------------------------
+    def shape_step(self, it: BasinIterate, sh: dict, ring: np.ndarray, w: np.ndarray) -> NumPoly:
+        index: MonoIndex = sh["index"]
+        supp, b1, bp = sh["v_support"], sh["dec_basis"], sh["pos_basis"]
+        s0 = _gram_poly(it.s0_basis, it.s0_gram)
+        vv = cp.Variable(supp.shape[0])
+        q1 = cp.Variable((b1.shape[0], b1.shape[0]), symmetric=True)
+        qp = cp.Variable((bp.shape[0], bp.shape[0]), symmetric=True)
+        lie = lie_map(self.field, supp, index)
+        s0v = mult_map(s0, supp, index)
+        rhs = -index.vector(self.eps_poly) - it.level * index.vector(s0)
+        lhs = gram_map(b1, index) @ cp.vec(q1, order="F") + lie @ vv - s0v @ vv
+        embed = mult_map(NumPoly(np.zeros((1, self.n), np.int64), np.ones(1)), supp, index)
+        pos = gram_map(bp, index) @ cp.vec(qp, order="F") - embed @ vv
+        mu = 0.5 * it.margin
+        cons = [
+            lhs == rhs,
+            pos == -index.vector(self.eps_poly),
+            q1 - mu * np.eye(b1.shape[0]) >> 0,
+            qp >> 0,
+        ]
+        phi = w @ eval_map(ring, supp)
+        prob = cp.Problem(cp.Minimize(phi @ vv), cons)
+        if not self._solve(prob) or vv.value is None:
+            return it.v
+        return NumPoly(supp, np.asarray(vv.value, dtype=float))
+
+    def volume(self, v: NumPoly, level: float) -> tuple[float, np.ndarray]:
+        r_max = math.sqrt(level / self.cfg.eps)
+        r = ray_radii(v, level, self.dirs, r_max)
+        return _ball_volume(self.n) * float(np.mean(r**self.n)), r
+
+    def ring(self, v: NumPoly, level: float) -> tuple[np.ndarray, np.ndarray]:
+        """Boundary points and weights ``r^(n-1) / (dV/dr)``: the first-order volume change."""
+        _vol, r = self.volume(v, level)
+        a = _homogeneous_parts(v, self.dirs)
+        k = np.arange(a.shape[1])
+        dvdr = (a[:, 1:] * k[None, 1:] * r[:, None] ** (k[None, 1:] - 1)).sum(axis=1)
+        w = r ** (self.n - 1) / np.maximum(dvdr, 1e-12)
+        return self.dirs * r[:, None], w / w.sum()
+
+    # --- the alternation ------------------------------------------------------------------
+    def _pad(self, v: NumPoly, supp: np.ndarray) -> NumPoly:
+        index = MonoIndex(self.n, int(supp.sum(axis=1).max()))
+        coeffs = np.zeros(supp.shape[0])
+        vec = index.vector(v)
+        coeffs[:] = vec[index.rows(supp)]
+        return NumPoly(supp, coeffs)
+
+    def _radial(self, degree: int, weight: float) -> NumPoly:
+        """``weight * (sum z_i^2)^(degree/2)`` expanded."""
+        exps = monomials(self.n, degree, degree)
+        exps = exps[(exps % 2 == 0).all(axis=1)]
+        half = exps // 2
+        coeffs = np.array(
+            [
+                math.factorial(degree // 2) / math.prod(math.factorial(int(e)) for e in h)
+                for h in half
+            ]
+        )
+        return NumPoly(exps, weight * coeffs)
+
+    def level_of(self, v: NumPoly, degree: int, start: float = 1.0) -> BasinIterate | None:
+        sh = self.shapes(degree)
+        v = self._pad(v, sh["v_support"])
+        got = self.best_level(v, sh, start)
+        if got is None:
+            return None
+        level, margin, grams = got
+        vol, _ = self.volume(v, level)
+        return BasinIterate(
+            degree, v, level, sh["s0_basis"], grams["q0"], sh["dec_basis"], grams["q1"],
+            margin, vol,
+        )  # fmt: skip
+
+    def improve(self, it: BasinIterate, degree: int, t_start: float | None = None) -> BasinIterate:
+        """Alternate shape steps and level probes at ``degree`` from ``it`` (warm start)."""
+        t0 = time.perf_counter() if t_start is None else t_start
+        sh = self.shapes(degree)
+        if it.degree != degree:  # a small |z|^degree term keeps the top-degree Gram block definite
+            r_top = float(self.volume(it.v, it.level)[1].max())
+            top = self._radial(degree, 1e-3 * it.level / r_top**degree)
+            top = self._pad(top, sh["v_support"])
+            padded = self._pad(it.v, sh["v_support"])
+            start = NumPoly(padded.exps, padded.coeffs + top.coeffs)
+            nxt = self.level_of(start, degree, it.level)
+            if nxt is None:
+                return it
+            nxt.history = it.history
+            it = nxt
+        stall = 0
+        for k in range(1, self.cfg.max_iterations + 1):
+            if time.perf_counter() - t0 > self.cfg.seconds_per_degree:
+                break
+            ring, w = self.ring(it.v, it.level)
+            cand = self.shape_step(it, sh, ring, w)
+            best_v, best_vol = it.v, it.volume
+            for t in (1.0, 0.5, 0.25, 0.125):
+                vt = NumPoly(it.v.exps, it.v.coeffs + t * (cand.coeffs - it.v.coeffs))
+                vol, _ = self.volume(vt, it.level)
+                if vol > best_vol:
+                    best_v, best_vol = vt, vol
+                    break
+            scale = it.level
+            v_norm = NumPoly(best_v.exps, best_v.coeffs / scale)
+            nxt = self.level_of(v_norm, degree, 1.0)
+            if nxt is None or nxt.volume < it.volume * (1 + 1e-9):
+                stall += 1
+                if nxt is None or stall >= self.cfg.stall_iterations:
+                    break
+                if nxt.volume < it.volume:
+                    continue
+            gain = nxt.volume / it.volume - 1
+            stall = stall + 1 if gain < self.cfg.stall_gain else 0
+            nxt.history = [*it.history, (degree, k, nxt.level, nxt.volume)]
+            it = nxt
+            self.say(
+                f"degree {degree}, iteration {k}: level {it.level:.6g}, "
+                f"size {it.volume:.6g}, {time.perf_counter() - t0:.1f} s"
+            )
+            if stall >= self.cfg.stall_iterations:
+                break
+        return it
+
+
+def _gram_poly(basis: np.ndarray, gram: np.ndarray) -> NumPoly:
+    """``b' G b`` as a numerical polynomial."""
+    top = int(basis.sum(axis=1).max()) * 2
+    index = MonoIndex(basis.shape[1], top)
+    coeffs = gram_map(basis, index) @ gram.ravel(order="F")
+    keep = np.abs(coeffs) > 0
+    return NumPoly(index.exps[keep], coeffs[keep])
