@@ -43,39 +43,55 @@ _FUNCS = {
 }
 
 
-def numpy_function(expr: sp.Expr, names: Sequence[str]) -> Callable[..., Any]:
-    """A vectorised numpy function of ``names`` built by walking the exact expression tree."""
+def _compile(e: Any, index: Mapping[str, int]) -> Callable[[Sequence[Any]], Any]:
+    """A closure computing ``e`` from a list of arrays (the sympy tree is walked once)."""
     import numpy as np
     import sympy as sp
 
-    def ev(e: Any, env: Mapping[str, Any]) -> Any:
-        if e.is_Symbol:
-            return env[e.name]
-        if e.is_Number or e.is_NumberSymbol:
-            return float(e)
-        if isinstance(e, sp.Add):
-            total = 0.0
-            for a in e.args:
-                total = total + ev(a, env)
-            return total
-        if isinstance(e, sp.Mul):
-            prod = 1.0
-            for a in e.args:
-                prod = prod * ev(a, env)
-            return prod
-        if isinstance(e, sp.Pow):
-            base, exp = ev(e.args[0], env), e.args[1]
-            if exp.is_Integer:
-                return base ** int(exp) if int(exp) >= 0 else 1.0 / base ** (-int(exp))
-            return np.power(base, ev(exp, env))
-        fn = _FUNCS.get(type(e).__name__)
-        if fn is not None and len(e.args) == 1:
-            return getattr(np, fn)(ev(e.args[0], env))
-        raise ValueError(f"cannot draw the expression {type(e).__name__}")
+    if e.is_Symbol:
+        k = index[e.name]
+        return lambda v: v[k]
+    if e.is_Number or e.is_NumberSymbol:
+        c = float(e)
+        return lambda v: c
+    parts = [_compile(a, index) for a in e.args]
+    if isinstance(e, sp.Add):
+        return lambda v: sum((p(v) for p in parts[1:]), parts[0](v))
+    if isinstance(e, sp.Mul):
+        return lambda v: _product([p(v) for p in parts])
+    if isinstance(e, sp.Pow):
+        base, exp = parts[0], e.args[1]
+        if exp.is_Integer and int(exp) >= 0:
+            n = int(exp)
+            return lambda v: base(v) ** n
+        if exp.is_Integer:
+            n = -int(exp)
+            return lambda v: 1.0 / base(v) ** n
+        power = parts[1]
+        return lambda v: np.power(base(v), power(v))
+    fn = _FUNCS.get(type(e).__name__)
+    if fn is not None and len(parts) == 1:
+        op, arg = getattr(np, fn), parts[0]
+        return lambda v: op(arg(v))
+    raise ValueError(f"cannot draw the expression {type(e).__name__}")
+
+
+def _product(values: list[Any]) -> Any:
+    out = values[0]
+    for x in values[1:]:
+        out = out * x
+    return out
+
+
+def numpy_function(expr: sp.Expr, names: Sequence[str]) -> Callable[..., Any]:
+    """A vectorised numpy function of ``names`` built from the exact expression tree."""
+    import numpy as np
+
+    run = _compile(expr, {n: k for k, n in enumerate(names)})
 
     def f(*values: Any) -> Any:
         with np.errstate(all="ignore"):
-            return ev(expr, dict(zip(names, values, strict=True)))
+            return run(values)
 
     return f
 

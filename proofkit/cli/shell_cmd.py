@@ -1,0 +1,56 @@
+"""``proofkit shell [FILE]``: the interactive shell (see :mod:`proofkit.shell`).
+
+On a terminal: prompt, history, completion. With piped standard input: reads
+statements and commands line by line without prompt decorations. Exit 0 at
+``quit`` or end of input; errors inside the session are shown and the session
+goes on. Top-level imports are stdlib only.
+"""
+
+from __future__ import annotations
+
+import argparse
+from typing import Any
+
+__all__ = ["register", "run"]
+
+EXAMPLE = """example:
+  proofkit shell worked/valve_latch.pk
+  printf 'state x\\ndx/dt = -x^3\\nequilibria\\nquit\\n' | proofkit shell
+
+inside the shell:
+  state x, y
+  dx/dt = y
+  dy/dt = -x - y + x^3/3
+  equilibrium origin at x = 0, y = 0
+  equilibria
+  linearize origin
+  try origin stable
+  help
+"""
+
+
+def register(subparsers: Any) -> None:
+    p = subparsers.add_parser(
+        "shell",
+        help="type a model line by line and ask questions interactively",
+        description="An interactive session: type model statements line by line (re-typing "
+        "one with the same name replaces it) and ask questions with commands (show, "
+        "equilibria, linearize, try, prove, basin, cycles, write, portrait, load, save, help). "
+        "Errors are shown with a caret and the session goes on.",
+        epilog=EXAMPLE,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    p.add_argument("file", metavar="FILE", nargs="?", help="model file (.pk) to start from")
+    p.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
+    p.add_argument(
+        "--json",
+        action="store_true",
+        help="accepted for uniformity; the shell's output is text (use the other commands' --json)",
+    )
+    p.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    from proofkit.shell import run_shell
+
+    return run_shell(args.file, quiet=args.quiet)
