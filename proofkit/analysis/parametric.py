@@ -36,15 +36,19 @@ import sympy as sp
 from proofkit.model import Model
 
 __all__ = [
+    "Box",
     "Cover",
     "Leaf",
     "ParametricResult",
     "RangeSystem",
+    "bernstein",
     "bernstein_sign",
+    "contradicts",
     "cover_box",
     "hurwitz_determinants",
     "parametric_stability",
     "range_system",
+    "simplest_between",
 ]
 
 Mpoly = flint.fmpq_mpoly
@@ -286,6 +290,8 @@ def hurwitz_determinants(coeffs: Sequence[sp.Expr]) -> tuple[sp.Expr, ...]:
 # --- Bernstein expansion ---------------------------------------------------------------------
 def bernstein(p: Mpoly, box: Sequence[tuple[Fraction, Fraction]]) -> list[flint.fmpq]:
     """The Bernstein coefficients of ``p`` over ``box`` (tensor degrees = p's degrees)."""
+    if p.is_zero():  # flint gives the zero polynomial degree -1: its one coefficient is 0
+        return [flint.fmpq(0)]
     ctx = p.context()
     gens = ctx.gens()
     shifted = p.compose(

@@ -2,10 +2,18 @@
 
 from __future__ import annotations
 
+from fractions import Fraction
+
+import flint
 import numpy as np
 import sympy as sp
 
-from proofkit.analysis.parametric import hurwitz_determinants, parametric_stability
+from proofkit.analysis.parametric import (
+    bernstein,
+    hurwitz_determinants,
+    parametric_stability,
+    range_system,
+)
 from proofkit.model import Param
 
 from .helpers import model, sym
@@ -51,9 +59,9 @@ def test_two_parameter_oscillator() -> None:
     assert parametric_stability(m, "o").status == "holds"
 
 
-def test_moving_equilibrium_is_not_handled() -> None:
-    # computed by hand: dx/dt = K - x rests at x = K, which moves; the declared x = 1 is the
-    # equilibrium only at K = 1, so no statement over the range is made
+def test_wrong_point_is_not_an_equilibrium_over_the_range() -> None:
+    # computed by hand: x' = K - x rests at x = K; the declared x = 1 is the equilibrium
+    # only at K = 1, so no statement over the range is made
     m = model(
         "x1",
         [K - x1],
@@ -61,7 +69,57 @@ def test_moving_equilibrium_is_not_handled() -> None:
         params=(Param("K", sp.Integer(1), sp.Integer(0), sp.Integer(2)),),
     )
     r = parametric_stability(m, "e")
-    assert r.status == "unknown" and "moves" in r.reason
+    assert r.status == "unknown" and "not an equilibrium for every parameter value" in r.reason
+
+
+def test_moving_equilibrium() -> None:
+    # computed by hand: x' = K - x rests at x = K with Jacobian -1: stable for every K
+    m = model(
+        "x1",
+        [K - x1],
+        equilibria={"e": {"x1": K}},
+        params=(Param("K", sp.Integer(1), sp.Integer(0), sp.Integer(2)),),
+    )
+    assert parametric_stability(m, "e").status == "holds"
+
+
+def test_moving_equilibrium_with_a_radical() -> None:
+    # computed by hand: x' = K - x^2 rests at x = sqrt(K) with Jacobian -2 sqrt(K); the
+    # radical does not cancel, so r = sqrt(K) is enclosed per sub-box (K in [1/4, 4])
+    m = model(
+        "x1",
+        [K - x1**2],
+        equilibria={"e": {"x1": sp.sqrt(K)}, "f": {"x1": -sp.sqrt(K)}},
+        params=(Param("K", sp.Integer(1), sp.Rational(1, 4), sp.Integer(4)),),
+    )
+    system = range_system(m, "e")
+    assert not isinstance(system, str) and system.radicand is not None
+    assert parametric_stability(m, "e").status == "holds"
+    assert parametric_stability(m, "f").status == "fails"
+    # with K = 0 in the range the point is a double root (Jacobian 0): never proved
+    m0 = model(
+        "x1",
+        [K - x1**2],
+        equilibria={"e": {"x1": sp.sqrt(K)}},
+        params=(Param("K", sp.Integer(1), sp.Integer(0), sp.Integer(4)),),
+    )
+    assert parametric_stability(m0, "e").status == "unknown"
+
+
+def test_bernstein_encloses_the_range() -> None:
+    # computed: numpy on a dense grid; Bernstein coefficients bound the polynomial's range
+    rng = np.random.default_rng(3)
+    ctx = flint.fmpq_mpoly_ctx.get(("a",), "lex")
+    (a,) = ctx.gens()
+    for _ in range(30):
+        cs = [int(v) for v in rng.integers(-5, 6, size=5)]
+        p = sum((c * a**i for i, c in enumerate(cs)), ctx.constant(0))
+        lo, hi = sorted(int(v) for v in rng.integers(-3, 4, size=2))
+        if hi == lo:
+            continue
+        b = [float(x) for x in bernstein(p, [(Fraction(lo), Fraction(hi))])]
+        grid = np.polyval(cs[::-1], np.linspace(lo, hi, 401))
+        assert min(b) <= grid.min() + 1e-9 and grid.max() <= max(b) + 1e-9
 
 
 def test_hurwitz_determinants_against_numpy_roots() -> None:
