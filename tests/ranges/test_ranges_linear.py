@@ -46,7 +46,7 @@ def test_first_order_loop_with_zero_in_range_never_proved(lo: Fraction, hi: Frac
 
 
 def test_first_order_loop_positive_range_proved() -> None:
-    _, attempts, verdicts = certify(_first_order(Fraction(1, 10), Fraction(5)))
+    _, _, verdicts = certify(_first_order(Fraction(1, 10), Fraction(5)))
     assert verdicts[0].status == "proved"
 
 
