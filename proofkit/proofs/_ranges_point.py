@@ -6,7 +6,8 @@ radical ``r* = c sqrt(d)``), and a regular Routh array of ``(s+1)^k q(s + h)``
 shows a root with positive real part (or, against an instability claim, all
 roots in the open left half plane). Arithmetic in Q(sqrt d) is done here with
 ``fractions`` and exact signs (comparing squares); floating point only picks
-the shift ``h`` (a hint). The audit recomputes everything.
+the shift ``h`` (a hint); the Routh array comes from the analysis kernel
+(:mod:`proofkit.analysis.linear`). The audit recomputes everything.
 
 This module must never import :mod:`proofkit.audit` internals and never decide
 a sign from floating point.
@@ -14,7 +15,6 @@ a sign from floating point.
 
 from __future__ import annotations
 
-import itertools
 from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
@@ -22,7 +22,16 @@ from math import isqrt
 from typing import Any
 
 import numpy as np
+import sympy as sp
 
+from proofkit.analysis.linear import (
+    quadratic_element,
+    quadratic_field,
+    routh_rows,
+    shift_and_multiply,
+    sign_changes,
+    sqrt_parts,
+)
 from proofkit.analysis.parametric import RangeSystem
 
 __all__ = ["QS", "value_evidence"]
@@ -45,18 +54,6 @@ class QS:
     def __mul__(self, o: QS) -> QS:
         d = self.d or o.d
         return QS(self.a * o.a + d * self.b * o.b, self.a * o.b + self.b * o.a, d)
-
-    def __truediv__(self, o: QS) -> QS:
-        d = self.d or o.d
-        norm = o.a * o.a - d * o.b * o.b
-        return self * QS(o.a / norm, -o.b / norm, d)
-
-    def sign(self) -> int:
-        sa = (self.a > 0) - (self.a < 0)
-        sb = (self.b > 0) - (self.b < 0)
-        if sb == 0 or sa == sb or sa == 0:
-            return sa or sb
-        return sa if self.a * self.a > self.b * self.b * self.d else sb
 
     def __float__(self) -> float:
         return float(self.a) + float(self.b) * (self.d**0.5 if self.d else 0.0)
@@ -94,47 +91,16 @@ def _eval(p: Any, pt: Sequence[Fraction], r: QS | None) -> QS:
     return QS(a) + (QS(Fraction(0)) if r is None else QS(b) * r)
 
 
-def _shift_multiply(cp: list[QS], h: Fraction, power: int) -> list[QS]:
-    """``(s+1)^power q(s + h)`` highest first (Horner, then products with s + 1)."""
-    zero = QS(Fraction(0))
-    acc = [zero]
-    for c in cp:  # ascending coefficients; acc = acc * (s + h) + c
-        acc = [
-            (acc[i - 1] if i else zero) + (acc[i] * QS(h) if i < len(acc) else zero)
-            for i in range(len(acc) + 1)
-        ]
-        acc[0] = acc[0] + c
-    acc = acc[: len(cp)]
-    for _ in range(power):
-        acc = [
-            (acc[i - 1] if i else zero) + (acc[i] if i < len(acc) else zero)
-            for i in range(len(acc) + 1)
-        ]
-    return acc[::-1]
+def _json(x: Any) -> str | list[str]:
+    a, b = sqrt_parts(x)
+    return str(a) if b == 0 else [str(a), str(b)]
 
 
-def _routh(q: list[QS]) -> list[list[QS]] | None:
-    n = len(q) - 1
-    width = n // 2 + 1
-    zero = QS(Fraction(0))
-    rows = [list(q[0::2]), list(q[1::2])]
-    rows = [r + [zero] * (width - len(r)) for r in rows]
-    while len(rows) < n + 1:
-        a, b = rows[-2], rows[-1]
-        if b[0].sign() == 0:
-            return None
-        rows.append([(b[0] * a[i + 1] - a[0] * b[i + 1]) / b[0] for i in range(width - 1)] + [zero])
-    rows = rows[: n + 1]
-    return None if any(r[0].sign() == 0 for r in rows) else rows
-
-
-def _changes(rows: list[list[QS]]) -> int:
-    signs = [r[0].sign() for r in rows]
-    return sum(1 for s, t in itertools.pairwise(signs) if s != t)
-
-
-def _routh_evidence(cp: list[QS], kind: str) -> dict[str, Any] | None:
+def _routh_evidence(cp: list[QS], d: int, kind: str) -> dict[str, Any] | None:
     """A regular array contradicting ``kind`` ("stable": a root with Re s > h >= 0)."""
+    K = quadratic_field(d)
+    root = sp.sqrt(d) if d else sp.Integer(0)
+    coeffs = [quadratic_element(sp.Rational(c.a) + sp.Rational(c.b) * root, K) for c in cp]
     tries: list[Fraction] = [Fraction(0)]
     if kind == "stable":
         roots = np.roots([float(c) for c in cp]) if len(cp) > 1 else np.array([])
@@ -144,19 +110,18 @@ def _routh_evidence(cp: list[QS], kind: str) -> dict[str, Any] | None:
             tries += [h / 2**k for k in range(6) if h > 0]
     for h in tries:
         for power in (0, 1, 2) if kind == "stable" else (0,):
-            q = _shift_multiply(cp, h, power)
-            rows = _routh(q)
+            q = shift_and_multiply(coeffs, quadratic_element(h, K), power, K)
+            rows = routh_rows(q, K)
             if rows is None:
                 continue
-            changes = _changes(rows)
-            if (kind == "stable" and changes >= 1) or (
-                kind == "unstable" and changes == 0 and all(r[0].sign() > 0 for r in rows)
-            ):
+            changes = sign_changes([r[0] for r in rows])
+            positive = all(r[0].sign() > 0 for r in rows)
+            if (kind == "stable" and changes >= 1) or (kind == "unstable" and positive):
                 return {
                     "shift": str(h),
                     "multiplier_power": power,
-                    "polynomial": [c.json() for c in q],
-                    "rows": [[c.json() for c in r] for r in rows],
+                    "polynomial": [_json(c) for c in q],
+                    "rows": [[_json(c) for c in r] for r in rows],
                     "sign_changes": changes,
                 }
     return None
@@ -181,7 +146,7 @@ def value_evidence(
     ]
     cp = [_eval(c, pt, r) for c in system.charpoly]
     cp = [QS(c.a, c.b, d) for c in cp]
-    routh = _routh_evidence(cp, kind)
+    routh = _routh_evidence(cp, d, kind)
     if routh is None:
         return None
     evidence = {
