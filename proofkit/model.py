@@ -4,7 +4,13 @@ Built only by :mod:`proofkit.lang` (or by tests from sympy objects directly).
 Every number in it is exact (sympy ``Integer``/``Rational`` or an exact
 constant such as ``pi``); no float ever enters. Constants and ``let``
 shorthands are already substituted into equations, sets and points;
-parameters stay symbolic until :meth:`Model.at_nominal`.
+parameters stay symbolic in the field until :meth:`Model.with_fixed` (fixed
+parameters substituted) or :meth:`Model.at_nominal` (every parameter).
+Equilibrium points have the fixed parameters substituted already; a point
+that still contains uncertain parameters moves with them.
+``Model.definedness`` keeps where the field is defined (log arguments
+positive, denominators nonzero, ...), recorded before sympy's automatic
+evaluation could remove a singularity (``0/x``, ``exp(log(x))``).
 
 This module must never parse text, call a solver, or evaluate user strings.
 """
@@ -24,6 +30,7 @@ __all__ = [
     "ClaimKind",
     "Condition",
     "Constant",
+    "Definedness",
     "Equation",
     "Equilibrium",
     "Let",
@@ -73,11 +80,30 @@ class Let:
 
 @dataclass(frozen=True)
 class Equation:
-    """``state' = rhs``; ``rhs`` is in state and parameter symbols only."""
+    """``dstate/dt = rhs``; ``rhs`` is in state and parameter symbols only."""
 
     state: str
     rhs: sp.Expr
     span: SourceSpan | None = field(default=None, compare=False)
+
+
+@dataclass(frozen=True)
+class Definedness:
+    """Where an expression is defined: ``expr relation 0``.
+
+    ``relation`` is ``>`` (log arguments, bases of negative fractional powers),
+    ``>=`` (sqrt arguments, bases of positive fractional powers) or ``!=``
+    (denominators, and ``cos(u)`` for ``tan(u)``); ``origin`` names the
+    construct that needs it ("the argument of log", ...).
+    """
+
+    expr: sp.Expr
+    relation: Literal[">", ">=", "!="]
+    origin: str = field(default="", compare=False)
+    span: SourceSpan | None = field(default=None, compare=False)
+
+    def subs(self, mapping: Mapping[sp.Symbol, sp.Expr]) -> Definedness:
+        return replace(self, expr=self.expr.subs(mapping))
 
 
 @dataclass(frozen=True)
@@ -126,6 +152,16 @@ class Equilibrium:
     def as_dict(self) -> dict[str, sp.Expr]:
         return dict(self.point)
 
+    @property
+    def moves_with_parameters(self) -> bool:
+        """True when the point is written in uncertain parameters (it moves with them)."""
+        return any(v.free_symbols for _, v in self.point)
+
+    @property
+    def parameter_symbols(self) -> frozenset[sp.Symbol]:
+        """The uncertain-parameter symbols the point depends on."""
+        return frozenset().union(*(v.free_symbols for _, v in self.point))
+
 
 @dataclass(frozen=True)
 class Claim:
@@ -157,6 +193,7 @@ class Model:
     domain: Region | None = None
     equilibria: tuple[Equilibrium, ...] = ()
     claims: tuple[Claim, ...] = ()
+    definedness: tuple[Definedness, ...] = field(default=(), compare=False)
     source: str = field(default="", compare=False)
     file: str = field(default="<model>", compare=False)
 
@@ -185,21 +222,42 @@ class Model:
         raise KeyError(name)
 
     # --- derived models ----------------------------------------------------
+    @property
+    def uncertain_params(self) -> tuple[Param, ...]:
+        """The parameters with a range, in declaration order."""
+        return tuple(p for p in self.params if p.is_uncertain)
+
+    @property
+    def fixed_params(self) -> tuple[Param, ...]:
+        """The parameters without a range (fixed at their value)."""
+        return tuple(p for p in self.params if not p.is_uncertain)
+
     def nominal_values(self) -> dict[sp.Symbol, sp.Expr]:
         return {p.symbol: p.nominal for p in self.params}
 
+    def fixed_values(self) -> dict[sp.Symbol, sp.Expr]:
+        return {p.symbol: p.nominal for p in self.fixed_params}
+
     def at_nominal(self) -> Model:
         """The same model with every parameter replaced by its nominal value."""
-        values = self.nominal_values()
+        return self._substituted(self.nominal_values(), keep=())
+
+    def with_fixed(self) -> Model:
+        """The same model with the fixed parameters substituted; uncertain ones stay symbols."""
+        return self._substituted(self.fixed_values(), keep=self.uncertain_params)
+
+    def _substituted(self, values: dict[sp.Symbol, sp.Expr], keep: tuple[Param, ...]) -> Model:
         if not values:
             return self
 
         def sub(e: sp.Expr) -> sp.Expr:
             return sp.expand(e.subs(values))
 
+        defined = (d.subs(values) for d in self.definedness)
         return replace(
             self,
-            params=(),
+            params=keep,
+            definedness=tuple(d for d in defined if d.expr.free_symbols),
             equations=tuple(replace(e, rhs=sub(e.rhs)) for e in self.equations),
             domain=self.domain.subs(values) if self.domain else None,
             equilibria=tuple(

@@ -50,9 +50,10 @@ def _model_dict(model: Model) -> dict[str, Any]:
     return {
         "name": model.name,
         "states": list(model.states),
-        "params": {
-            p.name: {"nominal": format_expr(p.nominal), "range": rng(p)} for p in model.params
-        },
+        "parameters": [  # the certificate's key and shape: fixed ones have range null
+            {"name": p.name, "nominal": format_expr(p.nominal), "range": rng(p)}
+            for p in model.params
+        ],
         "constants": {c.name: format_expr(c.value) for c in model.constants},
         "lets": {let.name: format_expr(let.expr) for let in model.lets},
         "equations": {e.state: format_expr(e.rhs) for e in model.equations},

@@ -19,6 +19,7 @@ import sympy as sp
 from lark import Token, Tree
 
 from proofkit.errors import InputError, SourceSpan
+from proofkit.lang._checks import ModelChecker
 from proofkit.lang._diagnostics import Located, closest, make_error
 from proofkit.lang._expr import (
     FUNCTIONS,
@@ -37,6 +38,7 @@ from proofkit.model import (
     Claim,
     Condition,
     Constant,
+    Definedness,
     Equation,
     Equilibrium,
     Let,
@@ -90,8 +92,10 @@ class _Builder:
         self.lets: list[Let] = []
         self.domain: Region | None = None
         self.domain_line: int | None = None
-        self.equilibria: list[tuple[Equilibrium, Tree]] = []
+        self.equilibria: list[tuple[Equilibrium, Tree, tuple[Definedness, ...]]] = []
         self.claims: list[tuple[Claim, Token | None]] = []
+        self.definedness: list[Definedness] = []
+        self.last_definedness: tuple[Definedness, ...] = ()
 
     # --- helpers ---------------------------------------------------------------
     @staticmethod
@@ -120,6 +124,7 @@ class _Builder:
             builder = ExprBuilder(self.where, self.env, allowed, purpose, self.first_decl)
             self.builders[key] = builder
         v = builder.build(tree)
+        self.last_definedness = tuple(dict.fromkeys(builder.definedness))
         end = v.end_column if v.end_line == v.line else None
         nodes, depth = expression_size(v.expr)
         if nodes > MAX_NODES or depth > MAX_EXPR_DEPTH:
@@ -153,7 +158,13 @@ class _Builder:
     def constant(self, tree: Any, purpose: str) -> sp.Expr:
         return self.expr(tree, _CONST, purpose).expr
 
-    def declare(self, tok: Token, kind: str, value: sp.Expr | None) -> None:
+    def declare(
+        self,
+        tok: Token,
+        kind: str,
+        value: sp.Expr | None,
+        definedness: tuple[Definedness, ...] = (),
+    ) -> None:
         name = str(tok)
         if name in FUNCTIONS or name == "pi":
             what = "the constant pi" if name == "pi" else "a built-in function"
@@ -170,7 +181,7 @@ class _Builder:
                 hint=f"each name is declared once; first declaration at "
                 f"{self.where.file}:{old.line}:{old.column}",
             )
-        self.env[name] = Binding(kind, value, tok.line, tok.column)
+        self.env[name] = Binding(kind, value, tok.line, tok.column, definedness)
 
     # --- statements -----------------------------------------------------------
     def run(self) -> Model:
@@ -249,7 +260,7 @@ class _Builder:
     def st_let(self, st: Tree, index: int) -> None:
         tok, body = st.children
         value = self.expr(body, _DYNAMIC, "a shorthand").expr
-        self.declare(tok, "let", value)
+        self.declare(tok, "let", value, self.last_definedness)
         self.lets.append(Let(str(tok), value, _span(self.where, st.meta)))
 
     def st_equation(self, st: Tree, index: int) -> None:
@@ -295,6 +306,7 @@ class _Builder:
                 hint=f"each state has exactly one equation; first one at {first}",
             )
         rhs = self.expr(body, _DYNAMIC, "an equation").expr
+        self.definedness.extend(self.last_definedness)
         self.equations[name] = Equation(name, rhs, _span(self.where, st.meta))
 
     def region(self, st: Tree, purpose: str) -> Region:
@@ -333,6 +345,7 @@ class _Builder:
                 hint="declare the states first, e.g. state x, y",
             )
         given: dict[str, sp.Expr] = {}
+        point_conditions: list[Definedness] = []
         for a in assigns:
             stok, body = a.children
             sname = str(stok)
@@ -348,6 +361,7 @@ class _Builder:
             if sname in given:
                 raise self.err(f"'{sname}' is given twice in this point", stok)
             given[sname] = self.expr(body, _POINT, "an equilibrium point").expr
+            point_conditions.extend(self.last_definedness)
         missing = [s for s in self.states if s not in given]
         if missing:
             raise self.err(
@@ -356,8 +370,11 @@ class _Builder:
                 hint="give every state: " + ", ".join(f"{s} = ..." for s in self.states),
             )
         self.declare(tok, "equilibrium", None)
-        point = tuple((s, given[s]) for s in self.states)
-        self.equilibria.append((Equilibrium(str(tok), point, _span(self.where, st.meta)), st))
+        fixed = {p.symbol: p.nominal for p in self.params if not p.is_uncertain}
+        point = tuple((s, given[s].subs(fixed)) for s in self.states)
+        own = tuple(dict.fromkeys(d.subs(fixed) for d in point_conditions))
+        eq = Equilibrium(str(tok), point, _span(self.where, st.meta))
+        self.equilibria.append((eq, st, own))
 
     def st_claim(self, st: Tree, index: int) -> None:
         body = st.children[0]
@@ -396,9 +413,9 @@ class _Builder:
                     hint=f"add a line d{tok}/dt = ... giving its time derivative",
                 )
         equations = tuple(self.equations[s] for s in self.states)
-        for eq, st in self.equilibria:
-            self.check_equilibrium(eq, st, equations)
-        names = [e.name for e, _ in self.equilibria]
+        definedness = tuple(dict.fromkeys(self.definedness))
+        self.check(equations, definedness)
+        names = [e.name for e, _, _ in self.equilibria]
         for claim, _tok in self.claims:
             if claim.kind in ("cycle", "no cycle") and len(self.states) != 2:
                 assert claim.span is not None
@@ -432,72 +449,25 @@ class _Builder:
             constants=tuple(self.constants),
             lets=tuple(self.lets),
             domain=self.domain,
-            equilibria=tuple(e for e, _ in self.equilibria),
+            equilibria=tuple(e for e, _, _ in self.equilibria),
             claims=tuple(c for c, _ in self.claims),
+            definedness=definedness,
             source=self.where.text,
             file=self.where.file,
         )
 
-    def check_equilibrium(self, eq: Equilibrium, st: Tree, equations: tuple[Equation, ...]) -> None:
-        """f must vanish exactly at the declared point, for every parameter value."""
-        point = {sp.Symbol(s, real=True): v for s, v in eq.point}
-        residuals = [(e.state, e.rhs.subs(point)) for e in equations]
-        verdicts = [(s, r, _zero_or_unknown(r)) for s, r in residuals]
-        if all(v is True for _, _, v in verdicts):
-            return
-        shown = ", ".join(f"d{s}/dt = {_plain(r)}" for s, r, _ in verdicts)
-        undecided = all(v is not False for _, _, v in verdicts)
-        if undecided:
-            raise self.err(
-                f"could not show exactly that f vanishes at '{eq.name}': residual {shown}",
-                st.meta,
-                hint="give the point in a simpler exact form",
-            )
-        raise self.err(
-            f"'{eq.name}' is not an equilibrium: f does not vanish there; residual {shown}",
-            st.meta,
-            hint="an equilibrium needs every right-hand side to be exactly 0 at the point "
-            "(for every parameter value)",
-        )
-
-
-def _plain(e: sp.Expr) -> str:
-    return show(sp.expand(e), 200)
-
-
-def _is_zero(e: sp.Expr) -> bool | None:
-    """Exact zero test: True, False, or None when it cannot be decided."""
-    if e == 0:
-        return True
-    e = sp.expand(e)
-    if e == 0:
-        return True
-    if e.is_number:
-        z = e.is_zero
-        if z is not None:
-            return bool(z)
-    elif e.is_polynomial():
-        # a polynomial in the parameters is zero iff every coefficient is
-        coeffs = sp.Poly(e, *sorted(e.free_symbols, key=str)).coeffs()
-        verdicts = [_is_zero(c) for c in coeffs]
-        if any(v is False for v in verdicts):
-            return False
-        return True if all(v is True for v in verdicts) else None
-    if sp.count_ops(e) <= 400:
-        s = sp.simplify(e)
-        if s == 0:
-            return True
-        if s.is_number and s.is_zero is False:
-            return False
-    return None
-
-
-def _zero_or_unknown(e: sp.Expr) -> bool | None:
-    """:func:`_is_zero`, with sympy failures on odd input read as "undecided"."""
-    try:
-        return _is_zero(e)
-    except (sp.PolynomialError, ValueError, TypeError, NotImplementedError, ArithmeticError):
-        return None
+    def check(self, equations: tuple[Equation, ...], definedness: tuple[Definedness, ...]) -> None:
+        """The exact whole-model checks (see :mod:`proofkit.lang._checks`)."""
+        assert self.states is not None
+        checker = ModelChecker(self.where, equations, self.params, definedness, self.domain)
+        checker.parameters_only()
+        for eq, st, own in self.equilibria:
+            checker.equilibrium(eq, st.meta, own)
+        if self.domain is not None and self.domain.span is not None:
+            checker.defined_on(self.domain, self.states, "the domain", self.domain.span)
+        for claim, _tok in self.claims:
+            if claim.region is not None and claim.region.span is not None:
+                checker.defined_on(claim.region, self.states, "the claim's set", claim.region.span)
 
 
 def _leq(a: sp.Expr, b: sp.Expr) -> bool | None:

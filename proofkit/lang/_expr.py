@@ -23,6 +23,7 @@ from lark.exceptions import VisitError
 
 from proofkit.errors import InputError
 from proofkit.lang._diagnostics import Located, closest, make_error
+from proofkit.model import Definedness
 
 __all__ = [
     "FUNCTIONS",
@@ -84,6 +85,7 @@ class Binding:
     value: sp.Expr | None
     line: int
     column: int
+    definedness: tuple[Definedness, ...] = ()  # a shorthand's conditions, carried to its uses
 
 
 @dataclass(frozen=True)
@@ -267,6 +269,7 @@ class ExprBuilder(Transformer):
         self.allowed = allowed
         self.purpose = purpose
         self.later = later
+        self.definedness: list[Definedness] = []
 
     # --- helpers -------------------------------------------------------------
     def _err(self, msg: str, line: int, col: int, end: int | None = None, **kw: Any) -> InputError:
@@ -287,6 +290,7 @@ class ExprBuilder(Transformer):
 
     def build(self, tree: Tree | Token) -> Val:
         """Transform one expression tree; names that are bare tokens are handled too."""
+        self.definedness = []
         if not isinstance(tree, Tree):
             return self._token_value(tree)
         try:
@@ -356,7 +360,15 @@ class ExprBuilder(Transformer):
                 hint=f"{self.purpose} may use numbers, pi, functions and {may}",
             )
         assert binding.value is not None
+        self.definedness.extend(binding.definedness)
         return binding.value
+
+    def _require(self, expr: sp.Expr, relation: str, origin: str, v: Val) -> None:
+        """Record where the value being built is defined (before sympy may simplify it away)."""
+        if expr.free_symbols:
+            end = v.end_column if v.end_line == v.line else None
+            span = self.where.span(v.line, v.column, end)
+            self.definedness.append(Definedness(expr, relation, origin, span))  # type: ignore[arg-type]
 
     def __default__(self, data: Any, children: Any, meta: Any) -> Any:  # pragma: no cover
         raise self._err(f"unexpected construct {data}", meta.line, meta.column)
@@ -388,6 +400,7 @@ class ExprBuilder(Transformer):
                 continue
             if v.expr.is_zero:
                 raise self._err_val("division by zero", v)
+            self._require(v.expr, "!=", "a denominator", v)
             factors.append(sp.Pow(v.expr, -1))
             divided = True
         out = Val(sp.Mul(*factors), *_pos(meta))
@@ -435,6 +448,10 @@ class ExprBuilder(Transformer):
                 raise self._err_val("zero raised to a negative power (division by zero)", base)
         if q != 1 and b.is_number and b.is_negative:
             raise self._err_val("a negative number raised to a fractional power is not real", base)
+        if q != 1:
+            self._require(b, ">=" if p > 0 else ">", "the base of a fractional power", base)
+        elif p < 0:
+            self._require(b, "!=", "a denominator", base)
         out = Val(sp.Pow(b, e), *_pos(meta))
         return Val(self._real(out.expr, out), *_pos(meta))
 
@@ -485,5 +502,11 @@ class ExprBuilder(Transformer):
             raise self._err_val(f"{name} of a negative number is not real", v)
         if name == "log" and v.expr.is_zero:
             raise self._err_val("log(0) is not a finite number", v)
+        if name == "log":
+            self._require(v.expr, ">", "the argument of log", v)
+        elif name == "sqrt":
+            self._require(v.expr, ">=", "the argument of sqrt", v)
+        elif name == "tan":
+            self._require(sp.cos(v.expr), "!=", "cos of the argument of tan", v)
         out = Val(FUNCTIONS[name](v.expr), *_pos(meta))
         return Val(self._real(out.expr, out), *_pos(meta))

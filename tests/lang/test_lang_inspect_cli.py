@@ -66,13 +66,13 @@ def test_inspect_text_and_json_of_worked_models(path: Path) -> None:
 def test_json_exact_numbers_and_ranges() -> None:
     # the values as written in worked/trailer_sway.pk and worked/valve_latch.pk
     report = inspect_report(load_model(WORKED / "trailer_sway.pk"))["model"]
-    assert report["params"] == {"k": {"nominal": "1", "range": ["1/2", "2"]}}
+    assert report["parameters"] == [{"name": "k", "nominal": "1", "range": ["1/2", "2"]}]
     assert report["domain"] == ["s^2 <= 4", "w^2 <= 4"]
     assert report["equilibria"]["jackknife"] == {"s": "k", "w": "0"}
     assert report["equations"] == {"s": "w", "w": "s^2 - k*s - w"}
     latch = inspect_report(load_model(WORKED / "valve_latch.pk"))["model"]
     assert latch["equilibria"]["open"] == {"x": "1", "y": "1/2"}
-    assert latch["domain"] is None and latch["params"] == {}
+    assert latch["domain"] is None and latch["parameters"] == []
 
 
 def test_inspect_text_shows_ranges_and_the_domain() -> None:

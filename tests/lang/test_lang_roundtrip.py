@@ -120,8 +120,21 @@ def models(draw: st.DrawFn) -> tuple[str, dict[str, sp.Expr]]:
         conds = draw(st.lists(region, min_size=1, max_size=2))
         return " and ".join(f"{a.text} {op} {b.text}" for a, op, b in conds)
 
+    def domain_text() -> str:
+        # every term on the state side carries a state, so the origin (the declared
+        # equilibrium) lies in the domain for every parameter value
+        conds = []
+        for _ in range(draw(st.integers(1, 2))):
+            a, b = draw(expressions(leaf, 3)), draw(expressions(leaf, 3))
+            side = f"({a.text})*{draw(st.sampled_from(states))}"
+            if draw(st.booleans()):
+                conds.append(f"{side} {draw(st.sampled_from(['<=', '<']))} ({b.text})^2 + 1")
+            else:
+                conds.append(f"({b.text})^2 + 1 {draw(st.sampled_from(['>=', '>']))} {side}")
+        return " and ".join(conds)
+
     if draw(st.booleans()):
-        lines.append(f"domain {set_text()}")
+        lines.append(f"domain {domain_text()}")
     lines.append("equilibrium O at " + ", ".join(f"{s} = 0" for s in states))
     kinds = ["stable", "unstable", "globally stable", "attracts"]
     if n == 2:
