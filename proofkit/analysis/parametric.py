@@ -28,7 +28,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 from math import comb, isqrt
-from typing import Literal
+from typing import Any, Literal
 
 import flint
 import sympy as sp
@@ -46,6 +46,7 @@ __all__ = [
     "contradicts",
     "cover_box",
     "hurwitz_determinants",
+    "moving_point_json",
     "parametric_stability",
     "range_system",
     "simplest_between",
@@ -205,6 +206,37 @@ def range_system(model: Model, name: str) -> RangeSystem | str:
         tuple(cp),
         tuple(hurwitz_conditions(cp, radicand)),
     )
+
+
+def _poly_json(expr: sp.Expr, syms: Sequence[sp.Symbol]) -> list[Any]:
+    terms = sp.Poly(sp.expand(expr), *syms).terms()
+    return [[list(m), str(sp.Rational(c))] for m, c in sorted(terms, reverse=True) if c != 0]
+
+
+def moving_point_json(model: Model, name: str) -> dict[str, Any] | None:
+    """The certificate's ``moving`` structure of equilibrium ``name`` (see DEVELOPERS.md):
+    ``{"coordinates": [POLY]}`` over the uncertain parameters, plus ``"radicand"`` (a POLY
+    over them) when the point has a square root ``r``, which is then the last variable.
+    None when the point is not of the form ``a(p) + b(p) sqrt(g(p))`` with rational
+    polynomial ``a, b, g``."""
+    uncertain = [p for p in model.params if p.is_uncertain]
+    fixed = {p.symbol: p.nominal for p in model.params if not p.is_uncertain}
+    syms = [p.symbol for p in uncertain]
+    values = [sp.expand(v.subs(fixed)) for _, v in model.equilibrium(name).point]
+    form = _radical_form(values, syms)
+    if isinstance(form, str) or any(not v.free_symbols <= set(syms) for v in values):
+        return None
+    g, coords = form
+    big_r = sp.Symbol(_RADICAL)
+    try:
+        if g is None:
+            return {"coordinates": [_poly_json(c, syms) for c in coords]}
+        return {
+            "coordinates": [_poly_json(c, [*syms, big_r]) for c in coords],
+            "radicand": _poly_json(g, syms),
+        }
+    except (sp.PolynomialError, TypeError):
+        return None
 
 
 def _split_radical(c: Mpoly, radicand: Mpoly | None) -> tuple[Mpoly, Mpoly]:

@@ -374,7 +374,8 @@ def _good(kind: str) -> Callable[[Sequence[int]], bool]:
 def _check_range(model: ModelData, claim: ClaimData, checks: Checks) -> None:
     ev, w = claim.evidence, f"{claim.where}.evidence"
     only_keys(ev, {"variables", "characteristic_polynomial", "conditions", "cover", "margins"}, w)
-    require(claim.d == 0, "number field", "a moving point carries its radical itself")
+    if claim.moving is not None:
+        require(claim.d == 0, "number field", "a moving point carries its radical itself")
     sys = _System(model, claim)
     names = get(ev, "variables", list, w)
     ok = (

@@ -34,6 +34,7 @@ from proofkit.analysis.parametric import (
     Cover,
     RangeSystem,
     cover_box,
+    moving_point_json,
     range_system,
 )
 from proofkit.model import Claim, Model
@@ -80,28 +81,21 @@ def _iv(lo: Fraction, hi: Fraction) -> list[str]:
     return [str(lo), str(hi)]
 
 
-def equilibrium_json(system: RangeSystem, name: str) -> dict[str, Any]:
-    """The claim's equilibrium: ``point`` when it is rational and fixed, else ``moving``."""
-    fixed = system.radicand is None and all(
-        b.is_zero() and a.is_constant() for a, b in system.point
-    )
-    if fixed:
-        return {
-            "name": name,
-            "point": [
-                str(a.coefficients()[0]) if not a.is_zero() else "0" for a, _ in system.point
-            ],
-        }
-    ctx = system.ctx
-    r = ctx.gens()[-1] if system.radical else None
-    coords = [a + b * r if r is not None else a for a, b in system.point]
-    moving: dict[str, Any] = {"coordinates": [_poly(c) for c in coords]}
-    if system.radicand is not None:
-        moving["radicand"] = [
-            [[int(k) for k in e[:-1]], str(c)]
-            for e, c in sorted(system.radicand.to_dict().items(), reverse=True)
-        ]
-    return {"name": name, "moving": moving}
+def equilibrium_json(model: Model, name: str) -> dict[str, Any] | None:
+    """The claim's equilibrium when it moves with the parameters (``moving``), else None:
+    a fixed point keeps the ``point`` that :func:`certificate.claim_structure` writes."""
+    values = [v for _, v in model.equilibrium(name).point]
+    uncertain = {p.symbol for p in model.params if p.is_uncertain}
+    if not any(v.free_symbols & uncertain for v in values):
+        return None
+    moving = moving_point_json(model, name)
+    return None if moving is None else {"name": name, "moving": moving}
+
+
+def _set_point(entry: dict[str, Any], model: Model, claim: Claim) -> None:
+    moving = equilibrium_json(model, claim.target or "")
+    if moving is not None:
+        entry["claim"]["equilibrium"] = moving
 
 
 def _cover_json(cover: Cover) -> list[dict[str, Any]]:
@@ -171,7 +165,7 @@ def _from_cover(model: Model, claim: Claim, system: RangeSystem, cover: Cover, s
             number_field={"sqrt": str(d)} if d else None,
             evidence=evidence,
         )
-        entry["claim"]["equilibrium"] = equilibrium_json(system, claim.target or "")
+        _set_point(entry, model, claim)
         what = "a root in the right half plane" if kind == "stable" else "all roots in the left"
         return RangeAttempt(entry, f"it breaks at {at}: the linearization has {what} there")
     if cover.status == "undecided":
@@ -195,10 +189,11 @@ def _from_cover(model: Model, claim: Claim, system: RangeSystem, cover: Cover, s
         "proved",
         method=METHOD,
         theorem=THEOREM[kind],
-        number_field=None,
         evidence=evidence,
     )
-    entry["claim"]["equilibrium"] = equilibrium_json(system, claim.target or "")
+    if equilibrium_json(model, claim.target or "") is not None:
+        entry["number_field"] = None  # a moving point carries its radical itself
+    _set_point(entry, model, claim)
     ranges = ", ".join(
         f"{n} in [{lo}, {hi}]" for n, (lo, hi) in zip(system.params, system.box, strict=True)
     )
