@@ -1,9 +1,18 @@
 """``proofkit prove FILE``: prove the claims of a model, audited before reporting.
 
-A claim is "proved" only when the audit accepted the final certificate text.
-``--out DIR`` writes certificate.json, proof.md, proof.tex (and phase.png for
-planar models) even when some claims are not proved. Exit 0 when all claims
-are proved, 1 otherwise, 2 on input errors. Top-level imports are stdlib only.
+A claim is "proved" only when the audit accepted the final certificate text;
+"refuted" when the audit accepted exact evidence (or a counterexample) that it
+is false; otherwise "not proved", with the reason. ``--out DIR`` writes
+certificate.json, proof.md, proof.tex (and phase.png for planar models) even
+when some claims are not proved; the documents are rendered from the audit
+report of this run (never re-audited). Exit 0 when all claims are proved, 1
+otherwise, 2 on input errors (a missing file, a directory, a pipe or device,
+an empty ``--out``), 3 on an internal error.
+
+May import: the standard library at top level; ``proofkit`` (loading, the
+proving run, the report) inside ``run``. Must never mark a claim proved
+itself, import ``proofkit.audit.algebra`` or ``proofkit.audit.numbers``, or
+open a path that is not a regular file (a FIFO would block).
 """
 
 from __future__ import annotations
@@ -11,19 +20,36 @@ from __future__ import annotations
 import argparse
 import hashlib
 import json
+import os
+import stat
 import sys
 from pathlib import Path
 from typing import Any
 
-__all__ = ["register", "run", "write_outputs"]
+__all__ = ["STATUS_WORDS", "register", "run", "status_word", "write_outputs"]
+
+STATUS_WORDS = ("proved", "refuted", "not proved")
+_EXAMPLE = """example:
+  proofkit prove pendulum.pk --out proof/
+      proves each claim, audits the certificate once, and writes
+      proof/certificate.json, proof/proof.md, proof/proof.tex (and proof/phase.png)
+  proofkit prove pendulum.pk --json --quiet
+      prints {"claims": [...], "summary": {...}} and nothing on stderr
+
+exit codes: 0 all claims proved, 1 some claim refuted or not proved,
+            2 bad input, 3 internal error (a bug)"""
 
 
 def register(subparsers: Any) -> None:
     p = subparsers.add_parser(
         "prove",
         help="prove the claims of a model and write an audited certificate",
-        description="Prove each claim of a model with the methods available (linearization "
-        "for 'stable'/'unstable'); a claim counts as proved only after the audit accepted it.",
+        description="Prove each claim of a model with the methods available; a claim counts "
+        "as proved only after the audit accepted the certificate. Each claim ends as "
+        "'proved', 'refuted' (with the evidence or counterexample) or 'not proved' (with "
+        "the reason).",
+        epilog=_EXAMPLE,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     p.add_argument("file", metavar="FILE", help="model file (.pk)")
     p.add_argument("--json", action="store_true", help="print the claim results as JSON")
@@ -32,7 +58,39 @@ def register(subparsers: Any) -> None:
         metavar="DIR",
         help="write certificate.json, proof.md, proof.tex (and figures) into DIR",
     )
+    p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
     p.set_defaults(func=run)
+
+
+def status_word(status: str) -> str:
+    """The one status vocabulary: proved / refuted / not proved."""
+    if status in STATUS_WORDS:
+        return status
+    return "refuted" if "counterexample" in status else "not proved"
+
+
+def _check_paths(file: str, out: str | None) -> None:
+    """Refuse inputs that would block or silently do nothing, before any work."""
+    from proofkit.errors import InputError
+
+    try:
+        mode = os.stat(file).st_mode
+    except FileNotFoundError:
+        raise InputError(f"{file}: no such file", hint="check the path") from None
+    except OSError as err:
+        raise InputError(f"{file}: cannot be read ({err.strerror or err})") from None
+    if stat.S_ISDIR(mode):
+        raise InputError(f"{file}: is a directory, not a model file")
+    if not stat.S_ISREG(mode):
+        raise InputError(
+            f"{file}: is not a regular file (a pipe, device or socket)",
+            hint="save the model to a file and give its path",
+        )
+    if out is not None:
+        if not out.strip():
+            raise InputError("--out: the directory name is empty", hint="--out proof/")
+        if Path(out).exists() and not Path(out).is_dir():
+            raise InputError(f"--out {out}: cannot write there: it exists and is not a directory")
 
 
 def write_outputs(run_result: Any, out: Path, command: str) -> list[Path]:
@@ -61,17 +119,65 @@ def write_outputs(run_result: Any, out: Path, command: str) -> list[Path]:
     return written
 
 
+def _summary(outcomes: Any) -> dict[str, int]:
+    counts = dict.fromkeys(STATUS_WORDS, 0)
+    for o in outcomes:
+        counts[status_word(o.status)] += 1
+    return counts
+
+
+def _clean(text: str) -> str:
+    """Printable text only: control characters could rewrite the terminal line."""
+    return "".join(c if c.isprintable() else f"\\x{ord(c):02x}" for c in text)
+
+
+def summary_text(result: Any, sha256: str) -> str:
+    """The text report of a run: one line per claim, then the counts and the audit."""
+    lines = []
+    for o in result.outcomes:
+        word = status_word(o.status)
+        method = f" [{o.method}]" if o.method and word != "not proved" else ""
+        lines.append(f"{word:<10}  {_clean(o.claim)}{method}: {_clean(o.detail)}")
+    c = _summary(result.outcomes)
+    lines.append(
+        f"{c['proved']} of {len(result.outcomes)} claim(s) proved, {c['refuted']} refuted, "
+        f"{c['not proved']} not proved; certificate audited exactly once (sha256 {sha256[:16]})"
+    )
+    if not result.provenance.ok:
+        lines.append("provenance problems: " + _clean("; ".join(result.provenance.problems)))
+    return "\n".join(lines)
+
+
+def _json(result: Any, sha256: str) -> str:
+    claims = []
+    for o in result.outcomes:
+        item = o.as_json()
+        item["status"] = status_word(o.status)
+        claims.append(item)
+    data = {
+        "claims": claims,
+        "summary": _summary(result.outcomes),
+        "certificate_sha256": sha256,
+        "provenance_ok": bool(result.provenance.ok),
+    }
+    return json.dumps(data, indent=2)
+
+
 def run(args: argparse.Namespace) -> int:
+    _check_paths(args.file, args.out)
     from proofkit import load
     from proofkit.proofs import prove_model
 
-    model = load(args.file)
+    quiet = getattr(args, "quiet", False)
 
     def progress(msg: str) -> None:
-        print(f"proofkit: {msg}", file=sys.stderr)
+        if not quiet:
+            print(f"proofkit: {_clean(msg)}", file=sys.stderr)
 
+    model = load(args.file)
     result = prove_model(model, progress)
-    if args.out:
+    sha256 = hashlib.sha256(result.text.encode()).hexdigest()
+    if args.out is not None:
         command = f"proofkit prove {args.file} --out {args.out}"
         try:
             for path in write_outputs(result, Path(args.out), command):
@@ -79,14 +185,5 @@ def run(args: argparse.Namespace) -> int:
         except OSError as exc:
             print(f"error: cannot write into {args.out}: {exc}", file=sys.stderr)
             return 2
-    if args.json:
-        print(json.dumps({"claims": [o.as_json() for o in result.outcomes]}, indent=2))
-    else:
-        for o in result.outcomes:
-            method = f" [{o.method}]" if o.method else ""
-            print(f"{o.status:>14}  {o.claim}{method}: {o.detail}")
-        proved = sum(o.status == "proved" for o in result.outcomes)
-        print(f"{proved} of {len(result.outcomes)} claim(s) proved; certificate audited exactly")
-        if not result.provenance.ok:
-            print("provenance problems: " + "; ".join(result.provenance.problems))
-    return 0 if result.all_proved else 1
+    print(_json(result, sha256) if args.json else summary_text(result, sha256))
+    return 0 if result.all_proved and result.provenance.ok else 1
