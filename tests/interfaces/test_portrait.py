@@ -1,0 +1,167 @@
+"""Phase portraits: file formats, and that what is drawn is what ``inspect`` found."""
+
+from __future__ import annotations
+
+import contextlib
+import io
+import json
+import os
+import struct
+import subprocess
+import sys
+from dataclasses import dataclass
+from pathlib import Path
+
+import pytest
+
+import proofkit
+
+from .models import CONVECTION, DUFFING, DUFFING_POINTS
+
+PY = sys.executable
+
+
+@dataclass
+class Done:
+    returncode: int
+    stdout: str
+    stderr: str
+
+
+def _run(*args: str, cwd: Path | None = None) -> Done:
+    """``proofkit ARGS`` in this process (the entry point itself is run once, below)."""
+    from proofkit.cli import main
+
+    out, err = io.StringIO(), io.StringIO()
+    here = Path.cwd()
+    try:
+        os.chdir(cwd or here)
+        with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+            code = main(list(args))
+    finally:
+        os.chdir(here)
+    return Done(code, out.getvalue(), err.getvalue())
+
+
+def test_the_command_runs_as_a_program(tmp_path: Path) -> None:
+    f = tmp_path / "d.pk"
+    f.write_text(DUFFING, encoding="utf-8")
+    done = subprocess.run(
+        [PY, "-m", "proofkit", "portrait", str(f), "-o", str(tmp_path / "d.png")],
+        capture_output=True,
+        text=True,
+        timeout=300,
+    )
+    assert done.returncode == 0, done.stderr
+    assert "wrote" in done.stderr and (tmp_path / "d.png").stat().st_size > 10_000
+
+
+@pytest.fixture()
+def duffing_file(tmp_path: Path) -> Path:
+    f = tmp_path / "duffing.pk"
+    f.write_text(DUFFING, encoding="utf-8")
+    return f
+
+
+def test_png_svg_pdf_files(duffing_file: Path, tmp_path: Path) -> None:
+    for suffix, magic in (("png", b"\x89PNG"), ("svg", b"<?xml"), ("pdf", b"%PDF")):
+        out = tmp_path / f"p.{suffix}"
+        done = _run("portrait", str(duffing_file), "-o", str(out), "--quiet")
+        assert done.returncode == 0, done.stderr
+        data = out.read_bytes()
+        assert data.startswith(magic) and len(data) > 10_000, suffix
+        if suffix == "png":
+            width, height = struct.unpack(">II", data[16:24])
+            assert (width, height) == (640, 560)
+        if suffix == "svg":
+            assert "origin" in data.decode() and "saddle (unstable)" in data.decode()
+
+
+def test_default_output_name_and_json(duffing_file: Path, tmp_path: Path) -> None:
+    done = _run("portrait", str(duffing_file.resolve()), "--json", "--quiet", cwd=tmp_path)
+    assert done.returncode == 0, done.stderr
+    report = json.loads(done.stdout)
+    assert Path(report["file"]).name == "duffing.png" and (tmp_path / "duffing.png").is_file()
+    assert {tuple(e["point"]): e["verdict"] for e in report["equilibria"]} == DUFFING_POINTS
+
+
+def test_drawn_equilibria_match_inspect(duffing_file: Path) -> None:
+    cli = _run("inspect", str(duffing_file), "--json")
+    found = {
+        (e["numeric"]["x"], e["numeric"]["y"]): (e["name"], e["verdict"], e["type"])
+        for e in json.loads(cli.stdout)["equilibria"]
+    }
+    fig = proofkit.portrait(duffing_file).figure()
+    (ax,) = fig.axes
+    marks = {}
+    for line in ax.lines:
+        gid = line.get_gid() or ""
+        if gid.startswith("equilibrium "):
+            _, verdict, name = gid.split(" ", 2)
+            xs, ys = line.get_data()
+            marks[(float(xs[0]), float(ys[0]))] = (name, verdict, line.get_marker())
+    assert set(marks) == set(found)
+    for xy, (name, verdict, _type) in found.items():
+        drawn_name, drawn_verdict, _marker = marks[xy]
+        assert drawn_name == str(name)
+        assert drawn_verdict == ("saddle" if _type == "saddle" else verdict)
+    shapes = {v: m for _n, v, m in marks.values()}
+    assert len(set(shapes.values())) == len(shapes)  # one marker shape per verdict
+    words = [t.get_text() for t in ax.get_legend().get_texts()]
+    assert "stable (asymptotically)" in words and "saddle (unstable)" in words
+    separatrices = [ln for ln in ax.lines if ln.get_gid() == "separatrix"]
+    assert len(separatrices) == 4 * 2  # two saddles, four branches each
+
+
+def test_planes_of_a_larger_model(tmp_path: Path) -> None:
+    model = proofkit.parse(CONVECTION)
+    through_origin = proofkit.portrait(model, plane=("x", "z"), at={"y": 0})
+    # published (Sparrow 1982; Strogatz 9.2): for rho = 10 the origin is unstable and the
+    # convecting points (+-sqrt(24), +-sqrt(24), 9) are stable
+    assert [(p.xy, p.verdict) for p in through_origin.data.points] == [((0.0, 0.0), "unstable")]
+    through_c = proofkit.portrait(model, plane=("x", "z"), at={"y": 24**0.5})
+    [(xy, verdict)] = [(p.xy, p.verdict) for p in through_c.data.points]
+    assert verdict == "stable" and xy == pytest.approx((24**0.5, 9.0))
+    f = tmp_path / "c.pk"
+    f.write_text(CONVECTION, encoding="utf-8")
+    done = _run("portrait", str(f), "--plane", "x,z", "--at", "y=0", "-o", str(tmp_path / "s.png"))
+    assert done.returncode == 0, done.stderr
+
+
+def test_certificate_regions_only_from_the_same_model(duffing_file: Path, tmp_path: Path) -> None:
+    out = tmp_path / "run"
+    assert _run("prove", str(duffing_file), "--out", str(out)).returncode == 0
+    cert = out / "certificate.json"
+    ok = _run(
+        "portrait", str(duffing_file), "--certificate", str(cert), "-o", str(tmp_path / "a.png")
+    )
+    assert ok.returncode == 0, ok.stderr
+    other = tmp_path / "other.pk"
+    other.write_text(DUFFING.replace("- y\n", "- 2*y\n"), encoding="utf-8")
+    bad = _run("portrait", str(other), "--certificate", str(cert), "-o", str(tmp_path / "b.png"))
+    assert bad.returncode == 2 and "another model" in bad.stderr
+
+
+@pytest.mark.parametrize(
+    ("args", "message"),
+    [
+        (["-o", "x.gif"], "unknown picture format"),
+        (["--plane", "x,q"], "'q' is not a state"),
+        (["--plane", "x,x"], "two different states"),
+        (["--at", "y"], "NAME=VALUE"),
+    ],
+)
+def test_bad_options_exit_2_with_a_message(
+    duffing_file: Path, args: list[str], message: str, tmp_path: Path
+) -> None:
+    done = _run("portrait", str(duffing_file), *args, cwd=tmp_path)
+    assert done.returncode == 2 and message in done.stderr and "Traceback" not in done.stderr
+
+
+def test_document_portrait_from_a_certificate(duffing_file: Path, tmp_path: Path) -> None:
+    from proofkit.report.figures import certificate_portrait_data
+
+    run = proofkit.prove(duffing_file)
+    data = certificate_portrait_data(run.certificate)
+    assert data is not None
+    assert {p.xy: p.verdict for p in data.points} == {(0.0, 0.0): "stable", (1.0, 0.0): "saddle"}
