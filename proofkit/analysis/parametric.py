@@ -481,7 +481,7 @@ def cover_box(
             continue
         verdict = _probe_box(system, pbox, full, conds, kind, signs)
         if isinstance(verdict, tuple):
-            return Cover("fails", point=verdict)
+            return Cover("fails", point=_simpler(system, kind, box, verdict))
         if verdict:
             touched = touched or verdict
             continue  # a condition vanishes at a point of this box: it can never be covered
@@ -507,6 +507,26 @@ def simplest_between(lo: Fraction, hi: Fraction) -> Fraction:
     if fl == lo or fl + 1 <= hi:
         return Fraction(fl) if fl == lo else Fraction(fl + 1)
     return fl + 1 / simplest_between(1 / (hi - fl), 1 / (lo - fl))
+
+
+def _simpler(
+    system: RangeSystem, kind: str, box: Box, pt: tuple[Fraction, ...]
+) -> tuple[Fraction, ...]:
+    """A contradicting value with small denominators near ``pt`` ("it breaks at rho = 25"):
+    the simplest rational of windows of half, a quarter, ... of the box around ``pt``."""
+    widths = [hi - lo for lo, hi in box]
+    for k in range(1, 9):
+        cand = tuple(
+            simplest_between(max(lo, x - w / 2**k), min(hi, x + w / 2**k))
+            for (lo, hi), x, w in zip(box, pt, widths, strict=True)
+        )
+        if cand == pt:
+            return pt
+        if sum(v.denominator for v in cand) <= sum(v.denominator for v in pt) and contradicts(
+            system, kind, cand
+        ):
+            return cand
+    return pt
 
 
 def linearization_at(system: RangeSystem, pt: Sequence[Fraction]):

@@ -60,6 +60,7 @@ from proofkit.audit.read import (
 from proofkit.audit.schemas import Checks, ClaimData, ModelData, require, schema
 
 __all__ = [
+    "MAX_BERNSTEIN",
     "MAX_BOXES",
     "METHOD",
     "bernstein",
@@ -70,7 +71,9 @@ __all__ = [
 ]
 
 METHOD = "range-linearization"
-MAX_BOXES = 20000  # sub-boxes of one cover
+MAX_BOXES = 5000  # sub-boxes of one cover
+MAX_WORK_TERMS = 20000  # terms of any polynomial the audit forms in the parameters
+MAX_BERNSTEIN = 2_000_000  # Bernstein coefficients computed for one cover
 MAX_STATES = 8  # the Hurwitz minors are expanded without division
 MAX_POWER = 4
 Q = dict[tuple[int, ...], Fraction]  # a polynomial over (parameters..., r)
@@ -92,6 +95,7 @@ def _mul(p: Q, q: Q, g: Q | None) -> Q:
         for e2, c2 in q.items():
             e = tuple(a + b for a, b in zip(e1, e2, strict=True))
             out[e] = out.get(e, Fraction(0)) + c1 * c2
+    require(len(out) <= MAX_WORK_TERMS, "size", f"more than {MAX_WORK_TERMS} terms in a product")
     return _reduce({e: c for e, c in out.items() if c}, g)
 
 
@@ -281,6 +285,13 @@ def bernstein(p: Q, box: Sequence[tuple[Fraction, Fraction]]) -> list[Fraction]:
     return [*grid.values(), *([Fraction(0)] if len(grid) < size else [])]
 
 
+def _grid_size(p: Q, nv: int) -> int:
+    size = 1
+    for i in range(nv):
+        size *= 1 + max((e[i] for e in p), default=0)
+    return size
+
+
 def _tiles(boxes: list[Box], full: Box) -> bool:
     """The closed boxes lie in ``full``, have disjoint interiors and full total volume."""
     axes = [i for i, (lo, hi) in enumerate(full) if hi > lo]
@@ -334,6 +345,8 @@ def _check_cover(
     """Every sub-box proves its signs; the sub-boxes tile ``full`` (parameters only)."""
     if not isinstance(data, list) or not data or len(data) > MAX_BOXES:
         raise FormatError(f"{where}: expected 1 to {MAX_BOXES} sub-boxes")
+    work = len(data) * sum(_grid_size(c, sys.nv) for c in [*conds, g or {}])
+    require(work <= MAX_BERNSTEIN, "size", f"{work} Bernstein coefficients exceed {MAX_BERNSTEIN}")
     boxes = []
     for k, item in enumerate(data):
         w = f"{where}[{k}]"

@@ -57,6 +57,7 @@ def test_range_crossing_is_refuted_above_the_hopf_value() -> None:
     _, attempts, verdicts = certify(convection(20, 30))
     assert verdicts[0].status == "refuted"
     value = Fraction(attempts[0].entry["evidence"]["parameters"]["rho"])
+    assert value == 25  # the simplest value in the failing part: "it breaks at rho = 25"
     assert RHO_H < value <= 30
     assert f"rho = {value}" in attempts[0].detail
     # computed: numpy eigenvalues of the Jacobian at that value have a positive real part
