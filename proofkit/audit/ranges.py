@@ -378,6 +378,10 @@ def _check_cover(
     return len(boxes)
 
 
+def _boxes(count: int) -> str:
+    return "1 sub-box" if count == 1 else f"{count} sub-boxes"
+
+
 def _good(kind: str) -> Callable[[Sequence[int]], bool]:
     if kind == "stable":
         return lambda s: all(v == 1 for v in s)
@@ -427,9 +431,10 @@ def _check_range(model: ModelData, claim: ClaimData, checks: Checks) -> None:
         "hurwitz",
         "the stated Hurwitz conditions differ from the recomputed ones",
     )
+    names = [*(f"Delta_{k}" for k in range(1, sys.n)), f"a_{sys.n}"]
     checks.ok(
-        f"det(sI - J) and the Hurwitz conditions Delta_1..Delta_{sys.n - 1}, a_{sys.n} "
-        "recomputed as polynomials in the parameters"
+        f"det(sI - J) and the Hurwitz conditions {', '.join(names)} recomputed as polynomials "
+        "in the parameters"
     )
     good = _good(claim.kind)
     count = _check_cover(sys, conds, sys.g, sys.box, ev.get("cover"), good, f"{w}.cover")
@@ -439,7 +444,8 @@ def _check_range(model: ModelData, claim: ClaimData, checks: Checks) -> None:
         else "the Routh first column has a fixed sign change (or a_n < 0)"
     )
     checks.ok(
-        f"{count} sub-boxes tile the parameter box; on each, by exact Bernstein "
+        f"the parameter box is the union of {_boxes(count)} with disjoint interiors; on each, "
+        "by exact Bernstein "
         f"coefficients, {what}" + (" and sqrt(g) is real" if sys.g is not None else "")
     )
     for k, mg in enumerate(ev.get("margins") or []):
@@ -458,7 +464,10 @@ def _check_margin(
     full = [(v, v) for v in sys.nominal]
     full[j] = (lo, hi)
     count = _check_cover(sys, conds, sys.g, full, data.get("cover"), good, f"{where}.cover")
-    checks.ok(f"margin: {name} in [{lo}, {hi}] with the others at nominal ({count} sub-boxes)")
+    checks.ok(
+        f"stability margin: the same holds for {name} in [{lo}, {hi}] with the other "
+        f"parameters at nominal ({_boxes(count)})"
+    )
 
 
 @schema("stable", METHOD, "range-indirect-method-stability", scopes=("range",))
