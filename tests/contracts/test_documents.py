@@ -1,0 +1,104 @@
+"""Contracts of the proof documents: what a reader of proof.md, proof.tex and phase.png sees.
+
+The documents are rendered from the certificate and the audit report handed
+over by the proving run. Checked here: how a refuted claim is rendered (the
+evidence for the opposite statement and the conclusion), the LaTeX content
+(the exact matrices and polynomials, balanced environments, the status table,
+the cautions), the refusal of a mismatched audit report, and the pixels of
+the phase portrait (not only that the file exists).
+"""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import proofkit
+from proofkit.proofs import prove_model
+from proofkit.report import DocumentMeta, phase_portrait, render_latex, render_markdown
+
+# computed by hand: J(o) = [[0, 1], [-1, -1]], det(sI - J) = s^2 + s + 1, and
+# A'P + PA = -I gives P = [[3/2, 1/2], [1/2, 1]]; J(r) = [[0, 1], [2, -1]],
+# det(sI - J) = s^2 + s - 2 = (s + 2)(s - 1): r is a saddle.
+MODEL = """state x, y
+dx/dt = y
+dy/dt = -x - y + x^3
+equilibrium o at x = 0, y = 0
+equilibrium r at x = 1, y = 0
+claim o stable
+claim r stable
+"""
+
+
+@pytest.fixture(scope="module")
+def run():
+    return prove_model(proofkit.parse(MODEL, "focus_saddle.pk"))
+
+
+def _meta(figure: str | None = None) -> DocumentMeta:
+    return DocumentMeta(
+        command="proofkit prove focus_saddle.pk --out DIR",
+        certificate_sha256="0" * 64,
+        version=proofkit.__version__,
+        figure=figure,
+    )
+
+
+def test_refuted_claim_is_rendered_with_the_evidence_for_the_opposite(run) -> None:
+    assert [o.status for o in run.outcomes] == ["proved", "refuted"]
+    md = render_markdown(run.certificate, run.audit, _meta())
+    assert "| r stable | refuted |" in md
+    part = md[md.index("## Claim 2: r stable") :]
+    part = part[: part.index("\n## ", 5)]
+    assert "s^{2} + s - 2" in part  # the stated characteristic polynomial
+    assert "1 sign change" in part  # Routh's count of right-half-plane roots
+    assert "Conclusion: the claim is false" in part
+    assert "[x]" in part and "[ ]" not in part  # every hypothesis checked
+    assert "holds for the model as written" not in part
+
+
+def test_latex_content(run) -> None:
+    tex = render_latex(run.certificate, run.audit, _meta())
+    assert tex.startswith("\\documentclass") and tex.rstrip().endswith("\\end{document}")
+    for env in ("document", "longtable", "pmatrix", "aligned", "verbatim"):
+        assert tex.count(f"\\begin{{{env}}}") == tex.count(f"\\end{{{env}}}") > 0, env
+    body = re.sub(r"\\begin\{verbatim\}.*?\\end\{verbatim\}", "", tex, flags=re.S)
+    assert body.count("{") - body.count("\\{") == body.count("}") - body.count("\\}")
+    assert "\\begin{pmatrix} 0 & 1 \\\\ -1 & -1 \\end{pmatrix}" in tex
+    assert "s^{2} + s + 1" in tex and "s^{2} + s - 2" in tex
+    assert "\\frac{3}{2} & \\frac{1}{2} \\\\ \\frac{1}{2} & 1" in tex  # P, exact
+    assert "o stable & proved & linearization" in tex
+    assert "r stable & refuted & linearization" in tex
+    assert "qualified engineering review" in tex and "not the physical plant" in tex
+    assert "0" * 64 in tex  # the certificate's SHA-256 for reproduction
+
+
+def test_documents_refuse_an_audit_report_of_another_certificate(run) -> None:
+    other = prove_model(proofkit.parse(MODEL.replace("claim r stable\n", ""), "other.pk"))
+    with pytest.raises(ValueError):
+        render_markdown(run.certificate, other.audit, _meta())
+
+
+def test_phase_portrait_pixels(run, tmp_path: Path) -> None:
+    import matplotlib.image
+
+    path = tmp_path / "phase.png"
+    assert phase_portrait(run.certificate, path)
+    img = matplotlib.image.imread(path)
+    h, w = img.shape[:2]
+    assert h >= 300 and w >= 300
+    rgb = img[..., :3].reshape(-1, 3)
+    assert rgb.std() > 0.05  # not a blank canvas
+    colours = {tuple(c) for c in np.round(rgb[:: max(1, len(rgb) // 20000)] * 8).astype(int)}
+    assert len(colours) >= 4  # flow, equilibria and axes in distinct colours
+    dark = rgb.mean(axis=1) < 0.5
+    assert 0.001 < dark.mean() < 0.5  # lines and labels drawn, not a filled block
+
+
+def test_no_portrait_for_a_one_state_model(tmp_path: Path) -> None:
+    one = prove_model(proofkit.parse("state x\ndx/dt = -x\nequilibrium o at x = 0\n", "one.pk"))
+    assert not phase_portrait(one.certificate, tmp_path / "phase.png")
+    assert not (tmp_path / "phase.png").exists()
