@@ -234,3 +234,20 @@ def test_a_tampered_certificate_fails_the_exact_recheck() -> None:
     gram[-1][-1] = str(Fraction(gram[-1][-1]) + 1)
     assert not check_evidence(model, [Fraction(0)], ev, local=False)[0]
     assert not _audited(model, res.entry)
+
+
+def test_locally_but_not_globally_stable() -> None:
+    # common practice: dx/dt = -x + x^3 has equilibria 0, 1, -1; 0 is stable (f'(0) = -1)
+    # and attracts exactly (-1, 1): a local certificate's sublevel set must lie inside it.
+    model = _model(
+        "state x\ndx/dt = -x + x^3\nequilibrium O at x = 0\n",
+        "claim O stable\nclaim O globally stable\n",
+    )
+    entry, v, lie = _proved(model, 0)
+    level = float(Fraction(entry["evidence"]["numbers"]["level"]))
+    xs = np.linspace(-3, 3, 6001)
+    fv = sp.lambdify(model.state_symbols, v, "numpy")
+    assert np.abs(xs[fv(xs) <= level]).max() < 1
+    _sampled(model, v, lie, 0.99, level)
+    _claim, res = _prove(model, 1)
+    assert res.entry["status"] == "not proved"
