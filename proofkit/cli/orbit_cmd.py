@@ -1,0 +1,166 @@
+"""``proofkit orbit FILE``: locate periodic orbits numerically (not a proof).
+
+Reports each orbit's period, each state's amplitude (largest absolute value
+on the orbit), the Floquet multipliers of the monodromy matrix and the
+orbital-stability verdict; ``--json`` prints ``{"cycles": [...]}``;
+``--out DIR`` draws the orbits on the phase portrait (``orbits.png``) and the
+time series of one period (``period.png``) with matplotlib's Agg backend,
+imported only there. Every number is a floating-point finding, never a proof:
+``proofkit prove`` with ``claim cycle in SET`` certifies one.
+
+Exit 0 when the search ran, 2 on bad input. Top-level imports are stdlib only.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+from typing import Any
+
+__all__ = ["register", "run"]
+
+EXAMPLE = """example:
+  proofkit orbit worked/duct_whistle.pk
+  proofkit orbit oscillator.pk --json --box 4 --out figures/
+
+The cycles are numerical findings (Poincare section, Newton's method on the
+return map, tolerances 1e-12), not proofs.
+"""
+NOT_PROOF = "numerical findings in floating point, not proofs"
+
+
+def register(subparsers: Any) -> None:
+    p = subparsers.add_parser(
+        "orbit",
+        help="locate periodic orbits numerically (period, amplitude, Floquet multipliers)",
+        description="Locate the periodic orbits of a model numerically: simulations from a grid "
+        "of starts (forward and backward in time), then Newton's method on the Poincare return "
+        "map. Reports period, amplitudes, Floquet multipliers and orbital stability. "
+        "Numerical findings, not proofs.",
+        epilog=EXAMPLE,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    p.add_argument("file", metavar="FILE", help="model file (.pk)")
+    p.add_argument("--json", action="store_true", help='print {"cycles": [...]} as JSON')
+    p.add_argument("--out", metavar="DIR", help="write orbits.png and period.png into DIR")
+    p.add_argument(
+        "--box",
+        metavar="W",
+        type=float,
+        default=3.0,
+        help="starts fill the box [-W, W] in every state (default 3, at most 1e6)",
+    )
+    p.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
+    p.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    from proofkit.errors import InputError, ModelError
+    from proofkit.lang import load_model
+
+    if not (0 < args.box <= 1e6):
+        raise InputError(f"--box {args.box}: expected a half-width in (0, 1e6]")
+    if args.out == "":
+        raise InputError("--out: expected a directory name, not an empty string")
+    model = load_model(args.file)
+    say = (lambda _m: None) if args.quiet else (lambda m: print(m, file=sys.stderr))
+    from proofkit.analysis.orbits import find_cycles
+
+    box = tuple((-args.box, args.box) for _ in model.states)
+    try:
+        search = find_cycles(model, box=box, progress=say)
+    except ModelError as err:
+        raise InputError(f"{args.file}: {err}") from None
+    written = _draw(search, model, Path(args.out)) if args.out else []
+    if args.json:
+        data = {"file": args.file, **search.as_json()}
+        if written:
+            data["figures"] = [str(p) for p in written]
+        print(json.dumps(data, indent=2))
+    else:
+        print(_text(search, args.file))
+        for p in written:
+            print(f"wrote {p}")
+    return 0
+
+
+def _fmt(m: Any) -> str:
+    if isinstance(m, list):
+        return f"{m[0]:.6g}{m[1]:+.6g}i"
+    return f"{m:.6g}"
+
+
+def _text(search: Any, file: str) -> str:
+    out = [f"periodic orbits of {file} ({NOT_PROOF})"]
+    if not search.cycles:
+        out.append(f"  none found from {search.starts} starts in the box {list(search.box)}")
+    for k, c in enumerate(search.cycles, 1):
+        d = c.as_json(search.states)
+        verdict = "orbitally stable" if c.stable else "not orbitally stable"
+        out.append(f"  cycle {k}: period {c.period:.12g}, {verdict}")
+        out.append(
+            "    amplitude  " + ", ".join(f"{s} {a:.12g}" for s, a in d["amplitude"].items())
+        )
+        out.append("    multipliers " + ", ".join(_fmt(m) for m in d["multipliers"]))
+        out.append("    point      " + ", ".join(f"{s} = {v:.12g}" for s, v in d["point"].items()))
+    out += [f"  note: {n}" for n in search.notes]
+    if search.cycles:
+        out.append("  to prove one exists: claim cycle in SET, then proofkit prove FILE")
+    return "\n".join(out)
+
+
+def _streamlines(ax: Any, search: Any, model: Any) -> None:
+    """The planar phase portrait behind the orbits (light streamlines)."""
+    import numpy as np
+
+    from proofkit.analysis.orbits import numeric_field
+
+    nf = numeric_field(model)
+    lo = min([b[0] for b in search.box[:2]] + [float(c.orbit[:2].min()) for c in search.cycles])
+    hi = max([b[1] for b in search.box[:2]] + [float(c.orbit[:2].max()) for c in search.cycles])
+    ticks = np.linspace(lo, hi, 60)
+    gx, gy = np.meshgrid(ticks, ticks)
+    with np.errstate(all="ignore"):
+        u, v = nf.f(np.stack([gx.ravel(), gy.ravel()]))
+    ax.streamplot(gx, gy, u.reshape(gx.shape), v.reshape(gx.shape), color="0.75", density=1.0)
+
+
+def _draw(search: Any, model: Any, out: Path) -> list[Path]:
+    """The orbits on the first two states' plane, and one period of each as time series."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    out.mkdir(parents=True, exist_ok=True)
+    names = search.states
+    fig, ax = plt.subplots(figsize=(6, 5))
+    if len(names) == 2:
+        _streamlines(ax, search, model)
+    for k, c in enumerate(search.cycles, 1):
+        style = "-" if c.stable else "--"
+        label = f"cycle {k}: T = {c.period:.4g} ({'stable' if c.stable else 'unstable'})"
+        ax.plot(c.orbit[0], c.orbit[1], style, label=label)
+    ax.set_xlabel(names[0])
+    ax.set_ylabel(names[1])
+    ax.set_aspect("equal", adjustable="datalim")
+    ax.set_title("periodic orbits located numerically (not a proof)")
+    if search.cycles:
+        ax.legend(loc="best", fontsize=8)
+    paths = [out / "orbits.png", out / "period.png"]
+    fig.savefig(paths[0], dpi=120)
+    plt.close(fig)
+    fig, axes = plt.subplots(
+        max(1, len(search.cycles)), 1, figsize=(6, 2.2 * max(1, len(search.cycles))), squeeze=False
+    )
+    for ax, c in zip(axes[:, 0], search.cycles, strict=False):
+        for i, name in enumerate(names):
+            ax.plot(c.times, c.orbit[i], label=name)
+        ax.set_xlabel("t over one period")
+        ax.legend(loc="best", fontsize=8)
+    fig.tight_layout()
+    fig.savefig(paths[1], dpi=120)
+    plt.close(fig)
+    return paths
