@@ -37,7 +37,14 @@ from proofkit.sos._ascent_maps import (
     mult_map,
 )
 
-__all__ = ["AscentSettings", "BasinIterate", "BasinSearch", "directions", "ray_radii"]
+__all__ = [
+    "AscentSettings",
+    "BasinIterate",
+    "BasinSearch",
+    "directions",
+    "fit_squares",
+    "ray_radii",
+]
 
 FEASIBLE = 1e-7  # smallest Gram eigenvalue that counts as a numerical yes
 
@@ -221,6 +228,15 @@ class BasinSearch:
             return None
         return level, margin, {"q0": var["q0"].value.copy(), "q1": var["q1"].value.copy()}
 
+    def at_level(self, v: NumPoly, degree: int, level: float) -> tuple[float, dict] | None:
+        """Margin and Gram matrices of the level probe of ``v`` at one given level."""
+        sh = self.shapes(degree)
+        prob, c, var = self.level_program(self._pad(v, sh["v_support"]), sh)
+        margin = self.probe(prob, c, var, level)
+        if margin is None:
+            return None
+        return margin, {"q0": var["q0"].value.copy(), "q1": var["q1"].value.copy()}
+
     # --- program B: the shape step ------------------------------------------------------
     def shape_step(self, it: BasinIterate, sh: dict, ring: np.ndarray, w: np.ndarray) -> NumPoly:
         index: MonoIndex = sh["index"]
@@ -344,6 +360,46 @@ class BasinSearch:
             if stall >= self.cfg.stall_iterations:
                 break
         return it
+
+
+def fit_squares(
+    p0: NumPoly,
+    terms: list[tuple[NumPoly, np.ndarray]],
+    basis: np.ndarray,
+    solver: str = "CLARABEL",
+) -> tuple[list[np.ndarray], np.ndarray, float] | None:
+    """Gram matrices with ``p0 + sum_i q_i (b_i' M_i b_i) = b' Q b``, all PSD, maximal margin.
+
+    ``terms`` pairs each fixed polynomial ``q_i`` with the basis of its
+    multiplier. Returns the multiplier Gram matrices, ``Q`` and the smallest
+    eigenvalue reached, or None when no positive margin was found.
+    """
+    n = basis.shape[1]
+    top = 2 * int(basis.sum(axis=1).max(initial=0))
+    for q, b in terms:
+        top = max(top, int(q.exps.sum(axis=1).max(initial=0)) + 2 * int(b.sum(axis=1).max()))
+    index = MonoIndex(n, top)
+    qv = cp.Variable((basis.shape[0], basis.shape[0]), symmetric=True)
+    lam = cp.Variable()
+    lhs = gram_map(basis, index) @ cp.vec(qv, order="F")
+    mults, cons = [], []
+    for q, b in terms:
+        m = cp.Variable((b.shape[0], b.shape[0]), symmetric=True)
+        mid = MonoIndex(n, 2 * int(b.sum(axis=1).max()))
+        lhs = lhs - mult_map(q, mid.exps, index) @ gram_map(b, mid) @ cp.vec(m, order="F")
+        cons.append(m - lam * np.eye(b.shape[0]) >> 0)
+        mults.append(m)
+    cons += [lhs == index.vector(p0), qv - lam * np.eye(basis.shape[0]) >> 0, lam <= 1]
+    prob = cp.Problem(cp.Maximize(lam), cons)
+    try:
+        prob.solve(solver=solver)
+    except cp.error.SolverError:
+        return None
+    if prob.status not in ("optimal", "optimal_inaccurate") or lam.value is None:
+        return None
+    if float(lam.value) <= FEASIBLE * 1e-2:
+        return None
+    return [m.value for m in mults], qv.value, float(lam.value)
 
 
 def _gram_poly(basis: np.ndarray, gram: np.ndarray) -> NumPoly:
