@@ -1,7 +1,9 @@
 """The package installs and finds its grammar both as a wheel and editable.
 
 Also keeps the README's set-up commands and `.ci/run` in agreement, and the
-hand-kept package list in pyproject.toml complete.
+hand-kept package list in pyproject.toml complete. The wheel build takes tens
+of seconds and runs under ``pytest -m slow``; the package-data check is its
+fast member in the default run.
 """
 
 from __future__ import annotations
@@ -56,7 +58,24 @@ def test_editable_install_finds_grammar_outside_the_source_tree(tmp_path: Path) 
     assert int(out[1]) > 100
 
 
-@pytest.mark.skipif(os.environ.get("PROOFKIT_SKIP_WHEEL") == "1", reason="PROOFKIT_SKIP_WHEEL=1")
+def test_package_data_covers_the_files_a_wheel_must_ship() -> None:
+    # the fast member of the packaging family: the configuration the wheel build reads
+    import fnmatch
+
+    config = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))
+    data = config["tool"]["setuptools"]["package-data"]
+    dirs = config["tool"]["setuptools"]["package-dir"]
+    for package, name in (
+        ("proofkit.grammar", "model.lark"),
+        ("proofkit.grammar", "LANGUAGE.md"),
+        ("proofkit", "py.typed"),
+        ("proofkit", "certificate.schema.json"),
+    ):
+        assert (ROOT / dirs[package] / name).is_file(), name
+        assert any(fnmatch.fnmatch(name, pat) for pat in data[package]), name
+
+
+@pytest.mark.slow
 def test_wheel_install_ships_grammar_and_spec(tmp_path: Path) -> None:
     wheels = tmp_path / "wheels"
     subprocess.run(
