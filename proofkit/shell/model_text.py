@@ -135,16 +135,22 @@ class StatementSet:
         on its own merits while the model is still being typed."""
         out = self.copy()
         keys = self.key_list()
-        state = next((st for st in self._items if st.key[0] == "state"), None)
-        if state is None:
+        names = self.state_names()
+        if names is None:
             names = [k[1] for k in keys if k[0] == "equation"] or [SCAFFOLD]
             out.put(Statement(("state", ""), "state " + ", ".join(names)))
-        else:
-            names = [n.strip() for n in _strip_comment(state.text)[len("state") :].split(",")]
         for name in names:
-            if _NAME.fullmatch(name) and ("equation", name) not in keys:
+            if ("equation", name) not in keys:
                 out.put(Statement(("equation", name), f"d{name}/dt = 0"))
         return out
+
+    def state_names(self) -> list[str] | None:
+        """The names in the state statement (None when there is none)."""
+        state = next((st for st in self._items if st.key[0] == "state"), None)
+        if state is None:
+            return None
+        names = [n.strip() for n in _strip_comment(state.text)[len("state") :].split(",")]
+        return [n for n in names if _NAME.fullmatch(n)]
 
     def line_of(self, key: tuple[str, str]) -> int:
         """1-based line of the statement with ``key`` in :meth:`text`."""

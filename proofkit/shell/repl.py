@@ -59,7 +59,7 @@ def _names(session: Session) -> list[str]:
 def _states(session: Session) -> list[str]:
     if session.model is not None:
         return list(session.model.states)
-    return [k[1] for k in session.statements.key_list() if k[0] == "equation"]
+    return session.statements.state_names() or []
 
 
 def _session_completer(session: Session) -> Any:
