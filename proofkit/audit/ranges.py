@@ -592,3 +592,8 @@ def range_refute_unstable(model: ModelData, claim: ClaimData, checks: Checks) ->
         "all first-column entries are positive there: the equilibrium is asymptotically "
         "stable at that value, so not unstable for every value"
     )
+
+
+# Lyapunov functions over the ranges (sums of squares with box multipliers) live in a
+# helper module; importing it registers their schemas alongside these.
+from proofkit.audit import _ranges_lyapunov  # noqa: E402, F401

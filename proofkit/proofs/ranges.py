@@ -59,8 +59,8 @@ REFUTING = {
     "unstable": "indirect-method-stability-at-a-value",
 }
 LYAPUNOV_RANGE_REASON = (
-    "Lyapunov and region-of-attraction claims over parameter ranges are not available yet "
-    "(one V for the whole range, with the parameters as variables under box multipliers)"
+    "region-of-attraction claims over parameter ranges are not available yet (a sublevel set "
+    "of one V for the whole range, with the parameters as variables under box multipliers)"
 )
 
 
@@ -122,23 +122,54 @@ def _show(system: RangeSystem, pt: tuple[Fraction, ...]) -> str:
 def attempt(
     model: Model, claim: Claim, progress: Callable[[str], None] | None = None
 ) -> RangeAttempt | None:
-    """Prove or refute a ``stable`` / ``unstable`` claim of scope ``range``; None otherwise."""
+    """Prove or refute a claim of scope ``range`` (stable, unstable, globally stable); None
+    for nominal-scope claims and kinds without an equilibrium."""
     say = progress or (lambda _m: None)
     if claim.at_nominal or not any(p.is_uncertain for p in model.params):
         return None
-    if claim.kind in ("globally stable", "attracts"):
+    if claim.kind == "attracts":
         return _not_proved(model, claim, LYAPUNOV_RANGE_REASON)
-    if claim.kind not in THEOREM or claim.target is None:
+    if claim.kind not in ("stable", "unstable", "globally stable") or claim.target is None:
         return None
-    try:
-        system = range_system(model, claim.target)
-    except KeyError:
+    if claim.target not in {e.name for e in model.equilibria}:
         return _not_proved(model, claim, f"no declared equilibrium named {claim.target!r}")
+    if claim.kind == "globally stable":
+        if model.domain is not None:
+            return _not_proved(
+                model,
+                claim,
+                "the model declares a domain; a global claim needs "
+                "the domain shown forward invariant, which is not certified yet",
+            )
+        return _by_lyapunov(model, claim, say, "")
+    system = range_system(model, claim.target)
     if isinstance(system, str):
-        return _not_proved(model, claim, f"over the parameter ranges: {system}")
-    say(f"{claim.text}: Bernstein cover of the parameter box")
-    cover = cover_box(system, claim.kind)
-    return _from_cover(model, claim, system, cover, say)
+        result = _not_proved(model, claim, f"over the parameter ranges: {system}")
+    else:
+        say(f"{claim.text}: Bernstein cover of the parameter box")
+        result = _from_cover(model, claim, system, cover_box(system, claim.kind), say)
+    if claim.kind == "stable" and result.entry["status"] == "not proved":
+        return _by_lyapunov(model, claim, say, result.detail)
+    return result
+
+
+def _by_lyapunov(model: Model, claim: Claim, say, before: str) -> RangeAttempt:
+    """One Lyapunov function for the whole box (sums of squares with box multipliers)."""
+    from proofkit.proofs._ranges_lyapunov import METHOD as LYAP
+    from proofkit.proofs._ranges_lyapunov import THEOREM as LYAP_THEOREM
+    from proofkit.proofs._ranges_lyapunov import search_range_lyapunov
+
+    evidence, detail = search_range_lyapunov(model, claim, say)
+    if evidence is None:
+        reason = f"{before}; {detail}" if before else detail
+        return _not_proved(model, claim, reason)
+    entry = _entry(
+        model, claim, "proved", method=LYAP, theorem=LYAP_THEOREM[claim.kind], evidence=evidence
+    )
+    if equilibrium_json(model, claim.target or "") is not None:
+        entry["number_field"] = None
+    _set_point(entry, model, claim)
+    return RangeAttempt(entry, detail)
 
 
 def _from_cover(model: Model, claim: Claim, system: RangeSystem, cover: Cover, say) -> RangeAttempt:
