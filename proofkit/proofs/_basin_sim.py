@@ -81,7 +81,7 @@ def time_scale(field: list[NumPoly]) -> tuple[float, float]:
 def _rk4(
     f: Field, y: np.ndarray, horizon: float, dt: float, blow: float, settle: float = 0.0
 ) -> np.ndarray:
-    """Fixed-step RK4 on a batch; rows leaving ``|y| <= blow`` freeze (inf), inside ``settle`` (0)."""
+    """Fixed-step RK4 on a batch; rows leaving ``|y| <= blow`` or inside ``settle`` freeze."""
     y = y.copy()
     alive = np.ones(y.shape[0], dtype=bool)
     steps = math.ceil(horizon / dt)

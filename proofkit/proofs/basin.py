@@ -24,7 +24,7 @@ from __future__ import annotations
 import math
 import time
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from fractions import Fraction
 from typing import Any
 
@@ -47,7 +47,16 @@ from proofkit.proofs._basin_exact import (
     z_gram_to_y,
 )
 
-__all__ = ["DEGREES", "BasinCertificate", "BasinSetup", "attempt", "certify", "setup_basin"]
+__all__ = [
+    "DEGREES",
+    "BasinCertificate",
+    "BasinSetup",
+    "attempt",
+    "certify",
+    "estimate_basin",
+    "run_search",
+    "setup_basin",
+]
 
 METHOD, THEOREM = "sublevel-set", "region-of-attraction"
 DEGREES = (2, 4, 6, 8)
@@ -261,7 +270,7 @@ def _core_evidence(setup: BasinSetup, search: Any, it: Any) -> tuple[dict, Any, 
 
     st = setup.setting
     sp_ = st.space
-    v = round_poly(st, it.v)
+    v = round_poly(st, it.v, bits=24)
     v_z = st.to_z(v)
     eps_q = sp_.const(flint.fmpq(st.eps.numerator, st.eps.denominator))
     why = "no level"
@@ -305,16 +314,25 @@ def _core_evidence(setup: BasinSetup, search: Any, it: Any) -> tuple[dict, Any, 
     return ev, v, level
 
 
-def certify(setup: BasinSetup, search: Any, it: Any) -> BasinCertificate | str:
-    """Exact evidence for one numerical iterate, checked exactly here; or why it failed."""
+def certify(
+    setup: BasinSetup, search: Any, it: Any, set_from_level: bool = False
+) -> BasinCertificate | str:
+    """Exact evidence for one numerical iterate, checked exactly here; or why it failed.
+
+    ``set_from_level``: the claim's set is ``{V <= level}`` itself (``proofkit basin``).
+    """
     core = _core_evidence(setup, search, it)
     if isinstance(core, str):
         return core
     ev, v, level = core
-    why = _set_obligations(setup.setting, v, level, ev)
+    setting = setup.setting
+    if set_from_level:
+        gap = setting.space.const(flint.fmpq(level.numerator, level.denominator)) - v
+        setting = replace(setting, set_conds=((gap, False),))
+    why = _set_obligations(setting, v, level, ev)
     if why:
         return why
-    ok, reason = check_evidence(setup.setting, ev)
+    ok, reason = check_evidence(setting, ev)
     if not ok:
         raise RuntimeError(f"internal: exact re-check refused basin evidence: {reason}")
     return BasinCertificate(it.degree, v, level, ev, it.volume, list(it.history))
@@ -373,3 +391,12 @@ def attempt(model: Model, claim: Claim, progress: Say | None = None) -> ProofAtt
         if time.perf_counter() - t0 > CLAIM_BUDGET:
             break
     return _not_proved(model, claim, why)
+
+
+def estimate_basin(
+    model: Model, equilibrium: str | None = None, *, degree: int = 4, progress: Say | None = None
+) -> Any:
+    """The largest audited region of attraction of this degree (see :mod:`._basin_run`)."""
+    from proofkit.proofs._basin_run import estimate_basin as run
+
+    return run(model, equilibrium, degree=degree, progress=progress)
