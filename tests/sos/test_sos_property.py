@@ -74,28 +74,30 @@ def test_low_rank_sums_of_squares_never_get_a_wrong_certificate(case) -> None:
         _rechecked(p, res)
 
 
-def _corpus_rate(seed: int, count: int) -> tuple[int, list[int]]:
-    """Certified cases of the fixed seeded corpus of tests/sos/measure_low_rank.py."""
+def _corpus_rate(seed: int, count: int, start: int = 0) -> tuple[int, list[int]]:
+    """Certified cases ``start..count-1`` of the fixed seeded corpus of measure_low_rank.py."""
     from .measure_low_rank import random_case
 
     rng = random.Random(seed)
     failed = []
     for i in range(count):
         p, xs = random_case(rng)
+        if i < start:
+            continue
         res = decompose(p, xs)
         if res.found:
             if p != 0:
                 _rechecked(p, res)
         else:
             failed.append(i)
-    return count - len(failed), failed
+    return count - start - len(failed), failed
 
 
 def test_low_rank_corpus_fast_case() -> None:
-    # computed (measure_low_rank.py, seed 2): the first 40 cases of the corpus, all certified
-    # when measured; at most one may fail under heavy load (wall-clock budgets).
-    ok, failed = _corpus_rate(2, 40)
-    assert ok >= 39, failed
+    # computed (measure_low_rank.py, seed 2): cases 20..39 of the corpus, all certified when
+    # measured (two need facial reduction); one may fail under heavy load (wall-clock budgets).
+    ok, failed = _corpus_rate(2, 40, start=20)
+    assert ok >= 19, failed
 
 
 @pytest.mark.slow
