@@ -4,10 +4,14 @@ One vectorised equality constraint per identity (``sum A_u @ vec(u) == b``),
 one PSD constraint per Gram matrix, optionally with a common margin ``t``
 (``Q - t I`` PSD, ``t`` maximised, capped) to land strictly inside the cone so
 that exact rounding can succeed. The result reports the solver's status
-honestly: solved, inaccurate, infeasible, unbounded or failed.
+honestly: solved, inaccurate, infeasible (also when the best margin is
+negative: no PSD Gram matrices exist), unbounded or failed. The compiled cvxpy
+problem is cached on the program (levels are cvxpy Parameters), so a
+bisection over a level re-solves without rebuilding.
 
 Floating-point output is a hint for :mod:`proofkit.exact`, never evidence;
-this module must never report that anything is proved.
+this module must never report that anything is proved, and never import
+:mod:`proofkit.exact`.
 """
 
 from __future__ import annotations
@@ -205,6 +209,26 @@ def _read_values(program: SearchProgram, comp: _Compiled, out: NumericSolution) 
         out.values[u.name] = np.array(val, dtype=float).reshape(shape)
 
 
+def _invoke(prob: cp.Problem, solver: str, opts: dict, out: NumericSolution) -> bool:
+    """Run the solver; fill status, message and times. True when values are worth reading."""
+    t0 = time.perf_counter()
+    try:
+        with warnings.catch_warnings():  # "inaccurate" is reported in the status instead
+            warnings.simplefilter("ignore", UserWarning)
+            prob.solve(solver={"clarabel": cp.CLARABEL, "scs": cp.SCS}[solver], **opts)
+    except (cp.error.SolverError, ValueError, ArithmeticError) as exc:
+        out.message = f"solver error: {exc}"
+        out.solve_time = time.perf_counter() - t0
+        return False
+    total = time.perf_counter() - t0
+    stats = prob.solver_stats
+    out.solve_time = float(stats.solve_time) if stats and stats.solve_time else total
+    out.compile_time = max(0.0, total - out.solve_time)
+    out.status = _STATUS.get(prob.status, "failed")
+    out.message = f"cvxpy status {prob.status}"
+    return out.status in ("solved", "inaccurate")
+
+
 def solve_program(
     program: SearchProgram,
     solver: str | None = None,
@@ -239,27 +263,12 @@ def solve_program(
     opts = dict(SOLVER_SETTINGS[solver])
     opts.update(settings or {})
     out = NumericSolution(status="failed", solver=solver, assembly_time=asm)
-    t0 = time.perf_counter()
-    out.build_time = t0 - t_build
-    prob = comp.problem
-    try:
-        with warnings.catch_warnings():  # "inaccurate" is reported in the status instead
-            warnings.simplefilter("ignore", UserWarning)
-            prob.solve(solver={"clarabel": cp.CLARABEL, "scs": cp.SCS}[solver], **opts)
-    except (cp.error.SolverError, ValueError, ArithmeticError) as exc:
-        out.message = f"solver error: {exc}"
-        out.solve_time = time.perf_counter() - t0
-        return out
-    total = time.perf_counter() - t0
-    stats = prob.solver_stats
-    out.solve_time = float(stats.solve_time) if stats and stats.solve_time else total
-    out.compile_time = max(0.0, total - out.solve_time)
-    out.status = _STATUS.get(prob.status, "failed")
-    out.message = f"cvxpy status {prob.status}"
-    if out.status in ("solved", "inaccurate"):
+    out.build_time = time.perf_counter() - t_build
+    if _invoke(comp.problem, solver, opts, out):
         _read_values(program, comp, out)
         if comp.margin is not None and comp.margin.value is not None:
             out.margin = float(comp.margin.value)
+        prob = comp.problem
         out.objective = float(prob.value) if prob.value is not None else None
         if out.status != "failed" and not out.usable:
             out.status = "failed"
@@ -268,7 +277,7 @@ def solve_program(
     if solved and program.objective is None and _negative_margin(program, out):
         out.message = (
             f"best margin {out.margin:.3g} < 0: no PSD Gram matrices with these bases "
-            f"(numerically; cvxpy status {prob.status})"
+            f"(numerically; {out.message})"
         )
         out.status = "infeasible"
     return out
