@@ -58,9 +58,7 @@ def _model_dict(model: Model) -> dict[str, Any]:
         "lets": {let.name: format_expr(let.expr) for let in model.lets},
         "equations": {e.state: format_expr(e.rhs) for e in model.equations},
         "domain": [format_condition(c) for c in model.domain] if model.domain else None,
-        "equilibria": {
-            q.name: {s: format_expr(v) for s, v in q.point} for q in model.equilibria
-        },
+        "equilibria": {q.name: {s: format_expr(v) for s, v in q.point} for q in model.equilibria},
         "claims": [c.text for c in model.claims],
         "polynomial": polynomial,
         "degree": model.degree() if polynomial else None,
@@ -126,8 +124,10 @@ def inspect_text(model: Model) -> str:
         for i, c in enumerate(model.claims, 1):
             note = ""
             if any(p.is_uncertain for p in model.params):
-                note = "  (at the nominal parameters)" if c.at_nominal else (
-                    "  (for every parameter value in the ranges)"
+                note = (
+                    "  (at the nominal parameters)"
+                    if c.at_nominal
+                    else ("  (for every parameter value in the ranges)")
                 )
             out.append(f"  {i}. {c.text}{note}")
     else:

@@ -113,21 +113,14 @@ class ModelChecker:
         decision = holds_on(expr, self.box, d.relation, self.budget)
         if decision.holds is True:
             return
-        needs = f"{d.origin} must be {_NEEDS[d.relation]}: {show(d.expr)} {_NEEDS[d.relation]}"
-        where = f" (declared at {d.span})" if d.span is not None else ""
+        needs = f"{d.origin} ({show(d.expr)}) must be {_NEEDS[d.relation]}"
+        hint = f"that expression is at {d.span}" if d.span is not None else None
         if decision.holds is False:
             assert decision.witness is not None
-            at = f" at {_at(decision.witness)}" if decision.witness else ""
-            raise self.err(
-                f"{what}: {needs}, but it is {decision.value}{at}",
-                meta,
-                hint=f"the expression that needs it is{where or ' in the model'}",
-            )
+            at = f" at {_at(decision.witness)}" if decision.witness else " there"
+            raise self.err(f"{what}: {needs}, but it is {decision.value}{at}", meta, hint=hint)
         raise self.undecided(
-            f"{what}: could not show exactly that {needs}",
-            meta,
-            decision,
-            hint=f"the expression that needs it is{where or ' in the model'}",
+            f"{what}: could not show exactly that {needs}", meta, decision, hint=hint or ""
         )
 
     def parameters_only(self) -> None:
@@ -167,13 +160,13 @@ class ModelChecker:
     def residuals(self, eq: Equilibrium, meta: Any, point: dict[sp.Symbol, sp.Expr]) -> None:
         shown: list[str] = []
         failed: Decision | None = None
+        failed_state = ""
         open_: Decision | None = None
         for e in self.equations:
             r = e.rhs.subs(self.fixed).subs(point)
             if estimate_terms(r) > MAX_TERMS:
                 raise self.err(
-                    f"checking '{eq.name}' would expand a residual of more than "
-                    f"{MAX_TERMS} terms",
+                    f"checking '{eq.name}' would expand a residual of more than {MAX_TERMS} terms",
                     meta,
                     hint="give the point in a simpler exact form",
                     limit=True,
@@ -181,13 +174,17 @@ class ModelChecker:
             d = zero_test(r, self.box, self.budget)
             shown.append(f"d{e.state}/dt = {show(sp.expand(r), 200)}")
             if d.holds is False and failed is None:
-                failed = d
+                failed, failed_state = d, e.state
             elif d.holds is None and open_ is None:
                 open_ = d
         text = ", ".join(shown)
         if failed is not None:
             assert failed.witness is not None
-            some = f" (at {_at(failed.witness)} it is {failed.value})" if failed.witness else ""
+            some = (
+                f" (at {_at(failed.witness)}, d{failed_state}/dt is {failed.value})"
+                if failed.witness
+                else ""
+            )
             raise self.err(
                 f"'{eq.name}' is not an equilibrium: f does not vanish there; "
                 f"residual {text}{some}",
@@ -227,7 +224,7 @@ class ModelChecker:
                 if qi is not None and _violates(qi[0], d.relation):
                     raise self.err(
                         f"the field is not defined everywhere in {what}: {d.origin} "
-                        f"{show(d.expr)} must be {_NEEDS[d.relation]}, but it is {qi[0]} at "
+                        f"({show(d.expr)}) must be {_NEEDS[d.relation]}, but it is {qi[0]} at "
                         f"{_at(at)}, a point of the set",
                         meta,
                         hint="exclude the singular points from the set"
@@ -241,6 +238,8 @@ def _sure(g: sp.Expr, box: Box, strict: bool) -> bool:
 
 
 def _violates(v: Fraction, relation: str) -> bool:
-    return (relation == ">" and v <= 0) or (relation == ">=" and v < 0) or (
-        relation == "!=" and v == 0
+    return (
+        (relation == ">" and v <= 0)
+        or (relation == ">=" and v < 0)
+        or (relation == "!=" and v == 0)
     )

@@ -319,7 +319,7 @@ def test_equilibrium_must_hold_for_every_parameter_value() -> None:
         "for every value of the uncertain ones",
     )
     # computed by hand: the residual 1 - k at the midpoint k = 5/4 of the range is -1/4
-    assert "dx/dt = 1 - k" in err.message and "at k = 5/4 it is -1/4" in err.message
+    assert "dx/dt = 1 - k" in err.message and "at k = 5/4, dx/dt is -1/4" in err.message
 
 
 def test_equilibrium_point_must_give_every_state_once() -> None:

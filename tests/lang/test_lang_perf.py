@@ -44,7 +44,9 @@ def test_parse_speed() -> None:
     print(f"{len(full) / 2**20:.2f} MiB of comments: {t:.2f} s")
 
     def consts(n: int) -> str:
-        return "state x\ndx/dt = -x\n" + "".join(f"constant c{i} = {i}/7 + 0.25\n" for i in range(n))
+        return "state x\ndx/dt = -x\n" + "".join(
+            f"constant c{i} = {i}/7 + 0.25\n" for i in range(n)
+        )
 
     t1, t5 = timed(lambda: parse_model(consts(1000))), timed(lambda: parse_model(consts(5000)))
     print(f"1000 constant statements {t1:.2f} s, 5000: {t5:.2f} s, ratio {t5 / t1:.1f}")
