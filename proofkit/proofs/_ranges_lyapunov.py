@@ -29,7 +29,11 @@ from proofkit.model import Claim, Model
 __all__ = ["METHOD", "THEOREM", "search_range_lyapunov"]
 
 METHOD = "lyapunov-range"
-THEOREM = {"globally stable": "lyapunov-global-over-range", "stable": "lyapunov-local-over-range"}
+THEOREM = {
+    "globally stable": "lyapunov-global-over-range",
+    "stable": "lyapunov-local-over-range",
+    "attracts": "region-of-attraction-over-range",
+}
 EPS = Fraction(1, 100)
 MAX_GRAM = 120
 DEGREES = (2, 4)

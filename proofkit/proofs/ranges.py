@@ -40,7 +40,6 @@ from proofkit.analysis.parametric import (
 from proofkit.model import Claim, Model
 
 __all__ = [
-    "LYAPUNOV_RANGE_REASON",
     "METHOD",
     "RangeAttempt",
     "attempt",
@@ -58,10 +57,6 @@ REFUTING = {
     "stable": "indirect-method-instability-at-a-value",
     "unstable": "indirect-method-stability-at-a-value",
 }
-LYAPUNOV_RANGE_REASON = (
-    "region-of-attraction claims over parameter ranges are not available yet (a sublevel set "
-    "of one V for the whole range, with the parameters as variables under box multipliers)"
-)
 
 
 @dataclass(frozen=True)
@@ -127,9 +122,9 @@ def attempt(
     say = progress or (lambda _m: None)
     if claim.at_nominal or not any(p.is_uncertain for p in model.params):
         return None
-    if claim.kind == "attracts":
-        return _not_proved(model, claim, LYAPUNOV_RANGE_REASON)
-    if claim.kind not in ("stable", "unstable", "globally stable") or claim.target is None:
+    if claim.kind == "attracts" and claim.target in {e.name for e in model.equilibria}:
+        return _by_lyapunov(model, claim, say, "")
+    if claim.kind not in ("stable", "unstable", "globally stable", "attracts") or not claim.target:
         return None
     if claim.target not in {e.name for e in model.equilibria}:
         return _not_proved(model, claim, f"no declared equilibrium named {claim.target!r}")
@@ -159,7 +154,12 @@ def _by_lyapunov(model: Model, claim: Claim, say, before: str) -> RangeAttempt:
     from proofkit.proofs._ranges_lyapunov import THEOREM as LYAP_THEOREM
     from proofkit.proofs._ranges_lyapunov import search_range_lyapunov
 
-    evidence, detail = search_range_lyapunov(model, claim, say)
+    if claim.kind == "attracts":
+        from proofkit.proofs._ranges_basin import search_range_basin
+
+        evidence, detail = search_range_basin(model, claim, say)
+    else:
+        evidence, detail = search_range_lyapunov(model, claim, say)
     if evidence is None:
         reason = f"{before}; {detail}" if before else detail
         return _not_proved(model, claim, reason)

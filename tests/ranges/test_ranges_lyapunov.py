@@ -70,14 +70,39 @@ def test_pitchfork_never_proved_over_a_range_with_positive_k() -> None:
     assert verdicts[1].status == "not proved"
 
 
-def test_region_claims_over_ranges_say_why() -> None:
+def _attracts(rhs, states: str, bound: str, params: tuple[Param, ...]):
     from dataclasses import replace
 
     from proofkit.model import Claim, Condition, Region
 
-    m = build("x", [-K * X], _p(1, 2), {"o": {"x": 0}}, [])
-    region = Region((Condition(X**2, "<=", sp.Integer(1)),))
-    m = replace(m, claims=(Claim("attracts", "o attracts x^2 <= 1", target="o", region=region),))
-    _, attempts, verdicts = certify(m)
+    xs = {"x": X, "y": Y}
+    names = states.split()
+    m = build(states, rhs, params, {"o": dict.fromkeys(names, 0)}, [])
+    norm = sum(xs[n] ** 2 for n in names)
+    region = Region((Condition(norm, "<=", sp.Rational(bound)),))
+    text = f"o attracts {' + '.join(n + '^2' for n in names)} <= {bound}"
+    return replace(m, claims=(Claim("attracts", text, target="o", region=region),))
+
+
+def test_region_of_attraction_over_the_range() -> None:
+    # computed by hand: dx/dt = -k x + x^3 has equilibria 0 and +-sqrt(k); for k in [1, 2]
+    # the interval x^2 < k (so x^2 < 1 for every k) is attracted to 0: x^2 <= 1/4 is
+    # inside for every k, x^2 <= 2 is not (at k = 1 it contains the equilibria +-1)
+    m = _attracts([-K * X + X**3], "x", "1/4", _p(1, 2))
+    text, attempts, verdicts = certify(m)
+    assert verdicts[0].status == "proved"
+    assert attempts[0].entry["method"] == "lyapunov-range"
+    cert = json.loads(text)
+    level = cert["claims"][0]["evidence"]["numbers"]["level"]
+    cert["claims"][0]["evidence"]["numbers"]["level"] = str(sp.Rational(level) * 4)
+    assert reaudit(cert)[0].status == "rejected"
+    _, attempts, verdicts = certify(_attracts([-K * X + X**3], "x", "2", _p(1, 2)))
     assert verdicts[0].status == "not proved"
-    assert "region-of-attraction claims over parameter ranges" in attempts[0].entry["reason"]
+
+
+def test_planar_region_of_attraction_over_the_range() -> None:
+    # computed by hand: dx/dt = -x + k y, dy/dt = -k x - y + x^2 y with V = (x^2 + y^2)/2:
+    # lie(V) = -x^2 - y^2 + x^2 y^2 < 0 where x^2 y^2 < x^2 + y^2, e.g. on x^2 + y^2 < 4
+    m = _attracts([-X + K * Y, -K * X - Y + X**2 * Y], "x y", "1/2", _p("1/2", 2, 1))
+    _, _, verdicts = certify(m)
+    assert verdicts[0].status == "proved"
