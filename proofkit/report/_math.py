@@ -1,8 +1,9 @@
 """Exact certificate data written as LaTeX math (used by Markdown and LaTeX alike).
 
 Reads only the certificate's own JSON values (strings ``"p/q"``, pairs
-``["a", "b"]`` meaning ``a + b sqrt(d)``, sparse polynomials); never floats,
-never solver output.
+``["a", "b"]`` meaning ``a + b sqrt(d)``, sparse polynomials; lists or the
+tuples of the typed views); never floats, never solver output. May import:
+the standard library only.
 """
 
 from __future__ import annotations
@@ -11,7 +12,14 @@ import re
 from fractions import Fraction
 from typing import Any
 
-__all__ = ["latex_matrix", "latex_name", "latex_number", "latex_poly", "latex_vector_poly"]
+__all__ = [
+    "latex_label",
+    "latex_matrix",
+    "latex_name",
+    "latex_number",
+    "latex_poly",
+    "latex_vector_poly",
+]
 
 
 def latex_name(name: str) -> str:
@@ -48,6 +56,16 @@ def latex_name(name: str) -> str:
     return "\\mathit{" + name.replace("_", "\\_") + "}"
 
 
+def latex_label(name: str) -> str:
+    """An obligation or multiplier name as LaTeX: ``s0`` -> ``s_{0}``, ``within 1`` -> text."""
+    if re.fullmatch(r"[A-Za-z]+_?[0-9]*", name):
+        return latex_name(name)
+    sub = re.fullmatch(r"([A-Za-z])_([A-Za-z0-9]+)", name)
+    if sub:
+        return f"{sub.group(1)}_{{{sub.group(2)}}}"
+    return "\\text{" + re.sub(r"[^A-Za-z0-9 ]", lambda c: "\\" + c.group(0), name) + "}"
+
+
 def _frac(x: Fraction) -> str:
     if x.denominator == 1:
         return str(x.numerator)
@@ -57,7 +75,7 @@ def _frac(x: Fraction) -> str:
 
 def latex_number(value: Any, d: int = 0) -> str:
     """A certificate number as LaTeX (``a + b\\sqrt{d}`` for a pair)."""
-    if isinstance(value, list):
+    if isinstance(value, list | tuple):
         a, b = Fraction(value[0]), Fraction(value[1])
         root = f"\\sqrt{{{d}}}"
         bpart = root if b == 1 else ("-" + root if b == -1 else f"{_frac(b)}{root}")
@@ -86,7 +104,7 @@ def latex_poly(terms: list[Any], names: list[str], d: int = 0) -> str:
     for k, (exps, coeff) in enumerate(ordered):
         mono = _monomial(exps, names)
         text = latex_number(coeff, d)
-        if isinstance(coeff, list) and mono:
+        if isinstance(coeff, list | tuple) and mono:
             text = f"\\left({text}\\right)"
             sign = "+"
         else:
