@@ -14,6 +14,8 @@ from proofkit.lang import parse_model
 from proofkit.proofs.lyapunov import attempt
 
 NAMES = ("x", "y", "z")
+# a tenth of the profile's examples (the ci profile: 4; HYPOTHESIS_PROFILE=deep: 200), at least 12
+FEW = max(12, settings.default.max_examples // 10)
 small = st.integers(-3, 3).map(lambda k: Fraction(k, 2))
 
 
@@ -47,7 +49,7 @@ def hurwitz_with_small_terms(draw):
     return [[Fraction(v) for v in row] for row in a.tolist()], extra
 
 
-@settings(max_examples=12)
+@settings(max_examples=FEW)
 @given(hurwitz_with_small_terms())
 def test_stable_linearization_with_small_terms_is_proved_locally(case) -> None:
     a, extra = case
@@ -60,7 +62,7 @@ def test_stable_linearization_with_small_terms_is_proved_locally(case) -> None:
     assert report.claims[0].status == "proved", report.claims[0].message
 
 
-@settings(max_examples=20)
+@settings(max_examples=max(20, FEW))
 @given(
     st.integers(1, 3).flatmap(
         lambda n: st.lists(st.lists(small, min_size=n, max_size=n), min_size=n, max_size=n)
