@@ -189,20 +189,26 @@ def basin(
     model: Model | str | os.PathLike[str],
     equilibrium: str | None = None,
     *,
+    degree: int = 4,
     progress: Progress | None = None,
 ) -> BasinResult:
-    """Estimate the region of attraction of a stable equilibrium, certified by the audit."""
+    """The largest region of attraction of ``equilibrium`` certified with ``V`` of ``degree``.
+
+    A sum-of-squares search; the set counts as certified only after the audit
+    accepted its certificate (``result.certified``). Slow (seconds to minutes).
+
+    >>> import proofkit
+    >>> m = proofkit.parse("state x\\ndx/dt = -x + x^3\\nequilibrium o at x = 0")
+    >>> r = proofkit.basin(m, "o", degree=2)
+    >>> r.certified
+    True
+    """
     m = _model(model)
     try:
-        from proofkit.proofs import basin as basin_module
+        from proofkit.proofs.basin import estimate_basin
     except ImportError:
-        raise NotAvailable(
-            "estimating regions of attraction is not available yet in this installation"
-        ) from None
-    run = getattr(basin_module, "estimate_basin", None)
-    if run is None:
-        raise NotAvailable("estimating regions of attraction is not available yet")
-    return BasinResult(m, run(m, equilibrium, progress=progress))
+        raise NotAvailable("estimating regions of attraction is not available yet") from None
+    return BasinResult(m, estimate_basin(m, equilibrium, degree=degree, progress=progress))
 
 
 def portrait(

@@ -352,30 +352,53 @@ class OrbitResult:
 # --- basin ---------------------------------------------------------------------
 @dataclass(frozen=True, eq=False)
 class BasinResult:
-    """A certified estimate of an equilibrium's region of attraction (audited)."""
+    """The largest certified region of attraction found for an equilibrium (audited)."""
 
     model: Model
-    result: Any  # what proofkit.proofs.basin returns
+    result: Any  # proofkit.proofs._basin_run.BasinRun (status, V, level, certificate, size)
+
+    @property
+    def certified(self) -> bool:
+        return getattr(self.result, "status", None) == "proved"
 
     def to_json(self) -> dict[str, Any]:
-        as_json = getattr(self.result, "as_json", None) or getattr(self.result, "to_json", None)
-        return dict(as_json()) if as_json else {"result": repr(self.result)}
+        """The object printed by ``proofkit basin --json``."""
+        return dict(self.result.as_json())
+
+    def _summary(self) -> tuple[str, str]:
+        r = self.result
+        if not self.certified:
+            return f"no region certified for {r.equilibrium}", getattr(r, "reason", "")
+        size = r.size or {}
+        extra = f"{size['kind']} about {size['value']:.4g}" if size else ""
+        return f"certified region of attraction of {r.equilibrium} (degree {r.degree})", extra
 
     def _repr_markdown_(self) -> str:
-        return (
-            "**region of attraction**\n\n```json\n"
-            + json.dumps(self.to_json(), indent=1)[:4000]
-            + "\n```"
+        head, extra = self._summary()
+        if not self.certified:
+            return f"**{head}**: {extra}"
+        return f"**{head}**: $V \\le {self.result.level}$ with\n\n`V = {self.result.v_text}`" + (
+            f"\n\n{extra} (audited certificate)" if extra else ""
         )
 
     def _repr_latex_(self) -> str:
-        return r"region of attraction: see \texttt{to\_json()}"
+        head, extra = self._summary()
+        if not self.certified:
+            return _text_tex(f"{head}: {extra}")
+        return (
+            _text_tex(head)
+            + rf": $\{{V \le {self.result.level}\}}$, "
+            + (rf"\texttt{{V = {_text_tex(self.result.v_text)}}}")
+        )
 
     def _repr_png_(self) -> bytes | None:
         cert = getattr(self.result, "certificate", None)
         if len(self.model.states) != 2:
             return None
         return _png(_portrait_data(self.model, None, certificate=cert))
+
+    def __repr__(self) -> str:
+        return f"<BasinResult {self._summary()[0]}>"
 
 
 # --- portrait ------------------------------------------------------------------
@@ -428,16 +451,17 @@ class Portrait:
 def _audited(certificate: Any, model: Model) -> dict[str, Any]:
     """The certificate with only the claims the trusted audit accepted (regions to draw)."""
     from proofkit.audit import audit_text
-    from proofkit.certificate import sha256_text
+    from proofkit.certificate import model_section
     from proofkit.errors import InputError
 
     text, source = _certificate_text(certificate)
     cert = json.loads(text)
-    stated = (cert.get("model") or {}).get("source_sha256")
-    if model.source and stated != sha256_text(model.source):
+    ours, theirs = model_section(model), cert.get("model") or {}
+    keys = ("states", "parameters", "field", "domain")
+    if any(ours.get(k) != theirs.get(k) for k in keys):
         raise InputError(
-            f"{source}: the certificate is about another model text than "
-            f"{model.file} (SHA-256 of the source differs)"
+            f"{source}: the certificate is about another model than {model.file} "
+            "(its states, parameters, field or domain differ)"
         )
     report = audit_text(text)
     kept = [

@@ -276,8 +276,7 @@ def _draw_regions(ax: Any, data: PortraitData) -> list[Any]:
             z = np.broadcast_to(np.asarray(r.func(gx, gy), dtype=float), gx.shape)
         if not np.isfinite(z).any():
             continue
-        top = r.upper if r.upper is not None else np.inf
-        bottom = r.level if r.upper is not None else -np.inf
+        bottom, top = (r.level, r.upper) if r.upper is not None else (-np.inf, r.level)
         inside = (z >= bottom) & (z <= top)
         if not inside.any():
             continue

@@ -112,12 +112,28 @@ def _prove(s: Session, args: str) -> None:
     s.say(f"{proved} of {len(result.outcomes)} claim(s) proved; certificate audited exactly")
 
 
-@command("basin", "basin [NAME]", "estimate the region of attraction of a stable equilibrium")
+@command("basin", "basin NAME [DEGREE]", "certify the largest region of attraction (V of degree 4)")
 def _basin(s: Session, args: str) -> None:
     from proofkit.api import basin
 
-    result = basin(s.need_model(), args or None, progress=s.progress)
-    s.say(result._repr_markdown_())
+    words = args.split()
+    if not words or len(words) > 2 or (len(words) == 2 and not words[1].isdigit()):
+        raise InputError(
+            "basin needs an equilibrium name and may take a degree", hint="basin origin 4"
+        )
+    degree = int(words[1]) if len(words) == 2 else 4
+    if degree not in (2, 4, 6, 8, 10):
+        raise InputError(f"degree {degree}: expected 2, 4, 6, 8 or 10")
+    model = s.need_model()
+    if words[0] not in {e.name for e in model.equilibria}:
+        known = ", ".join(e.name for e in model.equilibria) or "none declared"
+        raise InputError(f"no declared equilibrium '{words[0]}'", hint=f"declared: {known}")
+    result = basin(model, words[0], degree=degree, progress=s.progress)
+    head, extra = result._summary()
+    s.say(head + ("" if result.certified else f": {extra}"))
+    if result.certified:
+        s.say(f"  {{ {result.result.v_text} <= {result.result.level} }}")
+        s.say(f"  {extra}; certificate audited")
 
 
 @command("cycles", "cycles", "locate periodic orbits numerically (hints, not proofs)")

@@ -42,3 +42,13 @@ dx/dt = sigma*(y - x)
 dy/dt = x*(rho - z) - y
 dz/dt = x*y - beta*z
 """
+
+# Two decoupled states: dx/dt = -x + x^3 has equilibria x in {-1, 0, 1} and the region of
+# attraction of the origin is the strip |x| < 1 (computed by hand: sign of -x + x^3).
+STRIP = """\
+system strip
+state x, y
+dx/dt = -x + x^3
+dy/dt = -y
+equilibrium origin at x = 0, y = 0
+"""

@@ -4,15 +4,13 @@ from __future__ import annotations
 
 import json
 import re
-from types import SimpleNamespace
 
 import pytest
 
 import proofkit
-from proofkit.api import NotAvailable
 from proofkit.results import BasinResult
 
-from .models import DUFFING, VAN_DER_POL
+from .models import DUFFING, STRIP, VAN_DER_POL
 
 PNG_MAGIC = b"\x89PNG\r\n\x1a\n"
 
@@ -71,10 +69,18 @@ def test_portrait_display(duffing: proofkit.Model) -> None:
     assert re.search(r"\$\(x, y\)\$", drawn._repr_markdown_())
 
 
-def test_basin_display_or_a_clear_not_available(duffing: proofkit.Model) -> None:
-    try:
-        result = proofkit.basin(duffing, "origin")
-    except NotAvailable as exc:
-        assert "not available yet" in str(exc)
-        result = BasinResult(duffing, SimpleNamespace(as_json=lambda: {"level": "1/2"}))
-    _check(result, picture=True)
+@pytest.fixture(scope="module")
+def strip_basin() -> BasinResult:
+    return proofkit.basin(proofkit.parse(STRIP), "origin", degree=2)
+
+
+def test_basin_display_and_extent(strip_basin: BasinResult) -> None:
+    assert strip_basin.certified
+    _check(strip_basin, picture=True)
+    assert "certified region of attraction of origin" in strip_basin._repr_markdown_()
+    # computed by hand: the true region is |x| < 1, so the certified set stays inside it
+    drawn = proofkit.portrait(proofkit.parse(STRIP), certificate=strip_basin.result.certificate)
+    (region,) = drawn.data.regions
+    assert "certified region of attraction of origin" in region.label
+    assert region.func(0.0, 0.0) <= region.level < region.func(1.0, 0.0)
+    assert region.func(0.9, 0.0) <= region.level  # the best quadratic comes within 10 %

@@ -100,12 +100,11 @@ def test_interrupted_work_leaves_the_session(monkeypatch: pytest.MonkeyPatch) ->
     assert "interrupted" in out.getvalue() and "complete model: 2 states" in out.getvalue()
 
 
-def test_not_available_commands_say_so() -> None:
-    _, out, _ = _shell(DUFFING + "basin origin\n")
-    try:
-        import proofkit.proofs.basin  # noqa: F401
-    except ImportError:
-        assert "not available yet" in out
+def test_questions_with_wrong_arguments_keep_the_session() -> None:
+    _, out, _ = _shell(DUFFING + "basin\nbasin nowhere\nbasin origin 3\nlinearize 7\nshow\n")
+    assert "basin needs an equilibrium name" in out
+    assert "no declared equilibrium 'nowhere'" in out and "degree 3" in out
+    assert "no equilibrium '7'" in out and "complete model: 2 states" in out
     assert "Traceback" not in out
 
 
