@@ -98,7 +98,12 @@ class Num:
         return hash((self.a, self.b))
 
     def __str__(self) -> str:
-        return write_number(self) if self.b == 0 else f"{self.a} + {self.b}*sqrt({self.d})"
+        if self.b == 0:
+            return str(self.a)
+        root = f"sqrt({self.d})" if abs(self.b) == 1 else f"{abs(self.b)}*sqrt({self.d})"
+        if self.a == 0:
+            return root if self.b > 0 else f"-{root}"
+        return f"{self.a} {'+' if self.b > 0 else '-'} {root}"
 
 
 def _sgn(x: Fraction) -> int:

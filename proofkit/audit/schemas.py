@@ -90,8 +90,8 @@ def require(cond: bool, step: str, message: str) -> None:
 @dataclass(frozen=True)
 class Parameter:
     name: str
-    nominal: Fraction
-    range: tuple[Fraction, Fraction] | None  # None: fixed (substituted into the field)
+    nominal: Fraction | None  # None: not rational (the certificate cannot carry it)
+    range: tuple[Fraction | None, Fraction | None] | None  # None: fixed (substituted)
 
 
 @dataclass(frozen=True)
@@ -176,7 +176,9 @@ def nominal_field(model: ModelData) -> list[Poly]:
     require(not model.conditions, "field", "the field is defined only under conditions")
     n = len(model.states)
     values = [{tuple(int(i == j) for j in range(n)): Num.of(1)} for i in range(n)]
-    values += [poly_constant(Num.of(p.nominal), n) for p in model.uncertain]
+    unknown = [p.name for p in model.uncertain if p.nominal is None]
+    require(not unknown, "field", f"the nominal value of {unknown} is not rational")
+    values += [poly_constant(Num.of(p.nominal or 0), n) for p in model.uncertain]
     return [poly_substitute(f, values, n) for f in model.numerators or ()]
 
 

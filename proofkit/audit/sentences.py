@@ -34,16 +34,20 @@ def set_words(conditions: tuple[Condition, ...], names: tuple[str, ...]) -> str:
     return "{" + ", ".join(parts) + "}"
 
 
+def _q(x: object) -> str:
+    return "(not rational)" if x is None else str(x)
+
+
 def scope_words(model: ModelData, scope: str) -> str:
     """How far the claim reaches over the parameters, or "" when every parameter is fixed."""
     uncertain = model.uncertain
     if not uncertain:
         return ""
     if scope == "nominal":
-        values = ", ".join(f"{p.name} = {p.nominal}" for p in uncertain)
+        values = ", ".join(f"{p.name} = {_q(p.nominal)}" for p in uncertain)
         return f", at the nominal parameter values ({values})"
     ranges = " and ".join(
-        f"{p.name} in [{p.range[0]}, {p.range[1]}]" for p in uncertain if p.range is not None
+        f"{p.name} in [{_q(p.range[0])}, {_q(p.range[1])}]" for p in uncertain if p.range
     )
     return f", for every value of {ranges}"
 

@@ -1,43 +1,50 @@
 """Proof search per claim kind, and the audited proving run.
 
-:func:`prove_model` turns every claim of a model into a certificate entry
-(proved, refuted, or not proved with the reason), writes the certificate
-JSON, and runs the trusted audit and the provenance check on that final
-text. A claim is reported "proved" only when both accepted it.
+:func:`prove_model` asks the provers (``proofkit/proofs/<name>.py``, listed in
+:data:`PROVERS`, each exporting ``attempt(model, claim, progress) ->
+ProofAttempt | None``) for every claim in turn and keeps the first entry the
+audit accepts; then it writes the certificate JSON and audits that final text
+once. A claim is reported "proved" only when the audit and the provenance
+check accepted it; the :class:`ProveRun` carries the audit report so that the
+documents never re-audit.
 
-Methods available: linearization (``claim E stable`` / ``claim E unstable``).
-Every other claim kind is "not proved: no method for this claim kind yet".
+Statuses everywhere: "proved", "refuted" (with the exact evidence), "not
+proved" (with the reason). Provers never mark a claim proved by themselves.
 """
 
 from __future__ import annotations
 
+import importlib
 import time
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-from proofkit.audit import AuditReport, audit_text
-from proofkit.certificate import (
-    NotRepresentable,
-    dumps,
-    loads,
-    model_section,
-    new_certificate,
-    not_proved_entry,
-)
+from proofkit.audit import AuditReport, audit_certificate, audit_text
+from proofkit.certificate import dumps, model_section, new_certificate, not_proved_entry
 from proofkit.model import Claim, Model
 from proofkit.provenance import ProvenanceReport, check_provenance
 
-__all__ = ["ClaimOutcome", "ProveRun", "prove_model"]
+__all__ = ["PROVERS", "ClaimOutcome", "ProofAttempt", "ProveRun", "prove_model"]
 
+# Prover modules in the order they are tried; a module not present yet is skipped.
+PROVERS = ("linearization", "ranges", "lyapunov", "basin", "cycles")
 NO_METHOD = "no method for this claim kind yet"
-PARAMETRIC = "the claim must hold over the parameter range; parametric proofs are not available yet"
+
+
+@dataclass(frozen=True)
+class ProofAttempt:
+    """A prover's answer: the certificate's claim entry, a detail line, an optional trace."""
+
+    entry: dict[str, Any]
+    detail: str
+    trace: Any = None
 
 
 @dataclass(frozen=True)
 class ClaimOutcome:
     claim: str
-    status: str  # "proved" | "not proved" | "counterexample"
+    status: str  # "proved" | "refuted" | "not proved"
     method: str | None
     detail: str
     seconds: float
@@ -56,70 +63,94 @@ class ClaimOutcome:
 class ProveRun:
     certificate: dict[str, Any]
     text: str  # the exact JSON text that was audited
-    audit: AuditReport
+    audit: AuditReport  # the audit of ``text``, done once
     provenance: ProvenanceReport
     outcomes: tuple[ClaimOutcome, ...]
+    traces: tuple[Any, ...] = ()
 
     @property
     def all_proved(self) -> bool:
         return all(o.status == "proved" for o in self.outcomes)
 
 
-def _entry_for(model: Model, claim: Claim, field: list[Any] | None) -> tuple[dict[str, Any], str]:
-    from proofkit.proofs.linearization import prove_by_linearization
+def _provers() -> list[Callable[..., ProofAttempt | None]]:
+    found = []
+    for name in PROVERS:
+        try:
+            module = importlib.import_module(f"proofkit.proofs.{name}")
+        except ModuleNotFoundError as exc:
+            if exc.name != f"proofkit.proofs.{name}":
+                raise
+            continue
+        found.append(module.attempt)
+    return found
 
-    if claim.kind not in ("stable", "unstable"):
-        return not_proved_entry(claim, NO_METHOD), NO_METHOD
-    if claim.target not in {e.name for e in model.equilibria}:
-        reason = f"no declared equilibrium named {claim.target!r}"
-        return not_proved_entry(claim, reason), reason
-    if any(p.is_uncertain for p in model.params) and not claim.at_nominal:
-        return not_proved_entry(claim, PARAMETRIC), PARAMETRIC
-    if field is None:
-        reason = "the vector field is not polynomial with rational coefficients; " + (
-            "certificates cover polynomial vector fields only for now"
-        )
-        return not_proved_entry(claim, reason), reason
-    result = prove_by_linearization(model.at_nominal(), field, claim)
-    return result.entry, result.detail
+
+def _accepted(section: dict[str, Any], entry: dict[str, Any]) -> tuple[bool, str]:
+    """Does the audit accept this one entry on its own? (A pre-check; not the final audit.)"""
+    report = audit_certificate(new_certificate(section, [entry]))
+    verdict = report.claims[0]
+    return verdict.status in ("proved", "refuted"), verdict.message or ""
+
+
+def _attempt_claim(
+    model: Model, claim: Claim, section: dict[str, Any], say: Callable[[str], None]
+) -> ProofAttempt:
+    """The first attempt the audit accepts, else the most informative "not proved"."""
+    fallback: ProofAttempt | None = None
+    for attempt in _provers():
+        result = attempt(model, claim, say)
+        if result is None:
+            continue
+        if result.entry["status"] == "not proved":
+            fallback = fallback or result
+            continue
+        ok, why = _accepted(section, result.entry)
+        if ok:
+            return result
+        reason = f"the audit refused the evidence: {why}"
+        fallback = fallback or ProofAttempt(not_proved_entry(model, claim, reason), reason)
+    if fallback is not None:
+        return fallback
+    if claim.kind in ("stable", "unstable") and not model.is_polynomial():
+        reason = "the vector field is not polynomial; certificates cover polynomial fields for now"
+    elif claim.kind in ("stable", "unstable"):
+        reason = "the claim must hold over the parameter ranges; no range method proved it"
+    else:
+        reason = NO_METHOD
+    return ProofAttempt(not_proved_entry(model, claim, reason), reason)
 
 
 def prove_model(model: Model, progress: Callable[[str], None] | None = None) -> ProveRun:
     """Prove every claim of ``model``; the result says what the audit accepted."""
-    from proofkit.proofs.linearization import field_polys
-
     say = progress or (lambda _msg: None)
-    try:
-        field = field_polys(model.at_nominal()) if model.at_nominal().is_polynomial() else None
-    except NotRepresentable:
-        field = None
-    entries, details, seconds = [], [], []
+    section = model_section(model)
+    attempts, seconds = [], []
     for claim in model.claims:
         say(f"proving: {claim.text}")
         t0 = time.perf_counter()
-        entry, detail = _entry_for(model, claim, field)
-        entries.append(entry)
-        details.append(detail)
+        attempts.append(_attempt_claim(model, claim, section, say))
         seconds.append(time.perf_counter() - t0)
-    cert = new_certificate(model_section(model), entries)
-    text = dumps(cert)
+    entries = [a.entry for a in attempts]
+    details = [a.detail for a in attempts]
+    text = dumps(new_certificate(section, entries))
     say("auditing the certificate")
     report = audit_text(text)
-    prov = check_provenance(loads(text))
+    prov = check_provenance(text, model)
     if not report.accepted or not prov.ok:  # never keep a claim the audit refused
         for i, verdict in enumerate(report.claims):
             if verdict.status == "rejected" or (not prov.ok and "evidence" in entries[i]):
                 why = verdict.message if verdict.status == "rejected" else "; ".join(prov.problems)
-                entries[i] = not_proved_entry(model.claims[i], f"the audit refused it: {why}")
-                details[i] = entries[i]["reason"]
-        cert = new_certificate(model_section(model), entries)
-        text = dumps(cert)
+                details[i] = f"the audit refused it: {why}"
+                entries[i] = not_proved_entry(model, model.claims[i], details[i])
+        text = dumps(new_certificate(section, entries))
         report = audit_text(text)
-        prov = check_provenance(loads(text))
+        prov = check_provenance(text, model)
     outcomes = []
     for entry, verdict, detail, sec in zip(entries, report.claims, details, seconds, strict=True):
-        status = {"accepted": "proved", "refuted": "counterexample"}.get(verdict.status)
-        if status is None or not prov.ok:
+        status = verdict.status if verdict.status in ("proved", "refuted") else "not proved"
+        if not prov.ok:
             status = "not proved"
         outcomes.append(ClaimOutcome(entry["statement"], status, entry.get("method"), detail, sec))
-    return ProveRun(cert, text, report, prov, tuple(outcomes))
+    cert = new_certificate(section, entries)
+    return ProveRun(cert, text, report, prov, tuple(outcomes), tuple(a.trace for a in attempts))

@@ -11,11 +11,11 @@ from the certificate's exact data.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from fractions import Fraction
 from typing import Any
 
-from proofkit.audit import AuditReport, audit_certificate
-from proofkit.audit.algebra import ldl_pivots
-from proofkit.audit.numbers import Num, parse_number
+from proofkit.audit import AuditReport, certificate_digest
+from proofkit.certificate import exact_number
 from proofkit.report._math import latex_matrix, latex_name, latex_number, latex_poly
 
 __all__ = ["Block", "DocumentMeta", "build_document"]
@@ -51,6 +51,9 @@ THEOREM_NAMES = {
     "indirect-method-instability": "Lyapunov's indirect method (instability), "
     "with Routh's count of right-half-plane roots",
     "sum-of-squares": "sum-of-squares decomposition with a positive semidefinite Gram matrix",
+    "lyapunov-global": "Lyapunov's theorem with a radially unbounded Lyapunov function",
+    "lyapunov-local": "Lyapunov's theorem on a sublevel set (S-procedure)",
+    "region-of-attraction": "a forward-invariant sublevel set of a Lyapunov function",
 }
 
 _ROUTH = (
@@ -97,11 +100,10 @@ def _field(claim: dict[str, Any]) -> int:
 
 def _check_consistent(cert: dict[str, Any], audit: AuditReport) -> None:
     claims = cert.get("claims", [])
-    if len(claims) != len(audit.claims):
+    if audit.certificate_digest != certificate_digest(cert) or len(claims) != len(audit.claims):
         raise ValueError("the audit report does not belong to this certificate")
-    expect = {"proved": "accepted", "refuted": "refuted", "not proved": "not claimed"}
     for c, v in zip(claims, audit.claims, strict=True):
-        if v.statement != c.get("statement") or expect.get(c.get("status")) != v.status:
+        if v.statement != c.get("statement") or c.get("status") != v.status:
             raise ValueError(f"claim {c.get('statement')!r} was not accepted by the audit")
 
 
@@ -120,7 +122,9 @@ def _model_blocks(model: dict[str, Any]) -> list[Block]:
         )
     )
     out.append(Block("code", model.get("source", "")))
-    vf = model.get("vector_field")
+    fld = model.get("field")
+    vf = fld["numerators"] if fld and fld.get("denominators") is None else None
+    names = fld["variables"] if fld else states
     if vf is None:
         out.append(
             para(
@@ -132,7 +136,7 @@ def _model_blocks(model: dict[str, Any]) -> list[Block]:
     else:
         out.append(para(t("Exact equations at the nominal parameter values:")))
         lines = [
-            f"\\dot{{{latex_name(s)}}} &= {latex_poly(p, states)}"
+            f"\\dot{{{latex_name(s)}}} &= {latex_poly(p, names)}"
             for s, p in zip(states, vf, strict=True)
         ]
         out.append(Block("math", "\\begin{aligned} " + " \\\\ ".join(lines) + " \\end{aligned}"))
@@ -172,6 +176,7 @@ def _model_blocks(model: dict[str, Any]) -> list[Block]:
 
 def _linearization_blocks(claim: dict[str, Any], states: list[str]) -> list[Block]:
     d, ev = _field(claim), claim["evidence"]
+    eq = claim["claim"]["equilibrium"]
     out = []
     if d:
         out.append(
@@ -182,11 +187,11 @@ def _linearization_blocks(claim: dict[str, Any], states: list[str]) -> list[Bloc
             )
         )
     pt = ", ".join(
-        f"{latex_name(s)} = {latex_number(v, d)}" for s, v in zip(states, ev["point"], strict=True)
+        f"{latex_name(s)} = {latex_number(v, d)}" for s, v in zip(states, eq["point"], strict=True)
     )
     out.append(
         para(
-            t(f"Equilibrium {ev.get('equilibrium')}: "),
+            t(f"Equilibrium {eq.get('name')}: "),
             m(pt),
             t(". Every component of the vector field vanishes there exactly."),
         )
@@ -194,7 +199,7 @@ def _linearization_blocks(claim: dict[str, Any], states: list[str]) -> list[Bloc
     out.append(para(t("Jacobian at the equilibrium and its characteristic polynomial:")))
     cp = ev["characteristic_polynomial"]
     n = len(cp) - 1
-    cp_terms = [[[n - k], c] for k, c in enumerate(cp) if parse_number(c, d, "").sign() != 0]
+    cp_terms = [[[n - k], c] for k, c in enumerate(cp) if c != "0"]
     out.append(
         Block(
             "math",
@@ -206,9 +211,7 @@ def _linearization_blocks(claim: dict[str, Any], states: list[str]) -> list[Bloc
     shift, power = ro["shift"], ro["multiplier_power"]
     if shift != "0" or power:
         poly_terms = [
-            [[len(ro["polynomial"]) - 1 - k], c]
-            for k, c in enumerate(ro["polynomial"])
-            if parse_number(c, d, "").sign() != 0
+            [[len(ro["polynomial"]) - 1 - k], c] for k, c in enumerate(ro["polynomial"]) if c != "0"
         ]
         h = latex_number(shift, d)
         out.append(
@@ -247,15 +250,22 @@ def _linearization_blocks(claim: dict[str, Any], states: list[str]) -> list[Bloc
     return out
 
 
-def _sos_blocks(claim: dict[str, Any], appendix: list[Block]) -> list[Block]:
+def _sos_blocks(claim: dict[str, Any], appendix: list[Block], states: list[str]) -> list[Block]:
+    from proofkit.exact import ldl_psd
+
     ev = claim["evidence"]
-    names = ev["variables"]
-    out = [para(t("The polynomial: "), m("p = " + latex_poly(ev["polynomials"]["p"], names)))]
-    for gname, g in ev["gram_matrices"].items():
+    names = ev.get("variables") or states
+    out = []
+    if "p" in ev:
+        out.append(para(t("The polynomial: "), m("p = " + latex_poly(ev["p"], names))))
+    if "V" in ev:
+        out.append(para(t("The Lyapunov function: "), m("V = " + latex_poly(ev["V"], names))))
+    for gname, g in ev["squares"].items():
         basis = [latex_poly([[b, "1"]], names) for b in g["basis"]]
         z = "\\begin{pmatrix} " + " \\\\ ".join(basis) + " \\end{pmatrix}"
-        mat = [[parse_number(x, 0, "") for x in r] for r in g["matrix"]]
-        res = ldl_pivots(mat)
+        g = {"basis": g["basis"], "matrix": g["gram"]}
+        found = ldl_psd([[exact_number(x) for x in r] for r in g["matrix"]]) if basis else None
+        res = (found.D, found.L) if found is not None and found.psd else "not PSD"
         target = out if len(basis) <= 6 else appendix
         if len(basis) > 6:
             out.append(
@@ -282,23 +292,19 @@ def _sos_blocks(claim: dict[str, Any], appendix: list[Block]) -> list[Block]:
             piv, low = res
             squares = []
             for k, dk in enumerate(piv):
-                if dk.is_zero():
+                if dk == 0:
                     continue
-                comb = [
-                    [g["basis"][i], _w(low[i][k])]
-                    for i in range(len(basis))
-                    if not low[i][k].is_zero()
-                ]
+                comb = [[g["basis"][i], _w(low[i][k])] for i in range(len(basis)) if low[i][k] != 0]
                 comb = _merge(comb)
                 weight = "" if _w(dk) == "1" else latex_number(_w(dk))
                 squares.append(f"{weight}\\left({latex_poly(comb, names)}\\right)^2")
             target.append(para(t("Its exact LDL' factorisation gives the squares:")))
-            target.append(Block("math", "z^T " + gname + " z = " + " + ".join(squares)))
+            target.append(Block("math", "z^T G z = " + " + ".join(squares)))
     return out
 
 
-def _w(x: Num) -> str:
-    return str(x.a)
+def _w(x: Any) -> str:
+    return str(Fraction(int(x.p), int(x.q)))
 
 
 def _merge(terms: list[Any]) -> list[Any]:
@@ -312,15 +318,12 @@ def _merge(terms: list[Any]) -> list[Any]:
 
 def build_document(cert: dict[str, Any], audit: AuditReport, meta: DocumentMeta) -> list[Block]:
     """The proof document; raises ValueError if ``audit`` is not this certificate's report."""
-    fresh = audit_certificate(cert)  # never trust a report handed in: audit again
-    if fresh != audit:
-        raise ValueError("the audit report given does not belong to this certificate")
-    _check_consistent(cert, audit)
+    _check_consistent(cert, audit)  # the audit report of this very certificate text
     model = cert.get("model")
     title = (model or {}).get("name") or "polynomial certificate"
     blocks = [Block("heading", f"Proof document: {title}", 1)]
     rows = []
-    word = {"accepted": "proved", "refuted": "false (counterexample)", "not claimed": "not proved"}
+    word = {"proved": "proved", "refuted": "refuted", "not proved": "not proved"}
     for c, v in zip(cert["claims"], audit.claims, strict=True):
         rows.append(((t(c["statement"]),), (t(word[v.status]),), (t(c.get("method") or "-"),)))
     blocks.append(
@@ -339,19 +342,19 @@ def build_document(cert: dict[str, Any], audit: AuditReport, meta: DocumentMeta)
     appendix: list[Block] = []
     for k, (c, v) in enumerate(zip(cert["claims"], audit.claims, strict=True)):
         blocks.append(Block("heading", f"Claim {k + 1}: {c['statement']}", 2))
-        if v.status == "not claimed":
+        if v.status == "not proved":
             blocks.append(para(t("Not proved: "), t(c.get("reason", ""))))
             continue
         if c["method"] == "linearization":
             blocks += _linearization_blocks(c, states)
-        elif c["method"] == "sum-of-squares":
-            blocks += _sos_blocks(c, appendix)
+        elif "squares" in c["evidence"]:
+            blocks += _sos_blocks(c, appendix, states)
         blocks.append(
             para(
                 t("Theorem applied: "),
-                t(THEOREM_NAMES[c["theorem"]]),
+                t(THEOREM_NAMES.get(c["theorem"], c["theorem"])),
                 t(". "),
-                t(THEOREM_TEXT[c["theorem"]]),
+                t(THEOREM_TEXT.get(c["theorem"], "")),
                 t(" Its hypotheses, each re-checked by the audit:"),
             )
         )

@@ -25,7 +25,8 @@ claim origin stable
 claim right unstable
 """
 
-# dx/dt = x^2 - 2, dy/dt = -y: equilibria (+-sqrt 2, 0) (computed by hand): J = diag(+-2 sqrt 2, -1).
+# dx/dt = x^2 - 2, dy/dt = -y: equilibria (+-sqrt 2, 0) (computed by hand):
+# J = diag(+-2 sqrt 2, -1).
 SQRT_TEXT = """\
 system root_two
 state x, y

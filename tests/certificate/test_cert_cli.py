@@ -39,7 +39,8 @@ def pk(*args: str, cwd: Path) -> subprocess.CompletedProcess[str]:
 def workdir(tmp_path_factory) -> Path:
     d = tmp_path_factory.mktemp("cli")
     (d / "bistable.pk").write_text(BISTABLE_TEXT)
-    (d / "mixed.pk").write_text(BISTABLE_TEXT + "claim origin attracts x^2 + y^2 <= 1/4\n")
+    # false (the saddles are equilibria too), so no method can prove it
+    (d / "mixed.pk").write_text(BISTABLE_TEXT + "claim origin globally stable\n")
     (d / "broken.pk").write_text("state x\ndx/dt = 2x\n")
     r = pk("prove", "bistable.pk", "--out", "out_bistable", cwd=d)
     assert r.returncode == 0, r.stderr  # every claim proved: exit 0
@@ -66,10 +67,10 @@ def test_prove_json_shape(workdir) -> None:
     assert [c["claim"] for c in claims] == [
         "origin stable",
         "right unstable",
-        "origin attracts x^2 + y^2 <= 1/4",
+        "origin globally stable",
     ]
     assert [c["status"] for c in claims] == ["proved", "proved", "not proved"]
-    assert claims[2]["detail"] == "no method for this claim kind yet"
+    assert claims[2]["detail"]  # the reason is given
     for c in claims:
         assert set(c) == {"claim", "status", "method", "detail", "seconds"}
         assert c["seconds"] >= 0
@@ -80,7 +81,7 @@ def test_prove_out_writes_documents_even_when_not_all_proved(workdir) -> None:
     for name in ("certificate.json", "proof.md", "proof.tex", "phase.png"):
         assert (out / name).is_file(), name
     md = (out / "proof.md").read_text()
-    assert "Not proved: no method for this claim kind yet" in md
+    assert "Not proved: " in md
     assert "Cautions" in md and "Reproducibility" in md
 
 
@@ -91,7 +92,8 @@ def test_audit_accepts_and_labels_both_stages(workdir) -> None:
     j = pk("audit", "out_bistable/certificate.json", "--json", cwd=workdir)
     data = json.loads(j.stdout)
     assert data["accepted"] is True and data["provenance"]["ok"] is True
-    assert [c["status"] for c in data["core"]["claims"]] == ["accepted", "accepted"]
+    assert [c["status"] for c in data["core"]["claims"]] == ["proved", "proved"]
+    assert len(data["model_source_sha256"]) == 64 and data["model_file"] == "bistable.pk"
 
 
 def test_audit_rejects_a_tampered_certificate_naming_claim_and_step(workdir) -> None:
@@ -100,12 +102,12 @@ def test_audit_rejects_a_tampered_certificate_naming_claim_and_step(workdir) -> 
     (workdir / "tampered.json").write_text(json.dumps(cert))
     r = pk("audit", "tampered.json", cwd=workdir)
     assert r.returncode == 1
-    assert "REJECTED  origin stable" in r.stdout and "jacobian" in r.stdout
+    assert "REJECTED  the equilibrium origin (x = 0, y = 0)" in r.stdout and "jacobian" in r.stdout
 
 
 def test_audit_detects_a_field_change_only_in_the_provenance_stage(workdir) -> None:
     cert = json.loads((workdir / "out_bistable/certificate.json").read_text())
-    for term in cert["model"]["vector_field"][1]:
+    for term in cert["model"]["field"]["numerators"][1]:
         if term[0] == [3, 0]:
             term[1] = "2"  # the cubic term does not change J at the origin or at x = 1 ...
     cert["claims"] = cert["claims"][:1]  # ... keep only the origin claim

@@ -8,7 +8,7 @@ import pytest
 import sympy as sp
 
 from proofkit.audit import FormatError, audit_certificate
-from proofkit.certificate import dumps, new_certificate, sos_evidence
+from proofkit.certificate import dumps, new_certificate, nonnegative_entry, sos_evidence
 
 from .conftest import full_audit_ok
 
@@ -17,15 +17,14 @@ X1, X2 = sp.symbols("x1 x2", real=True)
 
 
 def _sos_certificate(p, variables, basis, gram) -> dict:
-    entry = {
-        "statement": "p >= 0 for all real " + ", ".join(map(str, variables)),
-        "kind": "nonnegative",
-        "status": "proved",
-        "method": "sum-of-squares",
-        "theorem": "sum-of-squares",
-        "number_field": None,
-        "evidence": sos_evidence(p, variables, basis, sp.Matrix(gram)),
-    }
+    entry = nonnegative_entry(
+        "p >= 0 for all real " + ", ".join(map(str, variables)),
+        "proved",
+        method="sum-of-squares",
+        theorem="sum-of-squares",
+        number_field=None,
+        evidence=sos_evidence(p, variables, basis, sp.Matrix(gram)),
+    )
     return new_certificate(None, [entry])
 
 
@@ -76,7 +75,7 @@ def _verdict(cert):
 def test_published_sos_identities_audit() -> None:
     for cert in (parrilo_lecture_certificate(), motzkin_times_certificate()):
         v = _verdict(cert)
-        assert v.status == "accepted", v.message
+        assert v.status == "proved", v.message
         assert full_audit_ok(dumps(cert))
 
 
@@ -85,7 +84,7 @@ def test_non_psd_gram_matrix_is_rejected() -> None:
     # matrix [[1, 2], [2, 1]] makes the identity hold but has a negative eigenvalue.
     cert = _sos_certificate(X**2 + 4 * X * Y + Y**2, [X, Y], [X, Y], [[1, 2], [2, 1]])
     v = _verdict(cert)
-    assert v.status == "rejected" and v.failed_step == "gram"
+    assert v.status == "rejected" and v.failed_step == "squares"
     assert "negative pivot" in (v.message or "")
 
 
@@ -98,18 +97,18 @@ def test_zero_diagonal_with_nonzero_column_is_rejected() -> None:
 
 def test_identity_off_by_one_coefficient_is_rejected() -> None:
     cert = parrilo_lecture_certificate()
-    p = cert["claims"][0]["evidence"]["polynomials"]["p"]
+    p = cert["claims"][0]["evidence"]["p"]
     for term in p:
         if term[0] == [0, 0]:
             term[1] = "2"  # x1^2 - x1 x2^2 + x2^4 + 2 is not the stated Gram form
     v = _verdict(cert)
-    assert v.status == "rejected" and v.failed_step == "identity"
+    assert v.status == "rejected" and v.failed_step == "squares"
 
 
 def test_unstable_routh_array_claimed_stable_is_rejected(bistable_run) -> None:
     cert = copy.deepcopy(bistable_run.certificate)
     saddle = cert["claims"][1]
-    saddle["kind"] = "stable"
+    saddle["claim"]["kind"] = "stable"
     saddle["theorem"] = "indirect-method-stability"
     v = audit_certificate(cert).claims[1]
     assert v.status == "rejected" and v.failed_step == "theorem"
@@ -129,7 +128,7 @@ def test_lyapunov_matrix_not_positive_definite_is_rejected(bistable_run) -> None
 
 def test_point_that_is_not_an_equilibrium_is_rejected(bistable_run) -> None:
     cert = copy.deepcopy(bistable_run.certificate)
-    cert["claims"][0]["evidence"]["point"] = ["1/2", "0"]
+    cert["claims"][0]["claim"]["equilibrium"]["point"] = ["1/2", "0"]
     v = audit_certificate(cert).claims[0]
     assert v.status == "rejected" and v.failed_step == "equilibrium"
 
@@ -160,8 +159,10 @@ def test_polynomial_certificate_without_model_has_no_system_claims() -> None:
     from proofkit.provenance import check_provenance
 
     cert = parrilo_lecture_certificate()
-    cert["claims"][0]["kind"] = "stable"
+    cert["claims"][0]["claim"]["kind"] = "stable"
     assert not check_provenance(cert).ok
+    with pytest.raises(FormatError):
+        audit_certificate(cert)
 
 
 @pytest.mark.parametrize(
@@ -170,6 +171,8 @@ def test_polynomial_certificate_without_model_has_no_system_claims() -> None:
         (),
         ("claims", 0),
         ("claims", 0, "evidence"),
+        ("claims", 0, "claim"),
+        ("claims", 0, "claim", "equilibrium"),
         ("claims", 0, "evidence", "routh"),
         ("claims", 0, "evidence", "lyapunov"),
         ("model",),
@@ -187,37 +190,30 @@ def test_unknown_fields_are_refused(bistable_run, where) -> None:
 
 
 def test_derived_polynomial_names_cannot_be_stated() -> None:
-    # "lie(V)" is computed by the audit from the vector field; a certificate must not
-    # be able to supply its own value under that name.
+    # targets such as lie(V) are computed by the audit's schema from the vector field;
+    # a certificate must not be able to supply its own value under any name.
     cert = parrilo_lecture_certificate()
     ev = cert["claims"][0]["evidence"]
-    ev["polynomials"]["lie(p)"] = ev["polynomials"]["p"]
+    ev["lie(p)"] = ev["p"]
     with pytest.raises(FormatError):
         audit_certificate(cert)
+    cert = parrilo_lecture_certificate()
+    squares = cert["claims"][0]["evidence"]["squares"]
+    squares["lie(p)"] = squares["p"]  # an obligation the theorem does not have
+    v = audit_certificate(cert).claims[0]
+    assert v.status == "rejected" and "not hypotheses" in (v.message or "")
 
 
 def test_lie_derivative_identity_is_recomputed_from_the_vector_field(reversed_run) -> None:
     # computed (REFERENCES.md): for V = x'Px with P = [[3/2, -1/2], [-1/2, 1]] on the
     # reversed-time oscillator, Vdot = -(x1^2 + x2^2) - x1^3 x2 + 2 x1^2 x2^2.
-    import proofkit
-    from proofkit.audit.core import _Context, _read_identities
-    from proofkit.proofs.linearization import field_polys
+    from proofkit.audit.core import _model
+    from proofkit.audit.lyapunov import lie_derivative
+    from proofkit.audit.read import read_poly
+    from proofkit.audit.schemas import nominal_field
 
-    model = proofkit.parse(reversed_run.certificate["model"]["source"])
-    ctx = _Context(["x1", "x2"], field_polys(model), [])
+    field = nominal_field(_model(reversed_run.certificate["model"]))
     vdot = [[[2, 0], "-1"], [[0, 2], "-1"], [[3, 1], "-1"], [[2, 2], "2"]]
-    ev = {
-        "variables": ["x1", "x2"],
-        "polynomials": {
-            "V": [[[2, 0], "3/2"], [[1, 1], "-1"], [[0, 2], "1"]],
-            "W": vdot,
-        },
-        "gram_matrices": {},
-        "identities": [{"target": [["1", "lie(V)"], ["-1", "W"]], "sum": []}],
-    }
-    _read_identities(ev, ctx, "test")  # holds: lie(V) - W == 0
-    ev["polynomials"]["W"] = [*vdot[:3], [[2, 2], "3"]]
-    from proofkit.audit.core import Rejected
-
-    with pytest.raises(Rejected):
-        _read_identities(ev, ctx, "test")
+    v = read_poly([[[2, 0], "3/2"], [[1, 1], "-1"], [[0, 2], "1"]], 2, 0, "V")
+    assert lie_derivative(v, field) == read_poly(vdot, 2, 0, "W")
+    assert lie_derivative(v, field) != read_poly([*vdot[:3], [[2, 2], "3"]], 2, 0, "W")

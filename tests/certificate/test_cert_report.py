@@ -50,7 +50,7 @@ def test_documents_refuse_a_certificate_the_audit_rejected(bistable_run) -> None
 def test_sum_of_squares_document_shows_basis_gram_and_squares() -> None:
     cert = parrilo_lecture_certificate()
     md = render_markdown(cert, audit_certificate(cert), META)
-    assert "Gram matrix G with basis" in md and "LDL'" in md
+    assert "Gram matrix p with basis" in md and "LDL'" in md
     # published (MIT 6.972): x1^2 - x1 x2^2 + x2^4 = (x1 - x2^2/2)^2 + 3/4 x2^4, the LDL' form
     assert "\\left(-\\frac{1}{2} x_{2}^{2} + x_{1}\\right)^2" in md
     assert "\\frac{3}{4}\\left(x_{2}^{2}\\right)^2" in md
