@@ -101,3 +101,28 @@ def test_a_wrong_argument_type_is_a_clear_error() -> None:
         proofkit.inspect(42)  # type: ignore[arg-type]
     with pytest.raises(InputError, match="no such file"):
         proofkit.inspect("does/not/exist.pk")
+
+
+def test_audit_core_only_starts_without_heavy_libraries(tmp_path: Path) -> None:
+    cert = tmp_path / "c.json"
+    cert.write_text(proofkit.prove(proofkit.parse(DUFFING)).run.text, encoding="utf-8")
+    code = (
+        "import sys, contextlib, io\nfrom proofkit.cli import main\n"
+        "with contextlib.redirect_stdout(io.StringIO()):\n"
+        f"    rc = main(['audit', '--core-only', {str(cert)!r}])\n"
+        "print(rc, [m for m in ('sympy', 'numpy', 'cvxpy', 'lark', 'matplotlib') "
+        "if m in sys.modules])\n"
+    )
+    out = subprocess.run([PY, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "0 []"
+
+
+def test_readme_tour_python_runs(tmp_path: Path) -> None:
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    tour = text[text.index("## Three ways in") :]
+    code = tour[tour.index("```python") + len("```python") : tour.rindex("```")]
+    (tmp_path / "worked").symlink_to(ROOT / "worked")
+    done = subprocess.run([PY, "-c", code], capture_output=True, text=True, cwd=tmp_path)
+    assert done.returncode == 0, done.stderr
+    assert (tmp_path / "latch.svg").stat().st_size > 10_000
+    assert (tmp_path / "out" / "valve_latch" / "certificate.json").is_file()
