@@ -12,7 +12,7 @@ from fractions import Fraction
 
 import numpy as np
 import sympy as sp
-from hypothesis import assume, given
+from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from proofkit.audit.ranges import _tiles
@@ -109,6 +109,7 @@ def _grid_max_real(a0: np.ndarray, a1: np.ndarray, lo: float, hi: float) -> floa
     return max(max(np.linalg.eigvals(a0 + k * a1).real) for k in np.linspace(lo, hi, 801))
 
 
+@settings(max_examples=20)  # each example proves, refutes and audits a 3-state loop
 @given(
     st.lists(st.integers(-2, 2), min_size=9, max_size=9),
     st.lists(st.integers(-2, 2), min_size=9, max_size=9),
