@@ -251,3 +251,17 @@ def test_locally_but_not_globally_stable() -> None:
     _sampled(model, v, lie, 0.99, level)
     _claim, res = _prove(model, 1)
     assert res.entry["status"] == "not proved"
+
+
+def test_prove_runs_the_lyapunov_method_and_the_audit_accepts() -> None:
+    # the whole run: linearization cannot decide (eigenvalues +-i), the Lyapunov prover can
+    from proofkit.proofs import prove_model
+
+    model = _model(CUBIC_DAMPED, "claim O stable\nclaim O globally stable\n")
+    run = prove_model(model)
+    assert [o.status for o in run.outcomes] == ["proved", "proved"]
+    assert [o.method for o in run.outcomes] == ["lyapunov", "lyapunov"]
+    assert [c["theorem"] for c in run.certificate["claims"]] == [
+        "lyapunov-local",
+        "lyapunov-global",
+    ]
