@@ -226,13 +226,12 @@ def with_functions() -> st.SearchStrategy[Ex]:
 @given(with_functions())
 def test_expressions_with_functions_round_trip(e: Ex) -> None:
     text = f"state x, y\ndx/dt = {e.text}\ndy/dt = 0\n"
+    from proofkit.errors import InputError
+
     try:
         m = parse_model(text)
-    except Exception as err:  # e.g. 0^(-1) or tan at a pole: must be a clean InputError
-        from proofkit.errors import InputError
-
-        assert isinstance(err, InputError), err
-        return
+    except InputError:  # e.g. 0^(-1) or tan at a pole: a clean refusal is a correct outcome
+        return  # any other exception propagates and fails the test
     rhs = m.equations[0].rhs
     assert rhs == e.value or sp.simplify(rhs - e.value) == 0
     back = parse_model(f"state x, y\ndx/dt = {format_expr(rhs)}\ndy/dt = 0\n").equations[0].rhs
