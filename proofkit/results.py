@@ -481,7 +481,7 @@ def _portrait_data(
     plane: Sequence[str] | None = None,
     at: Mapping[str, float] | None = None,
 ) -> Any:
-    from proofkit.report._model_portrait import model_portrait_data
+    from proofkit.report._portrait_data import model_portrait_data
 
     if survey is None:
         from proofkit.analysis.surveying import survey as run_survey

@@ -23,7 +23,6 @@ from __future__ import annotations
 import io
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
-from fractions import Fraction
 from pathlib import Path
 from typing import Any
 
@@ -439,161 +438,6 @@ def portrait_bytes(data: PortraitData, fmt: str = "png") -> bytes:
     return buf.getvalue()
 
 
-# --- portrait data from a certificate (documents) ------------------------------
-def _q(v: Any, d: int = 0) -> float:
-    if isinstance(v, list):
-        return float(Fraction(v[0])) + float(Fraction(v[1])) * (d**0.5)
-    return float(Fraction(v))
-
-
-def _poly_fn(terms: list[Any], fixed: Sequence[float] = (), shift: Sequence[float] = ()) -> Scalar:
-    """A certificate POLY as a numpy function of two plane variables (extra variables fixed)."""
-    coeffs = [(exps, _q(c)) for exps, c in terms]
-
-    def f(x: Any, y: Any) -> Any:
-        xs = [x - (shift[0] if shift else 0.0), y - (shift[1] if shift else 0.0), *fixed]
-        total = 0.0 * x
-        for exps, c in coeffs:
-            term = c
-            for value, e in zip(xs, exps, strict=False):
-                if e:
-                    term = term * value**e
-            total = total + term
-        return total
-
-    return f
-
-
-def _cert_field(model: dict[str, Any]) -> Field | None:
-    states = model.get("states") or []
-    if len(states) != 2:
-        return None
-    if model.get("vector_field") is not None:  # format 1
-        num, den, fixed = model["vector_field"], None, []
-    elif isinstance(model.get("field"), dict):  # format 2
-        fld = model["field"]
-        nominal = {p["name"]: _q(p["nominal"]) for p in model.get("parameters") or []}
-        fixed = [nominal.get(v, 0.0) for v in (fld.get("variables") or states)[2:]]
-        num, den = fld.get("numerators"), fld.get("denominators")
-    else:
-        return None
-    if not num or len(num) != 2:
-        return None
-    fs = [_poly_fn(p, fixed) for p in num]
-    ds = [_poly_fn(p, fixed) for p in den] if den else None
-
-    def field_fn(x: Any, y: Any) -> tuple[Any, Any]:
-        u, v = fs[0](x, y), fs[1](x, y)
-        if ds is not None:
-            u, v = u / ds[0](x, y), v / ds[1](x, y)
-        return u, v
-
-    return field_fn
-
-
-def _cert_point(entry: dict[str, Any]) -> tuple[str | None, tuple[float, float]] | None:
-    nf = entry.get("number_field") or {}
-    d = int(Fraction(nf["sqrt"])) if nf.get("sqrt") else 0
-    claim = entry.get("claim") if isinstance(entry.get("claim"), dict) else None
-    eq = (claim or {}).get("equilibrium") or {}
-    ev = entry.get("evidence") or {}
-    point = eq.get("point") or ev.get("point")
-    if not isinstance(point, list) or len(point) != 2:
-        return None
-    return eq.get("name") or ev.get("equilibrium"), (_q(point[0], d), _q(point[1], d))
-
-
-def _cert_regions(entry: dict[str, Any], xy: tuple[float, float] | None) -> list[PortraitRegion]:
-    ev = entry.get("evidence") or {}
-    nums = ev.get("numbers") or {}
-    kind = (
-        (entry.get("claim") or {}).get("kind")
-        if isinstance(entry.get("claim"), dict)
-        else (entry.get("kind"))
-    )
-    if entry.get("status") != "proved":
-        return []
-    if kind == "cycle" and "W" in ev and "inner" in nums and "outer" in nums:
-        return [
-            PortraitRegion(
-                "certified trapping annulus (holds a periodic orbit)",
-                _poly_fn(ev["W"]),
-                _q(nums["inner"]),
-                _q(nums["outer"]),
-            )
-        ]
-    if "V" in ev and "level" in nums and xy is not None:
-        name = ((entry.get("claim") or {}).get("equilibrium") or {}).get("name", "")
-        return [
-            PortraitRegion(
-                f"certified region of attraction of {name}".rstrip(),
-                _poly_fn(ev["V"], shift=xy),
-                _q(nums["level"]),
-            )
-        ]
-    return []
-
-
-def certificate_portrait_data(cert: dict[str, Any]) -> PortraitData | None:
-    """Portrait data from a certificate (planar field); None when it cannot be drawn."""
-    model = cert.get("model") or {}
-    fld = _cert_field(model)
-    if fld is None:
-        return None
-    verdicts: dict[tuple[float, float], tuple[str | None, str]] = {}
-    regions: list[PortraitRegion] = []
-    for entry in cert.get("claims", []):
-        found = _cert_point(entry)
-        xy = found[1] if found else None
-        regions += _cert_regions(entry, xy)
-        if found is None:
-            continue
-        kind = entry["claim"]["kind"] if isinstance(entry.get("claim"), dict) else entry.get("kind")
-        word = kind if entry.get("status") == "proved" and kind in ("stable", "unstable") else None
-        old = verdicts.get(found[1], (found[0], "undecided"))
-        verdicts[found[1]] = (found[0], word or old[1])
-    points = tuple(
-        PortraitPoint(name, xy, _display_type(fld, xy, v)) for xy, (name, v) in verdicts.items()
-    )
-    box = _box(points, _cert_domain(model))
-    title = f"phase portrait of {model.get('name') or 'the model'} (illustration, not evidence)"
-    return PortraitData(
-        title,
-        tuple(model["states"]),
-        fld,
-        box,
-        points,
-        tuple(regions),
-        note="marks: verdicts the audit accepted in this certificate",
-    )
-
-
-def _cert_domain(model: dict[str, Any]) -> Scalar | None:
-    conds = model.get("domain")
-    if not conds:
-        return None
-    gs = [_poly_fn(c["g"] if isinstance(c, dict) else c) for c in conds]
-
-    def inside(x: Any, y: Any) -> Any:
-        ok = True
-        for g in gs:
-            ok = ok & (g(x, y) >= 0)
-        return ok
-
-    return inside
-
-
-def _display_type(f: Field, xy: tuple[float, float], verdict: str) -> str:
-    """An unstable point with real eigenvalues of both signs is drawn as a saddle (display)."""
-    import numpy as np
-
-    if verdict != "unstable":
-        return verdict
-    vals = np.linalg.eigvals(_jacobian(f, xy, 1e-6 * max(1.0, abs(xy[0]) + abs(xy[1]))))
-    real = np.abs(vals.imag).max() < 1e-9
-    return "saddle" if real and vals.real.min() < 0 < vals.real.max() else verdict
-
-
 def _box(points: Sequence[PortraitPoint], inside: Scalar | None) -> tuple[float, ...]:
     """Axes: the bounded domain when there is one, else a margin around the equilibria."""
     import numpy as np
@@ -615,6 +459,13 @@ def _box(points: Sequence[PortraitPoint], inside: Scalar | None) -> tuple[float,
             mx, my = 0.08 * (x1 - x0) + 1e-9, 0.08 * (y1 - y0) + 1e-9
             return (x0 - mx, x1 + mx, y0 - my, y1 + my)
     return (cx - half, cx + half, cy - half, cy + half)
+
+
+def certificate_portrait_data(cert: dict[str, Any]) -> PortraitData | None:
+    """Portrait data from a certificate (planar field); None when it cannot be drawn."""
+    from proofkit.report._portrait_data import certificate_data
+
+    return certificate_data(cert)
 
 
 def phase_portrait(cert: dict[str, Any], path: Path | str) -> bool:

@@ -69,7 +69,7 @@ def _portrait_parts(model: Path) -> str:
         "t0 = time.perf_counter()\n"
         "import matplotlib.figure, matplotlib.backends.backend_agg\n"
         "t1 = time.perf_counter()\n"
-        "from proofkit.report._model_portrait import model_portrait_data\n"
+        "from proofkit.report._portrait_data import model_portrait_data\n"
         "from proofkit.report.figures import draw_portrait\n"
         "fig = draw_portrait(model_portrait_data(m, s))\n"
         "t2 = time.perf_counter()\n"
