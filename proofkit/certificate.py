@@ -258,12 +258,14 @@ def _point(model: Model, claim: Claim, scope: str) -> tuple[dict[str, Any], int 
     exprs = [sp.expand(coords[s].subs(values)) for s in model.states]
     uncertain = [p.symbol for p in model.params if p.is_uncertain]
     if any(e.free_symbols & set(uncertain) for e in exprs):
-        try:
-            entry["moving"] = {"coordinates": [poly_json(e, uncertain) for e in exprs]}
-            del entry["point"]
-            return entry, 0
-        except NotRepresentable:
+        from proofkit.analysis.parametric import moving_point_json  # the ranges room's format
+
+        moving = moving_point_json(model, name)
+        if moving is None:
             return entry, None
+        entry["moving"] = moving
+        del entry["point"]
+        return entry, 0
     d = quadratic_field(exprs)
     if d is None:
         return entry, None

@@ -42,18 +42,12 @@ from math import comb
 from typing import Any
 
 from proofkit.audit.algebra import (
-    char_poly,
-    poly_derivative,
     poly_eval,
-    routh_rows,
-    shift_and_multiply,
-    sign_changes,
 )
 from proofkit.audit.numbers import FormatError, Num
 from proofkit.audit.read import (
     get,
     only_keys,
-    read_number,
     read_poly,
     read_vector,
 )
@@ -64,8 +58,6 @@ __all__ = [
     "MAX_BOXES",
     "METHOD",
     "bernstein",
-    "range_refute_stable",
-    "range_refute_unstable",
     "range_stable",
     "range_unstable",
 ]
@@ -448,17 +440,20 @@ def _check_range(model: ModelData, claim: ClaimData, checks: Checks) -> None:
         "by exact Bernstein "
         f"coefficients, {what}" + (" and sqrt(g) is real" if sys.g is not None else "")
     )
-    for k, mg in enumerate(ev.get("margins") or []):
-        _check_margin(sys, conds, mg, good, checks, f"{w}.margins[{k}]")
+    margins = get(ev, "margins", list, w)  # one per parameter, in order; null: none found
+    if len(margins) != sys.m:
+        raise FormatError(f"{w}.margins: one entry (or null) per uncertain parameter")
+    for k, mg in enumerate(margins):
+        if mg is not None:
+            _check_margin(sys, conds, mg, good, checks, f"{w}.margins[{k}]", k)
 
 
 def _check_margin(
-    sys: _System, conds: list[Q], data: Any, good: Callable, checks: Checks, where: str
+    sys: _System, conds: list[Q], data: Any, good: Callable, checks: Checks, where: str, j: int
 ) -> None:
     only_keys(data, {"parameter", "range", "cover"}, where)
     name = get(data, "parameter", str, where)
-    require(name in sys.params, "margin", f"{name!r} is not an uncertain parameter")
-    j = sys.params.index(name)
+    require(name == sys.params[j], "margin", f"margin {j + 1} must be about {sys.params[j]}")
     lo, hi = (x.a for x in read_vector(get(data, "range", list, where), 0, f"{where}.range", 2))
     require(lo <= sys.nominal[j] <= hi, "margin", "the margin must contain the nominal value")
     full = [(v, v) for v in sys.nominal]
@@ -484,116 +479,7 @@ def range_unstable(model: ModelData, claim: ClaimData, checks: Checks) -> None:
     checks.ok("so det(sI - J(p)) has a root with positive real part for every p in the box")
 
 
-# --- refutation at one parameter value ---------------------------------------------------
-def _at_value(model: ModelData, claim: ClaimData, checks: Checks) -> tuple[list[list[Num]], Num]:
-    """Check the point and the Routh array at ``p*``; return the first column rows and shift."""
-    ev, w, d = claim.evidence, f"{claim.where}.evidence", claim.d
-    only_keys(ev, {"parameters", "radical", "point", "characteristic_polynomial", "routh"}, w)
-    sys = _System(model, claim)
-    vals = get(ev, "parameters", dict, w)
-    require(sorted(vals) == sorted(sys.params), "value", "give a value for every parameter")
-    pstar = [read_number(vals[p], 0, f"{w}.parameters.{p}").a for p in sys.params]
-    for p, v, (lo, hi) in zip(sys.params, pstar, sys.box, strict=True):
-        require(lo <= v <= hi, "value", f"{p} = {v} is outside [{lo}, {hi}]")
-    pt = [Num.of(v, d) for v in pstar]
-    if sys.g is not None:
-        c = read_number(get(ev, "radical", str, w), 0, f"{w}.radical").a
-        g_at = _value(sys.g, [*pt, Num.of(0)])
-        require(
-            c >= 0 and c * c * (d or 1) == g_at.a and g_at.b == 0,
-            "radical",
-            "the stated value of the radical squared is not g(p*)",
-        )
-        pt.append(Num(Fraction(0), c, d) if d else Num.of(c))
-    else:
-        require(ev.get("radical") is None, "radical", "the point has no radical")
-    point = [_value(c, pt) for c in sys.coords]
-    require(
-        point == read_vector(get(ev, "point", list, w), d, f"{w}.point", sys.n),
-        "equilibrium",
-        "the stated point is not the claim's point at these values",
-    )
-    n = sys.n
-    fields = [_at_params(f, pstar, n, d) for f in sys.field]
-    for i, f in enumerate(fields):
-        require(poly_eval(f, point).is_zero(), "equilibrium", f"f{i + 1} is not 0 at the point")
-    jac = [[poly_eval(poly_derivative(f, j), point) for j in range(n)] for f in fields]
-    cp = char_poly(jac)
-    require(
-        cp == read_vector(get(ev, "characteristic_polynomial", list, w), d, f"{w}.cp", n + 1),
-        "characteristic polynomial",
-        "differs from det(sI - J) at the value",
-    )
-    shown = ", ".join(f"{p} = {v}" for p, v in zip(sys.params, pstar, strict=True))
-    checks.ok(
-        f"at {shown} (inside the ranges) the point is an exact zero of the field; "
-        "det(sI - J) recomputed there"
-    )
-    ro, rw = get(ev, "routh", dict, w), f"{w}.routh"
-    only_keys(ro, {"shift", "multiplier_power", "polynomial", "rows", "sign_changes"}, rw)
-    shift = read_number(get(ro, "shift", str, rw), 0, f"{rw}.shift")
-    power = get(ro, "multiplier_power", int, rw)
-    require(0 <= power <= MAX_POWER and shift.sign() >= 0, "routh", "shift >= 0, power 0..4")
-    q = shift_and_multiply(cp, Num.of(shift.a, d), power)
-    require(
-        q == read_vector(get(ro, "polynomial", list, rw), d, f"{rw}.polynomial"),
-        "routh",
-        "the stated polynomial is not (s+1)^k p(s + shift)",
-    )
-    rows = routh_rows(q)
-    require(rows is not None, "routh", "the Routh array is not regular")
-    assert rows is not None
-    stated = get(ro, "rows", list, rw)
-    require(
-        len(stated) == len(rows)
-        and rows == [read_vector(r, d, f"{rw}.rows[{i}]") for i, r in enumerate(stated)],
-        "routh",
-        "the stated Routh array differs from the recomputed one",
-    )
-    changes = sign_changes([r[0] for r in rows])
-    require(changes == get(ro, "sign_changes", int, rw), "routh", "wrong number of sign changes")
-    return rows, shift
-
-
-def _at_params(f: Q, pstar: Sequence[Fraction], n: int, d: int) -> dict[tuple[int, ...], Num]:
-    """A field component over (states, parameters) with the parameters set to ``pstar``."""
-    out: dict[tuple[int, ...], Fraction] = {}
-    for e, c in f.items():
-        v = c
-        for x, k in zip(pstar, e[n:], strict=True):
-            v *= x**k
-        out[e[:n]] = out.get(e[:n], Fraction(0)) + v
-    return {e: Num.of(c, d) for e, c in out.items() if c}
-
-
-@schema("stable", METHOD, "indirect-method-instability-at-a-value", scopes=("range",), refutes=True)
-def range_refute_stable(model: ModelData, claim: ClaimData, checks: Checks) -> None:
-    """At one value in the ranges some root of det(sI - J) has positive real part."""
-    rows, shift = _at_value(model, claim, checks)
-    changes = sign_changes([r[0] for r in rows])
-    require(changes >= 1, "theorem", "no sign change: no root in the right half plane shown")
-    checks.ok(
-        f"{changes} root(s) of det(sI - J) have real part > {shift.a} >= 0 there: the "
-        "equilibrium is unstable at that value, so not stable for every value"
-    )
-
-
-@schema("unstable", METHOD, "indirect-method-stability-at-a-value", scopes=("range",), refutes=True)
-def range_refute_unstable(model: ModelData, claim: ClaimData, checks: Checks) -> None:
-    """At one value in the ranges every root of det(sI - J) has negative real part."""
-    rows, shift = _at_value(model, claim, checks)
-    ok = shift.is_zero() and len(rows) == len(model.states) + 1
-    require(
-        ok and all(r[0].sign() > 0 for r in rows),
-        "theorem",
-        "stability needs the Routh array of det(sI - J) itself with a positive first column",
-    )
-    checks.ok(
-        "all first-column entries are positive there: the equilibrium is asymptotically "
-        "stable at that value, so not unstable for every value"
-    )
-
-
-# Lyapunov functions over the ranges (sums of squares with box multipliers) live in a
-# helper module; importing it registers their schemas alongside these.
-from proofkit.audit import _ranges_lyapunov  # noqa: E402, F401
+# Refutation at one parameter value, and Lyapunov functions over the ranges (sums of
+# squares with box multipliers), live in helper modules; importing them registers their
+# schemas alongside these.
+from proofkit.audit import _ranges_lyapunov, _ranges_value  # noqa: E402, F401

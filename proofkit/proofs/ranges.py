@@ -215,10 +215,11 @@ def _from_cover(model: Model, claim: Claim, system: RangeSystem, cover: Cover, s
     }
     say(f"{claim.text}: stability margins")
     margins = [stability_margin(system, kind, j) for j in range(len(system.params))]
-    evidence["margins"] = [
-        {"parameter": system.params[j], "range": _iv(*m[0]), "cover": _cover_json(m[1])}
+    evidence["margins"] = [  # one per parameter, null when none was found
+        None
+        if m is None
+        else {"parameter": system.params[j], "range": _iv(*m[0]), "cover": _cover_json(m[1])}
         for j, m in enumerate(margins)
-        if m is not None
     ]
     entry = _entry(
         model,
@@ -295,4 +296,6 @@ def stability_margin(
 def margins_of(entry: dict[str, Any]) -> list[dict[str, Any]]:
     """``[{"parameter", "range"}]`` of a proved range claim's entry (for --json and documents)."""
     ev = entry.get("evidence") or {}
-    return [{"parameter": m["parameter"], "range": m["range"]} for m in ev.get("margins", [])]
+    return [
+        {"parameter": m["parameter"], "range": m["range"]} for m in ev.get("margins") or [] if m
+    ]
