@@ -16,6 +16,7 @@ __all__ = ["register", "run"]
 EXAMPLE = """example:
   proofkit shell worked/valve_latch.pk
   printf 'state x\\ndx/dt = -x^3\\nequilibria\\nquit\\n' | proofkit shell
+  printf 'equilibria\\n' | proofkit shell model.pk --json --quiet
 
 inside the shell:
   state x, y
@@ -45,7 +46,7 @@ def register(subparsers: Any) -> None:
     p.add_argument(
         "--json",
         action="store_true",
-        help="accepted for uniformity; the shell's output is text (use the other commands' --json)",
+        help="answer each input line with one JSON object (input, ok, output lines, results)",
     )
     p.set_defaults(func=run)
 
@@ -53,4 +54,4 @@ def register(subparsers: Any) -> None:
 def run(args: argparse.Namespace) -> int:
     from proofkit.shell import run_shell
 
-    return run_shell(args.file, quiet=args.quiet)
+    return run_shell(args.file, quiet=args.quiet, json_lines=args.json)

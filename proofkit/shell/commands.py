@@ -103,6 +103,11 @@ def _show(s: Session, args: str) -> None:
     if not len(s.statements):
         s.say("(no statements yet)")
         return
+    s.attach(
+        statements=[st.text for st in s.statements.ordered()],
+        complete=s.model is not None,
+        problem=None if s.problem is None else str(s.problem),
+    )
     for k, st in enumerate(s.statements.ordered(), 1):
         s.say(f"{k:3d}  {st.text}")
     if s.model is not None:

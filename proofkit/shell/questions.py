@@ -32,16 +32,17 @@ def _survey(s: Session) -> object:
 
 @command("equilibria", "equilibria", "list every equilibrium with its verdict and type")
 def _equilibria(s: Session, args: str) -> None:
-    from proofkit.analysis.display import equilibria_lines
+    from proofkit.analysis.display import equilibria_json, equilibria_lines
 
     found = _survey(s)
     for line in equilibria_lines(found.survey, nominal_note=bool(s.need_model().params)):
         s.say(line)
+    s.attach(**equilibria_json(found.survey))
 
 
 @command("linearize", "linearize NAME|N", "Jacobian, characteristic polynomial, Routh verdict")
 def _linearize(s: Session, args: str) -> None:
-    from proofkit.analysis.display import exact_text
+    from proofkit.analysis.display import equilibria_json, exact_text
 
     found = _survey(s)
     eqs = found.equilibria
@@ -54,6 +55,8 @@ def _linearize(s: Session, args: str) -> None:
         names = ", ".join(e.name or str(k) for k, e in enumerate(eqs, 1))
         raise InputError(f"no equilibrium '{args}'", hint=f"name one of: {names}")
     point = ", ".join(f"{k} = {exact_text(v)}" for k, v in pick.point.items())
+    entry = equilibria_json(found.survey)["equilibria"][list(eqs).index(pick)]
+    s.attach(equilibrium=entry, characteristic_polynomial=[exact_text(c) for c in pick.charpoly])
     s.say(f"equilibrium {pick.name or args} at {point}")
     s.say("Jacobian:")
     for i in range(pick.jacobian.rows):
@@ -73,6 +76,7 @@ def _linearize(s: Session, args: str) -> None:
 
 
 def _outcomes(s: Session, result: object) -> None:
+    s.attach(claims=[o.as_json() for o in result.outcomes])
     for o in result.outcomes:
         method = f" [{o.method}]" if o.method else ""
         s.say(f"{o.status:>10}  {o.claim}{method}: {o.detail}")
@@ -129,6 +133,7 @@ def _basin(s: Session, args: str) -> None:
         known = ", ".join(e.name for e in model.equilibria) or "none declared"
         raise InputError(f"no declared equilibrium '{words[0]}'", hint=f"declared: {known}")
     result = basin(model, words[0], degree=degree, progress=s.progress)
+    s.attach(basin=result.to_json())
     head, extra = result._summary()
     s.say(head + ("" if result.certified else f": {extra}"))
     if result.certified:
@@ -141,6 +146,7 @@ def _cycles(s: Session, args: str) -> None:
     from proofkit.api import orbit
 
     result = orbit(s.need_model(), progress=s.progress)
+    s.attach(**result.to_json())
     if not result.cycles:
         s.say("no periodic orbit located (numerical search; not a proof)")
     for row in result._rows():
@@ -157,7 +163,9 @@ def _write(s: Session, args: str) -> None:
         raise InputError("write needs a directory", hint="write out/")
     result = prove(s.need_model(), progress=s.progress)
     _outcomes(s, result)
-    for path in result.write(args):
+    written = result.write(args)
+    s.attach(written=[str(p) for p in written])
+    for path in written:
         s.say(f"wrote {path}")
 
 
@@ -171,5 +179,6 @@ def _portrait(s: Session, args: str) -> None:
         raise InputError(f"{out}: unknown picture format", hint="name it FILE.png, .svg or .pdf")
     s.progress("drawing the phase portrait")
     result = portrait(model, out)
+    s.attach(portrait=result.to_json())
     marks = ", ".join(f"{p.name or '-'} ({p.verdict})" for p in result.data.points)
     s.say(f"wrote {out}: {marks}")

@@ -156,14 +156,15 @@ def run_shell(
     stderr: TextIO | None = None,
     interactive: bool | None = None,
     quiet: bool = False,
+    json_lines: bool = False,
 ) -> int:
     """Run a shell session (on ``path``'s statements if given); returns the exit code 0."""
     inp = stdin or sys.stdin
-    session = Session(stdout, stderr, quiet)
+    session = Session(stdout, stderr, quiet, json_lines)
     if path:
         session.handle(f"load {path}")
     if interactive is None:
-        interactive = inp.isatty() and (stdout or sys.stdout).isatty()
+        interactive = inp.isatty() and (stdout or sys.stdout).isatty() and not json_lines
     if interactive:
         _interactive(session)
     else:

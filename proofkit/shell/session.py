@@ -13,6 +13,7 @@ commands are looked up in a table by their first word.
 
 from __future__ import annotations
 
+import json
 import sys
 from collections.abc import Callable
 from typing import TYPE_CHECKING, Any, TextIO
@@ -32,9 +33,16 @@ class Session:
     """The state of one shell: statements, the model they parse to, and output streams."""
 
     def __init__(
-        self, out: TextIO | None = None, err: TextIO | None = None, quiet: bool = False
+        self,
+        out: TextIO | None = None,
+        err: TextIO | None = None,
+        quiet: bool = False,
+        json_lines: bool = False,
     ) -> None:
         self.out = out or sys.stdout
+        self.json_lines = json_lines  # one JSON object per input instead of text
+        self._lines: list[str] = []
+        self._data: dict[str, Any] = {}
         self.err = err or sys.stderr
         self.quiet = quiet
         self.statements = StatementSet()
@@ -46,7 +54,14 @@ class Session:
 
     # --- output -------------------------------------------------------------
     def say(self, text: str = "") -> None:
-        print(text, file=self.out, flush=True)
+        if self.json_lines:
+            self._lines.extend(text.splitlines() or [""])
+        else:
+            print(text, file=self.out, flush=True)
+
+    def attach(self, **data: Any) -> None:
+        """Structured results of the current input (printed in JSON mode only)."""
+        self._data.update(data)
 
     def progress(self, msg: str) -> None:
         if not self.quiet:
@@ -87,11 +102,14 @@ class Session:
         text = line.strip()
         if not text or text.startswith("#"):
             return
+        self._lines, self._data = [], {}
+        ok = False
         try:
             if key_of(text) is not None:
                 self.statement(text)
             else:
                 self.command(text)
+            ok = True
         except KeyboardInterrupt:
             self.say("interrupted")
         except InputError as err:
@@ -104,6 +122,9 @@ class Session:
             self.say(
                 f"internal error (a bug in proofkit; please report it): {type(exc).__name__}: {exc}"
             )
+        if self.json_lines:
+            record = {"input": text, "ok": ok, "output": self._lines, **self._data}
+            print(json.dumps(record, default=str), file=self.out, flush=True)
 
     def statement(self, text: str) -> None:
         key = key_of(text)
@@ -116,6 +137,7 @@ class Session:
             raise _relocated(problem, text)
         what = f"{key[0]} {key[1]}".strip()
         self.commit(trial, f"{verb}: {what}" if verb == "replaced" else "")
+        self.attach(statement=key[0], name=key[1], action=verb, complete=self.model is not None)
 
     def command(self, text: str) -> None:
         from proofkit.shell.questions import COMMANDS, unknown

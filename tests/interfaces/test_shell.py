@@ -184,3 +184,25 @@ def pexpect_timeout() -> object:
     import pexpect
 
     return pexpect.TIMEOUT
+
+
+def test_json_mode_answers_each_line_with_one_object() -> None:
+    import json
+
+    out, err = io.StringIO(), io.StringIO()
+    lines = DUFFING + "equilibria\ntry origin stable\ndx/dt = 2x\nshow\n"
+    run_shell(None, stdin=io.StringIO(lines), stdout=out, stderr=err, json_lines=True)
+    records = [json.loads(line) for line in out.getvalue().splitlines()]
+    assert len(records) == len(lines.splitlines())
+    by_input = {r["input"]: r for r in records}
+    eqs = by_input["equilibria"]["equilibria"]
+    # computed by hand: x in {-1, 0, 1}, the outer two saddles
+    assert sorted((e["numeric"]["x"], e["type"]) for e in eqs) == [
+        (-1.0, "saddle"),
+        (0.0, "stable focus"),
+        (1.0, "saddle"),
+    ]
+    assert by_input["try origin stable"]["claims"][0]["status"] == "proved"
+    bad = by_input["dx/dt = 2x"]
+    assert bad["ok"] is False and any("^" in line for line in bad["output"])
+    assert by_input["show"]["complete"] is True
