@@ -122,7 +122,8 @@ def run(args: argparse.Namespace) -> int:
         print(json.dumps(result.to_json(), indent=2))
     else:
         for p in result.data.points:
-            print(f"{p.verdict:>12}  {p.name or '-'}  at ({p.xy[0]:.6g}, {p.xy[1]:.6g})")
+            x, y = (0.0 if abs(v) < 1e-12 else v for v in p.xy)  # display only
+            print(f"{p.verdict:>12}  {p.name or '-'}  at ({x:.6g}, {y:.6g})")
         for label in [r.label for r in result.data.regions]:
             print(f"      region  {label}")
         if result.data.cycles:

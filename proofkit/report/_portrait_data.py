@@ -183,7 +183,8 @@ def model_portrait_data(
     if certificate is not None and len(m.states) == 2:
         drawn = certificate_data(dict(certificate))
         regions = drawn.regions if drawn is not None else ()
-    box = _box(points, _domain_fn(m, names, fixed))
+    domain = _domain_fn(m, names, fixed)
+    box = _box(points, domain)
     where = ", ".join(f"{s} = {v:g}" for s, v in fixed.items())
     note = "streamlines and curves: floating-point integration, for illustration"
     if where:
@@ -191,7 +192,9 @@ def model_portrait_data(
     if m is not model:
         note = "nominal parameter values; " + note
     title = f"phase portrait of {model.name or 'the model'}"
-    return PortraitData(title, names, field, box, points, regions, tuple(cycles), note)
+    return PortraitData(
+        title, names, field, box, points, regions, tuple(cycles), note, domain=domain
+    )
 
 
 # --- portrait data from a certificate (documents) ------------------------------
@@ -310,7 +313,8 @@ def certificate_data(cert: dict[str, Any]) -> PortraitData | None:
     points = tuple(
         PortraitPoint(name, xy, _display_type(fld, xy, v)) for xy, (name, v) in verdicts.items()
     )
-    box = _box(points, _cert_domain(model))
+    domain = _cert_domain(model)
+    box = _box(points, domain)
     title = f"phase portrait of {model.get('name') or 'the model'} (illustration, not evidence)"
     return PortraitData(
         title,
@@ -320,6 +324,7 @@ def certificate_data(cert: dict[str, Any]) -> PortraitData | None:
         points,
         tuple(regions),
         note="marks: verdicts the audit accepted in this certificate",
+        domain=domain,
     )
 
 

@@ -84,6 +84,7 @@ class PortraitData:
     cycles: tuple[Any, ...] = ()  # closed polylines, arrays of shape (n, 2)
     note: str = ""
     trajectories: int = 4
+    domain: Scalar | None = None  # True inside the model's domain (outlined when bounded)
     extra: dict[str, Any] = field(default_factory=dict, compare=False)
 
 
@@ -262,6 +263,24 @@ def _draw_flow(ax: Any, data: PortraitData) -> None:
     )
 
 
+def _draw_domain(ax: Any, data: PortraitData) -> list[Any]:
+    import numpy as np
+    from matplotlib.lines import Line2D
+
+    if data.domain is None:
+        return []
+    xmin, xmax, ymin, ymax = data.box
+    gx, gy = np.meshgrid(np.linspace(xmin, xmax, 200), np.linspace(ymin, ymax, 200))
+    with np.errstate(all="ignore"):
+        inside = np.broadcast_to(np.asarray(data.domain(gx, gy), dtype=float), gx.shape)
+    if inside.min() == inside.max():
+        return []
+    ax.contour(
+        gx, gy, inside, levels=[0.5], colors=["0.3"], linestyles=[":"], linewidths=1.5, zorder=3
+    )
+    return [Line2D([], [], color="0.3", ls=":", lw=1.5, label="domain (claims hold inside)")]
+
+
 def _draw_regions(ax: Any, data: PortraitData) -> list[Any]:
     import numpy as np
     from matplotlib.patches import Patch
@@ -392,7 +411,7 @@ def draw_portrait(data: PortraitData) -> Any:
     ax = fig.add_subplot()
     xmin, xmax, ymin, ymax = data.box
     _draw_flow(ax, data)
-    region_handles = _draw_regions(ax, data)
+    region_handles = _draw_regions(ax, data) + _draw_domain(ax, data)
     _draw_curves(ax, data)
     _draw_points(ax, data)
     ax.set_xlim(xmin, xmax)

@@ -52,3 +52,14 @@ dx/dt = -x + x^3
 dy/dt = -y
 equilibrium origin at x = 0, y = 0
 """
+
+# A damped pendulum with a bounded domain (invented numbers, a classic shape): equilibria at
+# th = k pi, w = 0; those at +-pi are saddles (common practice: the inverted pendulum).
+PENDULUM = """\
+system pendulum
+constant g = 981/100
+state th, w
+dth/dt = w
+dw/dt = -g*sin(th) - w/2
+domain th^2 <= 16 and w^2 <= 36
+"""

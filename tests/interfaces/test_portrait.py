@@ -16,7 +16,7 @@ import pytest
 
 import proofkit
 
-from .models import CONVECTION, DUFFING, DUFFING_POINTS
+from .models import CONVECTION, DUFFING, DUFFING_POINTS, PENDULUM
 
 PY = sys.executable
 
@@ -165,3 +165,15 @@ def test_document_portrait_from_a_certificate(duffing_file: Path, tmp_path: Path
     data = certificate_portrait_data(run.certificate)
     assert data is not None
     assert {p.xy: p.verdict for p in data.points} == {(0.0, 0.0): "stable", (1.0, 0.0): "saddle"}
+
+
+def test_axes_from_the_domain_and_a_non_polynomial_field() -> None:
+    import math
+
+    drawn = proofkit.portrait(proofkit.parse(PENDULUM))
+    xmin, xmax, ymin, ymax = drawn.data.box
+    assert -4.8 < xmin < -4 and 4 < xmax < 4.8 and -7.2 < ymin < -6 and 6 < ymax < 7.2
+    marks = sorted((round(p.xy[0], 9), p.verdict) for p in drawn.data.points)
+    assert marks == [(-round(math.pi, 9), "saddle"), (0.0, "stable"), (round(math.pi, 9), "saddle")]
+    (ax,) = drawn.figure().axes
+    assert "domain (claims hold inside)" in [t.get_text() for t in ax.get_legend().get_texts()]
