@@ -128,10 +128,13 @@ def _load(s: Session, args: str) -> None:
         raise InputError("load needs a file name", hint="load worked/valve_latch.pk")
     path = Path(args)
     try:
-        data = path.read_bytes()[: MAX_FILE_BYTES + 1]
+        with path.open("rb") as handle:  # bounded: devices and pipes report no size
+            data = handle.read(MAX_FILE_BYTES + 1)
         text = data.decode("utf-8")
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError(f"{args}: cannot be read ({exc})") from None
+    if len(data) > MAX_FILE_BYTES:
+        raise InputError(f"{args}: larger than {MAX_FILE_BYTES} bytes; not a model file")
     statements = StatementSet()
     for st in split_statements(text):
         key = key_of(st)
