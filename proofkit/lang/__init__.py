@@ -1,8 +1,10 @@
 """The model language: ``.pk`` text to the exact, immutable :class:`~proofkit.model.Model`.
 
-Public functions: :func:`parse_model` (text), :func:`load_model` (a file),
-:func:`format_model` (a Model back to text), :func:`format_expr` (one exact
-expression in the language's syntax). Every failure caused by the input is an
+Model text enters the library through one public door, :func:`proofkit.parse`
+and :func:`proofkit.load`; :func:`parse_model` (text) and :func:`load_model` (a
+file) are the machinery behind that door and not part of the public API.
+Public here: :func:`format_model` (a Model back to text), :func:`format_expr`
+(one exact expression in the language's syntax). Every failure caused by the input is an
 :class:`~proofkit.errors.InputError` (or its :class:`~proofkit.errors.LimitError`)
 with file, line, column, a caret under the fault and a hint.
 
@@ -38,8 +40,6 @@ __all__ = [
     "format_expr",
     "format_model",
     "format_region",
-    "load_model",
-    "parse_model",
 ]
 
 MAX_FILE_BYTES = MAX_FILE_CHARS
