@@ -261,6 +261,18 @@ def _cert_point(entry: dict[str, Any]) -> tuple[str | None, tuple[float, float]]
     return eq.get("name") or ev.get("equilibrium"), (_q(point[0], d), _q(point[1], d))
 
 
+def _outside(conds: list[Any]) -> Scalar:
+    """``max_i -g_i``: at most 0 exactly on the set ``{g_i >= 0 for all i}``."""
+    gs = [_poly_fn(c["g"]) for c in conds]
+
+    def f(x: Any, y: Any) -> Any:
+        import numpy as np
+
+        return np.max(np.stack([np.broadcast_to(-g(x, y), np.shape(x)) for g in gs]), axis=0)
+
+    return f
+
+
 def _cert_regions(entry: dict[str, Any], xy: tuple[float, float] | None) -> list[PortraitRegion]:
     ev = entry.get("evidence") or {}
     nums = ev.get("numbers") or {}
@@ -280,6 +292,9 @@ def _cert_regions(entry: dict[str, Any], xy: tuple[float, float] | None) -> list
                 _q(nums["outer"]),
             )
         ]
+    conds = (entry.get("claim") or {}).get("set") if isinstance(entry.get("claim"), dict) else None
+    if kind == "no cycle" and conds:
+        return [PortraitRegion("certified free of periodic orbits", _outside(conds), 0.0)]
     if "V" in ev and "level" in nums and xy is not None:
         name = ((entry.get("claim") or {}).get("equilibrium") or {}).get("name", "")
         return [

@@ -177,3 +177,37 @@ def test_axes_from_the_domain_and_a_non_polynomial_field() -> None:
     assert marks == [(-round(math.pi, 9), "saddle"), (0.0, "stable"), (round(math.pi, 9), "saddle")]
     (ax,) = drawn.figure().axes
     assert "domain (claims hold inside)" in [t.get_text() for t in ax.get_legend().get_texts()]
+
+
+def test_certificate_regions_for_cycle_claims_are_drawn_where_they_lie() -> None:
+    from proofkit.report._portrait_data import _cert_regions
+
+    disc = [{"g": [[[0, 0], "1/4"], [[2, 0], "-1"], [[0, 2], "-1"]], "strict": False}]
+    no_cycle = {"claim": {"kind": "no cycle", "set": disc}, "status": "proved", "evidence": {}}
+    (free,) = _cert_regions(no_cycle, None)
+    assert free.func(0.0, 0.0) <= free.level < free.func(1.0, 0.0)
+    w = [[[2, 0], "1/2"], [[0, 2], "1"]]  # W = (p^2 + 2 v^2)/2
+    annulus = {
+        "claim": {"kind": "cycle", "set": disc},
+        "status": "proved",
+        "evidence": {"W": w, "numbers": {"inner": "7/20", "outer": "33/20"}},
+    }
+    (band,) = _cert_regions(annulus, None)
+    assert band.level <= band.func(1.0, 0.0) <= band.upper  # the whistle ellipse W = 1/2
+    assert band.func(0.0, 0.0) < band.level
+    assert _cert_regions({**annulus, "status": "not proved"}, None) == []
+
+
+@pytest.mark.slow
+def test_document_portrait_of_the_worked_whistle(tmp_path: Path) -> None:
+    root = Path(__file__).resolve().parents[2]
+    run = proofkit.prove(root / "worked" / "duct_whistle.pk")
+    from proofkit.report.figures import certificate_portrait_data
+
+    data = certificate_portrait_data(run.certificate)
+    assert data is not None
+    labels = sorted(r.label for r in data.regions)
+    assert labels == [
+        "certified free of periodic orbits",
+        "certified trapping annulus (holds a periodic orbit)",
+    ]
