@@ -53,6 +53,9 @@ __all__ = [
 ]
 
 Mpoly = flint.fmpq_mpoly
+MAX_STATES = 8  # as the audit: Hurwitz minors are expanded without division
+MAX_PARAMS = 6
+MAX_GRID = 100_000  # Bernstein coefficients of all conditions on one sub-box
 Box = tuple[tuple[Fraction, Fraction], ...]
 _RADICAL = "sqrt_g"
 
@@ -153,6 +156,11 @@ def range_system(model: Model, name: str) -> RangeSystem | str:
     uncertain = [p for p in model.params if p.is_uncertain]
     if not uncertain:
         return "the model has no uncertain parameter"
+    if len(model.states) > MAX_STATES or len(uncertain) > MAX_PARAMS:
+        return (
+            f"more than {MAX_STATES} states or {MAX_PARAMS} uncertain parameters "
+            "(the limits of range linearization)"
+        )
     fixed = {p.symbol: p.nominal for p in model.params if not p.is_uncertain}
     syms = [p.symbol for p in uncertain]
     ends = [(_frac(p.low), _frac(p.high), _frac(p.nominal)) for p in uncertain]
@@ -195,6 +203,13 @@ def range_system(model: Model, name: str) -> RangeSystem | str:
         return f"{name} is not an equilibrium for every parameter value (f does not vanish)"
     split = tuple(_split_radical(c, radicand) for c in point)
     cp = charpoly(jm, radicand)
+    conditions = hurwitz_conditions(cp, radicand)
+    grid = sum(_grid(c) for c in [*conditions, *([radicand] if radicand is not None else [])])
+    if grid > MAX_GRID:
+        return (
+            f"the Hurwitz conditions have {grid} Bernstein coefficients per sub-box "
+            f"(at most {MAX_GRID}): too many parameters or too high degrees"
+        )
     return RangeSystem(
         tuple(p.name for p in uncertain),
         radical,
@@ -204,7 +219,7 @@ def range_system(model: Model, name: str) -> RangeSystem | str:
         radicand,
         split,
         tuple(cp),
-        tuple(hurwitz_conditions(cp, radicand)),
+        tuple(conditions),
     )
 
 
@@ -237,6 +252,13 @@ def moving_point_json(model: Model, name: str) -> dict[str, Any] | None:
         }
     except (sp.PolynomialError, TypeError):
         return None
+
+
+def _grid(p: Mpoly) -> int:
+    size = 1
+    for d in p.degrees():
+        size *= max(int(d), 0) + 1
+    return size
 
 
 def _split_radical(c: Mpoly, radicand: Mpoly | None) -> tuple[Mpoly, Mpoly]:

@@ -160,3 +160,19 @@ def test_radical_that_does_not_cancel_audits() -> None:
     cert = json.loads(text)  # an enclosure that misses sqrt(k) is rejected
     cert["claims"][0]["evidence"]["cover"][0]["box"][1] = ["3", "4"]
     assert reaudit(cert)[0].status == "rejected"
+
+
+def test_parameter_limit_at_and_past() -> None:
+    # common practice: dx/dt = -(p1 + ... + pm) x is stable when every p_j >= 1
+    from proofkit.analysis.parametric import MAX_PARAMS
+
+    for count, expected in ((MAX_PARAMS, "proved"), (MAX_PARAMS + 1, "not proved")):
+        ps = [sp.Symbol(f"p{j}", real=True) for j in range(count)]
+        params = tuple(
+            Param(f"p{j}", sp.Integer(1), sp.Integer(1), sp.Integer(2)) for j in range(count)
+        )
+        m = build("x", [-sum(ps) * X], params, {"o": {"x": 0}}, [("stable", "o")])
+        _, attempts, verdicts = certify(m)
+        assert verdicts[0].status == expected
+        if expected == "not proved":
+            assert "uncertain parameters" in attempts[0].entry["reason"]
