@@ -123,7 +123,7 @@ def test_piped_program_has_no_prompt_and_exits_0(tmp_path: Path) -> None:
     assert "neither a statement nor a command" in done.stdout and done.stderr == ""
 
 
-def _spawn(tmp_path: Path) -> object:
+def _spawn(tmp_path: Path, *extra: str) -> object:
     pexpect = pytest.importorskip("pexpect")
     env = {
         **os.environ,
@@ -133,7 +133,7 @@ def _spawn(tmp_path: Path) -> object:
     }
     return pexpect.spawn(
         PY,
-        ["-m", "proofkit", "shell", "--quiet"],
+        ["-m", "proofkit", "shell", *extra],
         env=env,
         cwd=str(tmp_path),
         encoding="utf-8",
@@ -143,7 +143,7 @@ def _spawn(tmp_path: Path) -> object:
 
 
 def test_terminal_session_with_completion_history_and_ctrl_keys(tmp_path: Path) -> None:
-    child = _spawn(tmp_path)
+    child = _spawn(tmp_path, "--quiet")
     child.expect("'help' lists the commands")
     child.expect("proofkit>")
     child.sendline("state x, y")
@@ -206,3 +206,22 @@ def test_json_mode_answers_each_line_with_one_object() -> None:
     bad = by_input["dx/dt = 2x"]
     assert bad["ok"] is False and any("^" in line for line in bad["output"])
     assert by_input["show"]["complete"] is True
+
+
+def test_ctrl_c_stops_long_work_and_the_session_goes_on(tmp_path: Path) -> None:
+    import pexpect
+
+    child = _spawn(tmp_path)
+    child.expect("proofkit>")
+    for line in DUFFING.splitlines():
+        child.sendline(line)
+    child.sendline("basin origin 10")  # a long search: degree 10
+    child.expect("proofkit: ")  # progress on stderr: the work has started
+    child.sendintr()
+    child.expect("interrupted")
+    child.sendline("show")
+    child.expect("complete model: 2 states")
+    child.sendline("quit")
+    child.expect(pexpect.EOF)
+    child.close()
+    assert child.exitstatus == 0
