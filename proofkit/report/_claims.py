@@ -313,15 +313,19 @@ def _function_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Bloc
             appendix.append(Block("math", body))
     numbers = ev.get("numbers") or {}
     if numbers:
-        shown = ",\\; ".join(f"\\mathrm{{{k}}} = {latex_number(v)}" for k, v in numbers.items())
-        out.append(
-            para(t("Numbers of the certificate: "), m(shown.replace("eps", "\\varepsilon")), t("."))
-        )
+        shown = ",\\; ".join(f"{_number_name(k)} = {latex_number(v)}" for k, v in numbers.items())
+        out.append(para(t("Numbers of the certificate: "), m(shown), t(".")))
     for name, poly in (ev.get("free") or {}).items():
         out.append(
             para(t("Free polynomial "), m(f"{latex_label(name)} = " + latex_poly(poly, states)))
         )
     return out
+
+
+def _number_name(key: str) -> str:
+    if key == "eps":
+        return "\\varepsilon"
+    return "\\mathrm{" + key.replace("_", "\\_") + "}"
 
 
 def _squares_text(basis: Sequence[Any], gram: Sequence[Any], states: list[str]) -> str | None:
@@ -355,14 +359,18 @@ def _obligation(
     out = []
     if target is not None:
         out.append(
-            para(t(f"Obligation {name}: "), m(f"{target} = z^T G_{{{label}}} z"), t(" with"))
+            para(
+                t(f"Obligation {name}: "),
+                m(f"{target} = z^T G_{{{label}}} z"),
+                t(f"; Gram matrix {name} with basis"),
+            )
         )
     else:
         out.append(
             para(
                 t(f"Obligation {name} (a multiplier, a sum of squares itself): "),
                 m(f"z^T G_{{{label}}} z"),
-                t(" with"),
+                t(f"; Gram matrix {name} with basis"),
             )
         )
     z = (

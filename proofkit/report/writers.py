@@ -7,7 +7,7 @@ These writers lay out blocks; they never compute or judge anything.
 
 from __future__ import annotations
 
-from proofkit.report.document import Block, Seg
+from proofkit.report._blocks import Block, Seg
 
 __all__ = ["to_latex", "to_markdown"]
 
