@@ -127,8 +127,9 @@ def _level_program(c0: Fraction) -> tuple[SearchProgram, object]:
 
 
 def test_bisection_program_reused_over_levels_matches_fresh_programs() -> None:
-    # published/computed (REFERENCES.md): for this V the largest certifiable level is below
-    # c* = 2.3044776 (computed); levels well below it are feasible, levels above are not.
+    # computed (REFERENCES.md, reversed-time oscillator: minimum of V on {Vdot = 0, x != 0} by
+    # a dense polar sweep): for this V the largest certifiable level is below c* = 2.3044776;
+    # levels well below it are feasible, levels above are not.
     levels = [Fraction(k, 4) for k in (1, 3, 5, 7, 9, 10, 11)]
     reused, c = _level_program(levels[0])
     stats = []
