@@ -96,12 +96,10 @@ class Inspection:
     def to_json(self) -> dict[str, Any]:
         """The object printed by ``proofkit inspect --json``."""
         from proofkit.analysis.display import equilibria_json
-        from proofkit.cli.inspect_cmd import inspect_report
-
-        if self.survey is None:
-            return inspect_report(self.model)
         from proofkit.cli import inspect_cmd
 
+        if self.survey is None:
+            return inspect_cmd.inspect_report(self.model)
         return {
             "file": self.model.file,
             "model": inspect_cmd._model_dict(self.model),
@@ -109,11 +107,12 @@ class Inspection:
         }
 
     def _rows(self) -> list[tuple[str, str, str, str]]:
-        from proofkit.analysis.display import exact_text
+        import sympy as sp
 
         rows = []
         for e in self.equilibria:
-            point = ", ".join(f"{k} = {exact_text(v)}" for k, v in e.point.items())
+            point = "$" + ", ".join(f"{_tex(sp.Symbol(k))} = {_tex(v)}" for k, v in e.point.items())
+            point += "$"
             if not e.exact:
                 point = "near " + ", ".join(f"{k} ~ {v:.6g}" for k, v in e.numeric.items())
             rows.append((e.name or "-", point, e.verdict, e.type))
@@ -133,11 +132,8 @@ class Inspection:
     def _repr_latex_(self) -> str:
         lines = [rf"\textbf{{model {_text_tex(self.model.name or '(unnamed)')}}}\\"]
         lines += [eq + r"\\" for eq in _equations_math(self.model)]
-        import sympy as sp
-
-        for e in self.equilibria:
-            pt = ", ".join(f"{_tex(sp.Symbol(k))} = {_tex(v)}" for k, v in e.point.items())
-            lines.append(rf"{_text_tex(e.name or '-')}: ${pt}$, {e.verdict} ({e.type})\\")
+        for name, point, verdict, kind in self._rows():
+            lines.append(rf"{_text_tex(name)}: {point}, {verdict} ({_text_tex(kind)})\\")
         return "\n".join(lines)
 
     def _repr_png_(self) -> bytes | None:
