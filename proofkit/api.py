@@ -166,9 +166,13 @@ def audit(certificate: Any, *, core_only: bool = False) -> AuditResult:
 def orbit(
     model: Model | str | os.PathLike[str],
     *,
+    box: float = 3.0,
     progress: Progress | None = None,
 ) -> OrbitResult:
     """Locate periodic orbits numerically (shooting; Floquet multipliers). Not a proof.
+
+    Starts fill the box ``[-box, box]`` in every state (as ``proofkit orbit --box``).
+    The example is the circle of radius 1, period ``2 pi`` (by hand, in polar form).
 
     >>> import proofkit
     >>> m = proofkit.parse("state x, y\\ndx/dt = -y + x*(1 - x^2 - y^2)\\n"
@@ -177,12 +181,20 @@ def orbit(
     >>> len(r.cycles), round(r.cycles[0].period, 3)
     (1, 6.283)
     """
+    from proofkit.errors import InputError, ModelError
+
     m = _model(model)
+    if not 0 < box <= 1e6:
+        raise InputError(f"box {box}: expected a half-width in (0, 1e6]")
     try:
         from proofkit.analysis.orbits import find_cycles
     except ImportError:
         raise NotAvailable("locating periodic orbits is not available yet") from None
-    return OrbitResult(m, find_cycles(m, progress=progress))
+    try:
+        found = find_cycles(m, box=tuple((-box, box) for _ in m.states), progress=progress)
+    except ModelError as err:
+        raise InputError(f"{m.file}: {err}") from None
+    return OrbitResult(m, found)
 
 
 def basin(
