@@ -64,11 +64,27 @@ class InputError(ProofkitError):
         if self.span is not None and self.source_line is not None:
             text = self.source_line.rstrip("\n")
             width = max(1, (self.span.end_column or self.span.column + 1) - self.span.column)
+            text, offset, width = _window(text, self.span.column - 1, width)
             lines.append(f"    {text}")
-            lines.append("    " + " " * (self.span.column - 1) + "^" * width)
+            lines.append("    " + " " * offset + "^" * width)
         if self.hint:
             lines.append(f"hint: {self.hint}")
         return "\n".join(lines)
+
+
+_SHOWN = 120  # characters of a long source line shown around the fault
+
+
+def _window(text: str, offset: int, width: int) -> tuple[str, int, int]:
+    """A long line shortened to the part around ``offset`` (with "..." marks)."""
+    if len(text) <= _SHOWN:
+        return text, offset, width
+    start = max(0, offset - _SHOWN // 2)
+    end = min(len(text), start + _SHOWN)
+    head = "..." if start > 0 else ""
+    tail = "..." if end < len(text) else ""
+    width = max(1, min(width, end - offset))
+    return head + text[start:end] + tail, offset - start + len(head), width
 
 
 class LimitError(InputError):

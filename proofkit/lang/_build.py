@@ -34,6 +34,7 @@ from proofkit.lang._expr import (
     expression_size,
     show,
 )
+from proofkit.lang._limits import MAX_CLAIMS, MAX_EQUILIBRIA, MAX_STATES
 from proofkit.model import (
     Claim,
     Condition,
@@ -251,6 +252,13 @@ class _Builder:
                 st.meta,
                 hint="list all states in one statement: state x, y, ...",
             )
+        if len(st.children) > MAX_STATES:
+            raise self.err(
+                f"{len(st.children)} states; the limit is {MAX_STATES}",
+                st.children[MAX_STATES],
+                hint="a model this large is beyond what the exact methods can analyse",
+                limit=True,
+            )
         for tok in st.children:
             self.declare(tok, "state", sp.Symbol(str(tok), real=True))
         self.states = [str(t) for t in st.children]
@@ -369,6 +377,13 @@ class _Builder:
                 st.meta,
                 hint="give every state: " + ", ".join(f"{s} = ..." for s in self.states),
             )
+        if len(self.equilibria) >= MAX_EQUILIBRIA:
+            raise self.err(
+                f"more than {MAX_EQUILIBRIA} equilibria; the limit is {MAX_EQUILIBRIA}",
+                st.meta,
+                hint="declare only the equilibria that claims are about",
+                limit=True,
+            )
         self.declare(tok, "equilibrium", None)
         fixed = {p.symbol: p.nominal for p in self.params if not p.is_uncertain}
         point = tuple((s, given[s].subs(fixed)) for s in self.states)
@@ -377,6 +392,13 @@ class _Builder:
         self.equilibria.append((eq, st, own))
 
     def st_claim(self, st: Tree, index: int) -> None:
+        if len(self.claims) >= MAX_CLAIMS:
+            raise self.err(
+                f"more than {MAX_CLAIMS} claims; the limit is {MAX_CLAIMS}",
+                st.meta,
+                hint="split the claims over several model files",
+                limit=True,
+            )
         body = st.children[0]
         at_nominal = len(st.children) > 1
         kind = _CLAIM_KINDS[body.data]

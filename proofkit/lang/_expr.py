@@ -23,6 +23,15 @@ from lark.exceptions import VisitError
 
 from proofkit.errors import InputError
 from proofkit.lang._diagnostics import Located, closest, make_error
+from proofkit.lang._exact import ball_of
+from proofkit.lang._limits import (
+    MAX_EXP_ARGUMENT,
+    MAX_EXP_NESTING,
+    MAX_NUMBER_BITS,
+    MAX_NUMBER_DIGITS,
+    NumberSizes,
+    digits_of_bits,
+)
 from proofkit.model import Definedness
 
 __all__ = [
@@ -44,8 +53,7 @@ __all__ = [
 MAX_EXPONENT = 64  # largest |n| in x^n
 MAX_TERMS = 10_000  # terms of an expanded right-hand side or condition
 MAX_LITERAL_DIGITS = 1000
-MAX_LITERAL_EXPONENT = 1000  # |e| in a literal like 1e-3
-MAX_NUMBER_BITS = 100_000  # size of an exact number produced by a power
+MAX_LITERAL_EXPONENT = 300  # |e| in a literal like 1e-3
 MAX_NODES = 100_000  # operations in one expression once shorthands are substituted
 MAX_EXPR_DEPTH = 200  # depth of one expression once shorthands are substituted
 
@@ -270,6 +278,7 @@ class ExprBuilder(Transformer):
         self.purpose = purpose
         self.later = later
         self.definedness: list[Definedness] = []
+        self.sizes = NumberSizes()
 
     # --- helpers -------------------------------------------------------------
     def _err(self, msg: str, line: int, col: int, end: int | None = None, **kw: Any) -> InputError:
@@ -363,6 +372,25 @@ class ExprBuilder(Transformer):
         self.definedness.extend(binding.definedness)
         return binding.value
 
+    def _exp_limits(self, v: Val) -> None:
+        """Nested exp and huge constant arguments make numbers no one can evaluate."""
+        if self.sizes.exp_nesting(v.expr) >= MAX_EXP_NESTING:
+            raise self._err_val(
+                f"exp is nested more than {MAX_EXP_NESTING} levels deep",
+                v,
+                hint="rescale the model; nested exponentials overflow every evaluation",
+                limit=True,
+            )
+        if not v.expr.free_symbols:
+            b = ball_of(v.expr)
+            if b is None or not abs(b) <= MAX_EXP_ARGUMENT:
+                raise self._err_val(
+                    f"exp of a constant beyond {MAX_EXP_ARGUMENT} in absolute value",
+                    v,
+                    hint="rescale the model; such a number has hundreds of digits",
+                    limit=True,
+                )
+
     def _require(self, expr: sp.Expr, relation: str, origin: str, v: Val) -> None:
         """Record where the value being built is defined (before sympy may simplify it away)."""
         if expr.free_symbols:
@@ -383,11 +411,24 @@ class ExprBuilder(Transformer):
     def _val(self, child: Val | Token) -> Val:
         return child if isinstance(child, Val) else self._token_value(child)
 
+    def _number_limit(self, bits: int, meta: Any, what: str) -> None:
+        if bits > MAX_NUMBER_BITS:
+            raise self._err(
+                f"{what} would hold an exact number of about {digits_of_bits(bits)} digits; "
+                f"the limit is {MAX_NUMBER_DIGITS} digits",
+                meta.line,
+                meta.column,
+                meta.end_column if meta.end_line == meta.line else None,
+                hint="use numbers of a sensible size (rescale the model)",
+                limit=True,
+            )
+
     def sum(self, meta: Any, children: list[Any]) -> Val:
         terms = [self._val(children[0]).expr]
         for op, child in zip(children[1::2], children[2::2], strict=True):
             value = self._val(child).expr
             terms.append(value if str(op) == "+" else -value)
+        self._number_limit(self.sizes.sum_bits(terms), meta, "this sum")
         return Val(sp.Add(*terms), *_pos(meta))
 
     def product(self, meta: Any, children: list[Any]) -> Val:
@@ -403,6 +444,7 @@ class ExprBuilder(Transformer):
             self._require(v.expr, "!=", "a denominator", v)
             factors.append(sp.Pow(v.expr, -1))
             divided = True
+        self._number_limit(self.sizes.product_bits(factors), meta, "this product")
         out = Val(sp.Mul(*factors), *_pos(meta))
         # only a division can turn finite real factors into a non-real value
         return Val(self._real(out.expr, out), *_pos(meta)) if divided else out
@@ -435,17 +477,9 @@ class ExprBuilder(Transformer):
                 limit=True,
             )
         b = base.expr
-        if b.is_Rational:
-            bits = max(int(b.p).bit_length(), int(b.q).bit_length()) * abs(p)
-            if bits > MAX_NUMBER_BITS:
-                raise self._err_val(
-                    f"this power would be a number of about {bits} bits; the limit is "
-                    f"{MAX_NUMBER_BITS}",
-                    base,
-                    limit=True,
-                )
-            if b.is_zero and p < 0:
-                raise self._err_val("zero raised to a negative power (division by zero)", base)
+        self._number_limit(self.sizes.power_bits(b, p), meta, "this power")
+        if b.is_Rational and b.is_zero and p < 0:
+            raise self._err_val("zero raised to a negative power (division by zero)", base)
         if q != 1 and b.is_number and b.is_negative:
             raise self._err_val("a negative number raised to a fractional power is not real", base)
         if q != 1:
@@ -502,6 +536,8 @@ class ExprBuilder(Transformer):
             raise self._err_val(f"{name} of a negative number is not real", v)
         if name == "log" and v.expr.is_zero:
             raise self._err_val("log(0) is not a finite number", v)
+        if name == "exp":
+            self._exp_limits(v)
         if name == "log":
             self._require(v.expr, ">", "the argument of log", v)
         elif name == "sqrt":

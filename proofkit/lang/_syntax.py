@@ -25,6 +25,7 @@ from proofkit.lang._diagnostics import (
     make_error,
     non_ascii_error,
 )
+from proofkit.lang._limits import MAX_CLAIMS, MAX_EQUILIBRIA, MAX_LINES, MAX_TOKENS
 
 __all__ = ["KEYWORDS", "MAX_DEPTH", "MAX_FILE_CHARS", "parse_tree"]
 
@@ -98,10 +99,31 @@ def _get_parser() -> Lark:
 
 
 def _check_characters(where: Located) -> None:
+    if "\r" in where.text.replace("\r\n", ""):
+        offset = _bare_cr_offset(where.text)
+        line, column = where.position(offset)
+        raise make_error(
+            where,
+            "a bare carriage return (CR) ends a line here; model files end lines with LF "
+            "(or CR LF)",
+            line,
+            column,
+            hint="save the file with Unix (LF) or Windows (CR LF) line ends",
+        )
     for offset, ch in enumerate(where.text):
         if (" " <= ch <= "~") or ch in _ALLOWED_CONTROL:
             continue
         raise non_ascii_error(where, offset)
+
+
+def _bare_cr_offset(text: str) -> int:
+    """Offset of the first CR not followed by LF."""
+    start = 0
+    while True:
+        i = text.index("\r", start)
+        if i + 1 >= len(text) or text[i + 1] != "\n":
+            return i
+        start = i + 1
 
 
 def _significant_tokens(where: Located, tokens: Iterator[Token]) -> Iterator[Token]:
@@ -384,6 +406,30 @@ def _tree_depth_check(where: Located, tree: Tree) -> None:
                 stack.append((child, depth + 1))
 
 
+_COUNTED = {
+    "_NL": (MAX_LINES, "lines"),
+    "CLAIM": (MAX_CLAIMS, "claims"),
+    "EQUILIBRIUM": (MAX_EQUILIBRIA, "equilibria"),
+}
+
+
+def _count_limit(where: Located, tok: Token, count: int) -> None:
+    """Stop reading early when a file has more lines, claims or equilibria than allowed."""
+    limit, what = _COUNTED[tok.type]
+    if count > limit:
+        raise make_error(
+            where,
+            f"more than {limit} {what}; the limit is {limit}",
+            tok.line,
+            tok.column,
+            tok.end_column if tok.type != "_NL" else None,
+            hint="a model file should be a short text; split the claims over several files"
+            if what == "claims"
+            else "declare only what the claims need",
+            limit=True,
+        )
+
+
 def parse_tree(where: Located) -> Tree:
     """Parse model text to a lark tree, raising only InputError (or LimitError)."""
     if len(where.text) > MAX_FILE_CHARS:
@@ -399,7 +445,22 @@ def parse_tree(where: Located) -> Tree:
     tokens: list[Token] = []
     try:
         interactive = parser.parse_interactive("")
+        counts = {"_NL": 0, "CLAIM": 0, "EQUILIBRIUM": 0}
         for tok in _merge_derivatives(_significant_tokens(where, parser.lex(text))):
+            if len(tokens) >= MAX_TOKENS:
+                raise make_error(
+                    where,
+                    f"more than {MAX_TOKENS} words, numbers and operators; the limit is "
+                    f"{MAX_TOKENS}",
+                    tok.line,
+                    tok.column,
+                    tok.end_column,
+                    hint="a model file should be a short text; use let shorthands",
+                    limit=True,
+                )
+            if tok.type in counts:
+                counts[tok.type] += 1
+                _count_limit(where, tok, counts[tok.type])
             try:
                 interactive.feed_token(tok)
             except UnexpectedToken:
