@@ -15,6 +15,7 @@ Everything returned is only a proposal: the caller must run the exact check
 from __future__ import annotations
 
 from collections.abc import Iterator, Sequence
+from dataclasses import dataclass
 from fractions import Fraction
 
 import flint
@@ -25,12 +26,51 @@ from proofkit.exact.rounding import round_to
 from proofkit.sos.poly import PolySpace, encode_exponents
 
 __all__ = [
+    "FaceRestriction",
     "exact_least_norm",
     "face_candidates",
     "integer_relations",
     "range_candidates",
     "rational_range",
 ]
+
+
+@dataclass(frozen=True)
+class FaceRestriction:
+    """A Gram identity restricted to a face: ``Q = W' G W``, ``W`` exact rational rows.
+
+    A reduction in the manner of compiler passes: :meth:`system` is the NEW,
+    smaller coefficient-matching system ``A_face vec(G) = b`` (floats, for the
+    solver) and :meth:`lift` maps an exact ``G`` back to the original Gram
+    matrix. Nothing is changed in place; the lift is exact.
+    """
+
+    rows: tuple[tuple[flint.fmpq, ...], ...]
+
+    @classmethod
+    def of(cls, rows: Sequence[Sequence[object]]) -> FaceRestriction:
+        def q(x: object) -> flint.fmpq:
+            if isinstance(x, flint.fmpq):
+                return x
+            f = Fraction(x)  # type: ignore[arg-type]
+            return flint.fmpq(f.numerator, f.denominator)
+
+        return cls(tuple(tuple(q(x) for x in row) for row in rows))
+
+    @property
+    def dim(self) -> int:
+        return len(self.rows)
+
+    def system(self, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """``(A (W' kron W'), b)``: ``vec(W' G W) = (W' kron W') vec(G)``, column-major."""
+        wf = np.array([[float(x) for x in row] for row in self.rows], dtype=float)
+        return a @ np.kron(wf.T, wf.T), b
+
+    def lift(self, g: Sequence[Sequence[flint.fmpq]]) -> list[list[flint.fmpq]]:
+        """The exact original-size Gram matrix ``W' G W``."""
+        wq = flint.fmpq_mat([list(r) for r in self.rows])
+        qx = wq.transpose() * flint.fmpq_mat([list(r) for r in g]) * wq
+        return [[qx[i, j] for j in range(qx.ncols())] for i in range(qx.nrows())]
 
 
 def rational_range(
@@ -164,7 +204,6 @@ def range_candidates(
 ) -> Iterator[tuple[list[list[flint.fmpq]] | None, str]]:
     """Candidates ``Q = W G W'`` for an exact range basis ``W'`` (rows) and numerical ``G``."""
     nv = space.nvars
-    n = basis.shape[0]
     r = len(wt)
     mono = [space.from_arrays(e.reshape(1, nv), [1]) for e in basis]
     cpoly = []
@@ -187,7 +226,7 @@ def range_candidates(
     tvec = [flint.fmpq(0)] * len(keys)
     for row, val in _scatter(keys, radix, target, nv):
         tvec[row] = val
-    wq = flint.fmpq_mat(wt)
+    face = FaceRestriction.of(wt)
     for den in ladder:
         g = round_to((g0 + g0.T) / 2, den)
         x0 = [g[k][m] for k, m in pairs]
@@ -206,6 +245,5 @@ def range_candidates(
         for (k, m), val, dv in zip(pairs, x0, d, strict=True):
             gm[k][m] = val + dv
             gm[m][k] = val + dv
-        qx = wq.transpose() * flint.fmpq_mat(gm) * wq
         note = f"face of rank {r}, reduced Gram on 1/{den}"
-        yield [[qx[i, j] for j in range(n)] for i in range(n)], note
+        yield face.lift(gm), note

@@ -34,7 +34,7 @@ from fractions import Fraction
 import flint
 import numpy as np
 
-from proofkit.exact.facial import range_candidates
+from proofkit.exact.facial import FaceRestriction, range_candidates
 from proofkit.sos.poly import PolySpace
 from proofkit.sos.refine import refine_low_rank
 from proofkit.sos.zeros import real_zeros, zero_relations
@@ -231,8 +231,7 @@ def _face_guess(
                     yield guess
 
     for guess in guesses():
-        wf = np.array(guess, dtype=float)
-        solved = _solve_face(a @ np.kron(wf.T, wf.T), b)
+        solved = _solve_face(*FaceRestriction.of(guess).system(a, b))
         if solved is not None and solved[1] > -1e-7 * max(1.0, float(np.abs(solved[0]).max())):
             return guess
     return None
@@ -290,9 +289,9 @@ def iterated_faces(
             if rel is not None:
                 wrows = _compose(rel.astype(object), wrows)
             restricted.add(id(wrows))
-        wf = np.array(wrows, dtype=float)  # r x n
-        r = wf.shape[0]
-        a_face = a @ np.kron(wf.T, wf.T)
+        face = FaceRestriction.of(wrows)  # a NEW system on the face; lifted by range_candidates
+        r = face.dim
+        a_face, _b = face.system(a, b)
         solved = _solve_face(a_face, b)
         if solved is None:
             yield None, f"face of dimension {r}: solver failed"
