@@ -36,7 +36,8 @@ def register(subparsers: Any) -> None:
         help="type a model line by line and ask questions interactively",
         description="An interactive session: type model statements line by line (re-typing "
         "one with the same name replaces it) and ask questions with commands (show, "
-        "equilibria, linearize, try, prove, basin, cycles, write, portrait, load, save, help). "
+        "equilibria, linearize, try, prove, basin, cycles, write, portrait, load, save, edit, "
+        "drop, undo, help). "
         "Errors are shown with a caret and the session goes on.",
         epilog=EXAMPLE,
         formatter_class=argparse.RawDescriptionHelpFormatter,

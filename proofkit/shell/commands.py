@@ -153,13 +153,13 @@ def _save(s: Session, args: str) -> None:
     s.say(f"saved {len(s.statements)} statements to {args}")
 
 
-@command("drop", "drop WHAT", "remove a statement: drop dx/dt, drop k, drop domain, drop claim 2")
-def _drop(s: Session, args: str) -> None:
+def _find(s: Session, args: str, verb: str) -> tuple[str, str]:
+    """The key of the statement named by ``args`` (dx/dt, a name, domain, claim N)."""
     keys = s.statements.key_list()
-    want: tuple[str, str] | None = None
     words = args.split()
     eq = key_of(args + " = 0") if args.startswith("d") and "/" in args else None
     claims = [k for k in keys if k[0] == "claim"]
+    want: tuple[str, str] | None
     if eq is not None and eq in keys:
         want = eq
     elif len(words) == 1 and words[0] in ("system", "state", "domain"):
@@ -172,10 +172,26 @@ def _drop(s: Session, args: str) -> None:
     else:
         want = next((k for k in keys if k[1] == args and k[0] != "claim"), None)
     if want is None or want not in keys:
-        raise InputError(f"nothing to drop named '{args}'", hint="'show' lists the statements")
+        raise InputError(f"nothing to {verb} named '{args}'", hint="'show' lists the statements")
+    return want
+
+
+@command("drop", "drop WHAT", "remove a statement: drop dx/dt, drop k, drop domain, drop claim 2")
+def _drop(s: Session, args: str) -> None:
+    want = _find(s, args, "drop")
     trial = s.statements.copy()
     trial.drop(want)
     s.commit(trial, f"dropped: {want[0]} {want[1]}".rstrip())
+
+
+@command("edit", "edit WHAT", "put a statement on the next prompt to change it: edit dx/dt")
+def _edit(s: Session, args: str) -> None:
+    want = _find(s, args, "edit")
+    text = next(st.text for st in s.statements.ordered() if st.key == want)
+    s.prefill = text
+    s.attach(statement=text)
+    if not s.interactive:
+        s.say(text)
 
 
 @command("undo", "undo", "undo the last change to the statements")

@@ -122,12 +122,15 @@ def _interactive(session: Session) -> None:
         history=_history(), completer=_session_completer(session), complete_while_typing=False
     )
     session.say(BANNER)
+    session.interactive = True
     while not session.done:
         try:
-            line = prompt.prompt(PROMPT)
+            line = prompt.prompt(PROMPT, default=session.prefill)
+            session.prefill = ""
             while unfinished(line):
                 line += " " + prompt.prompt(MORE)
         except KeyboardInterrupt:
+            session.prefill = ""
             continue
         except EOFError:
             break

@@ -51,6 +51,8 @@ class Session:
         self.problem: InputError | None = None  # why the statements are not a model yet
         self.file: str | None = None
         self.done = False
+        self.interactive = False  # set by the terminal loop
+        self.prefill = ""  # text to put on the next prompt (the edit command)
 
     # --- output -------------------------------------------------------------
     def say(self, text: str = "") -> None:

@@ -70,6 +70,11 @@ def test_retyping_an_equation_replaces_it_and_undo_restores_it() -> None:
     assert "not complete yet" in shows[3] and "has no equation" in shows[3]
 
 
+def test_edit_prints_the_statement_when_piped() -> None:
+    _, out, _ = _shell("state x\ndx/dt = -x\nedit dx/dt\nedit dy/dt\n")
+    assert "\ndx/dt = -x\n" in out and "nothing to edit named 'dy/dt'" in out
+
+
 def test_quit_ends_and_later_lines_are_not_read() -> None:
     code, out, _ = _shell("state x\ndx/dt = -x\nquit\nshow\n")
     assert code == 0 and "  1  state x" not in out
@@ -163,6 +168,12 @@ def test_terminal_session_with_completion_history_and_ctrl_keys(tmp_path: Path) 
     child.sendline("dy/dt = 2x")
     child.expect("error: ")
     child.expect("hint: ")
+    child.sendline("edit dy/dt")  # the statement comes back on the prompt, to be changed
+    child.expect("-x - y")
+    child.sendline(" + x^3")
+    child.expect("replaced: equation y")
+    child.sendline("show")
+    child.expect(r"dy/dt = -x - y \+ x\^3")
     child.expect("proofkit>")
     for _ in range(3):  # Ctrl-D on an empty line leaves; typed ahead of the prompt it may be lost
         child.sendcontrol("d")
