@@ -44,6 +44,59 @@ def _crootof_ball(r: sp.CRootOf, prec: int) -> flint.arb:
     return from_rational_interval(lo, hi)
 
 
+_UNARY = {
+    sp.sin: "sin",
+    sp.cos: "cos",
+    sp.tan: "tan",
+    sp.exp: "exp",
+    sp.log: "log",
+    sp.tanh: "tanh",
+}
+
+
+def _fold(parts: list[ArbFunction], add: bool) -> ArbFunction:
+    def run(xs: Sequence[flint.arb]) -> flint.arb:
+        acc = parts[0](xs)
+        for p in parts[1:]:
+            acc = acc + p(xs) if add else acc * p(xs)
+        return acc
+
+    return run
+
+
+def _constant(e: sp.Expr) -> ArbFunction | None:
+    if isinstance(e, sp.Rational):
+        v = flint.fmpq(int(e.p), int(e.q))
+        return lambda xs: flint.arb(v)
+    if e is sp.pi:
+        return lambda xs: flint.arb.pi()
+    if e is sp.E:
+        return lambda xs: flint.arb(1).exp()
+    if isinstance(e, sp.Float):
+        raise ModelError(f"a floating-point number in an exact expression: {e}")
+    if isinstance(e, sp.CRootOf):
+        return lambda xs: _crootof_ball(e, flint.ctx.prec)
+    return None
+
+
+def _power(base: ArbFunction, ex: sp.Expr, build: Callable[[sp.Expr], ArbFunction]) -> ArbFunction:
+    if isinstance(ex, sp.Integer):
+        k = int(ex)
+        if k >= 0:
+            return lambda xs: base(xs) ** k
+        return lambda xs: 1 / (base(xs) ** (-k))
+    if isinstance(ex, sp.Rational) and ex.q == 2:
+        k = int(ex.p)
+
+        def halfpow(xs: Sequence[flint.arb]) -> flint.arb:
+            r = base(xs).sqrt()
+            return r**k if k >= 0 else 1 / (r ** (-k))
+
+        return halfpow
+    exf = build(ex)
+    return lambda xs: base(xs) ** exf(xs)
+
+
 def compile_arb(expr: sp.Expr, symbols: Sequence[sp.Symbol]) -> ArbFunction:
     """A rigorous ball-valued version of ``expr`` as a function of the symbols' balls."""
     index = {s: i for i, s in enumerate(symbols)}
@@ -52,64 +105,14 @@ def compile_arb(expr: sp.Expr, symbols: Sequence[sp.Symbol]) -> ArbFunction:
         if e in index:
             i = index[e]
             return lambda xs: xs[i]
-        if isinstance(e, sp.Rational):
-            v = flint.fmpq(int(e.p), int(e.q))
-            return lambda xs: flint.arb(v)
-        if e is sp.pi:
-            return lambda xs: flint.arb.pi()
-        if e is sp.E:
-            return lambda xs: flint.arb(1).exp()
-        if isinstance(e, sp.Float):
-            raise ModelError(f"a floating-point number in an exact expression: {e}")
-        if isinstance(e, sp.CRootOf):
-            return lambda xs: _crootof_ball(e, flint.ctx.prec)
-        if isinstance(e, sp.Add):
-            parts = [build(a) for a in e.args]
-
-            def add(xs: Sequence[flint.arb]) -> flint.arb:
-                acc = parts[0](xs)
-                for p in parts[1:]:
-                    acc = acc + p(xs)
-                return acc
-
-            return add
-        if isinstance(e, sp.Mul):
-            parts = [build(a) for a in e.args]
-
-            def mul(xs: Sequence[flint.arb]) -> flint.arb:
-                acc = parts[0](xs)
-                for p in parts[1:]:
-                    acc = acc * p(xs)
-                return acc
-
-            return mul
+        const = _constant(e)
+        if const is not None:
+            return const
+        if isinstance(e, sp.Add | sp.Mul):
+            return _fold([build(a) for a in e.args], isinstance(e, sp.Add))
         if isinstance(e, sp.Pow):
-            base = build(e.base)
-            ex = e.exp
-            if isinstance(ex, sp.Integer):
-                k = int(ex)
-                if k >= 0:
-                    return lambda xs: base(xs) ** k
-                return lambda xs: 1 / (base(xs) ** (-k))
-            if isinstance(ex, sp.Rational) and ex.q == 2:
-                k = int(ex.p)
-
-                def halfpow(xs: Sequence[flint.arb]) -> flint.arb:
-                    r = base(xs).sqrt()
-                    return r**k if k >= 0 else 1 / (r ** (-k))
-
-                return halfpow
-            exf = build(ex)
-            return lambda xs: base(xs) ** exf(xs)
-        unary = {
-            sp.sin: "sin",
-            sp.cos: "cos",
-            sp.tan: "tan",
-            sp.exp: "exp",
-            sp.log: "log",
-            sp.tanh: "tanh",
-        }
-        for fn, meth in unary.items():
+            return _power(build(e.base), e.exp, build)
+        for fn, meth in _UNARY.items():
             if isinstance(e, fn):
                 arg = build(e.args[0])
                 return lambda xs, m=meth: getattr(arg(xs), m)()
