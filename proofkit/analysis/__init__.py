@@ -14,7 +14,13 @@ method, which box), ``surveying`` (the survey), ``claims`` (claim checks),
 ``parametric`` (stability over parameter boxes), ``display`` (inspect's
 table and JSON).
 
-Nothing here decides a sign, an equality or a verdict from floating point.
+``linear`` is the one exact kernel outside the audit (characteristic
+polynomial, Routh array, Lyapunov equation over Q and Q(sqrt d)); the
+survey and the linearization prover both use it.
+
+May import: sympy, python-flint, numpy (display only), the model. Nothing here
+imports ``proofkit.audit`` or decides a sign, an equality or a verdict from
+floating point.
 """
 
 from proofkit.analysis.claims import ClaimCheck, check_claim

@@ -10,6 +10,7 @@ and the interval is bisected, with exact sign tests of q, until the enclosure
 excludes 0. Since g(alpha) != 0 and the enclosure shrinks to g(alpha), this
 terminates. No floating-point number is ever used to decide anything here.
 
+May import: python-flint, sympy (conversion only).
 This module must never decide a sign or an equality from floating point.
 """
 

@@ -13,6 +13,8 @@ A certified root is named exactly when a simple exact candidate (a rational,
 or a rational multiple of pi) lies in its box and makes every f_i vanish
 identically by sympy's exact evaluation.
 
+May import: python-flint, numpy (start points only), sympy,
+``analysis.intervals``.
 This module must never report a root that the ball arithmetic did not certify.
 """
 

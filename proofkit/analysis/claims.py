@@ -4,6 +4,7 @@ These are exact findings of the search side, not audited proofs: the words are
 "holds", "fails" and "undecided". Only ``proofkit prove`` says "proved", and only
 for a certificate the audit accepted. This module must never decide a claim
 without an exact (or certified) verdict behind it.
+May import: the model and ``analysis``; never ``proofkit.audit``.
 """
 
 from __future__ import annotations

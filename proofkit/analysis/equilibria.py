@@ -22,6 +22,7 @@ Method (all exact, over Q):
 Limits (Bezout bound, size of the quotient algebra, Groebner time) are
 guarded; hitting one is reported, never silently ignored.
 
+May import: python-flint, sympy, ``analysis.algebraic``.
 This module must never accept a floating-point root as an equilibrium.
 """
 

@@ -5,6 +5,7 @@ coefficients goes to the exact solver (``equilibria``); anything else, or a
 polynomial system past a symbolic limit, to the box search (``boxsearch``)
 over the box the domain gives (``search_box``), else ``DEFAULT_BOX``.
 
+May import: sympy, the model and the analysis modules above it.
 This module must never list a point that neither method certified.
 """
 

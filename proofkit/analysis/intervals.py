@@ -9,6 +9,7 @@ language (sin cos tan exp log sqrt tanh abs), plus real ``CRootOf``.
 This module must never turn a ball into a yes/no answer except through the
 ball's certified comparisons (``>`` / ``<`` / ``contains``), and never
 evaluates user text (it only walks sympy trees built by the parser).
+May import: python-flint, sympy; never ``proofkit.audit``.
 """
 
 from __future__ import annotations

@@ -4,6 +4,7 @@ Used for the exact root counts behind the Routh–Hurwitz verdicts: gcd of
 p(s) and p(-s), the Cauchy index by Sturm sequences, counts of negative
 real roots with multiplicity. Every comparison is an exact sign.
 
+May import: ``analysis.algebraic`` only.
 This module must never use floating point.
 """
 

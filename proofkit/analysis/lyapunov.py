@@ -6,6 +6,8 @@ is solved with python-flint's ``fmpq_mat``; over an algebraic field Q(alpha)
 arithmetic. Positivity of P is decided by the signs of its leading principal
 minors (Sylvester's criterion), each an exact field element.
 
+May import: python-flint, sympy, ``analysis.algebraic``; never
+``proofkit.audit``.
 This module must never use a floating-point solution as the answer.
 """
 

@@ -16,6 +16,8 @@ d = gcd(p(s), p(-s)); r has no mirrored roots and is counted by the Cauchy
 index (Sturm sequences), d = s^k e(s^2) by counting the negative real roots
 of e. The array's sign changes are checked against that count.
 
+May import: sympy, ``analysis.algebraic`` and ``analysis.kpoly``; never
+``proofkit.audit``.
 This module must never decide a sign from floating point.
 """
 

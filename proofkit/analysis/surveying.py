@@ -13,6 +13,8 @@ Verdicts follow Lyapunov's indirect method: "stable" (every eigenvalue in
 the open left half plane), "unstable" (one in the open right half plane),
 "inconclusive" (eigenvalues on the imaginary axis, none to the right).
 
+May import: python-flint, numpy (eigenvalues for display only), sympy, the
+model and ``analysis``; never ``proofkit.audit``.
 This module must never decide a verdict from floating-point numbers.
 """
 
