@@ -79,37 +79,44 @@ def _programs(space: Any, g: list, box: list, v: Any, sets: list, doms: list, n:
     top = max(v.total_degree() + max(gi.total_degree() for gi in g) - 1, 2)
     top += top % 2
     half = max((top - 2) // 2, 1)
+    if any(any(e[n:]) for e in v.monoms()):  # V depends on p: room for p in the multipliers
+        half += 1
 
     def build(parts: set[str]) -> tuple[Any, Any, dict]:
         prog = SearchProgram(space.variables)
         level = prog.level("level", 1)
         obl: dict[str, Any] = {}
         pos = prog.poly(v - norm * eps)
+        if "decrease" in parts and any(any(e[n:]) for e in v.monoms()):
+            for j, bx in enumerate(boxes):  # V depends on p: positive only on the box
+                aj = prog.sos(f"a{j + 1}", _basis(n, m, 2, 1, 1))
+                pos = pos - aj * bx
+                obl[f"a{j + 1}"] = aj
         if "decrease" in parts:
-            s0 = prog.sos("s0", _basis(n, m, half, 1, half))
+            s0 = prog.sos("s0", _basis(n, m, half, 1, 1))
             dec = prog.poly(-lie - norm * eps) + s0 * v - s0 * level
             for j, bx in enumerate(boxes):
-                bj = prog.sos(f"b{j + 1}", _basis(n, m, half, 1, half))
+                bj = prog.sos(f"b{j + 1}", _basis(n, m, half, 1, 1))
                 dec = dec - bj * bx
                 obl[f"b{j + 1}"] = bj
             obl["decrease"], obl["s0"] = prog.require_sos(dec, "decrease"), s0
             obl["positive"] = prog.require_sos(pos, "positive")
             for i, (h, strict) in enumerate(doms):
-                ti = prog.sos(f"t{i + 1}", _basis(n, m, half, 0, half))
+                ti = prog.sos(f"t{i + 1}", _basis(n, m, half, 0, 1))
                 target = prog.poly(h - eps if strict else h) - ti * level + ti * v
                 for j, bx in enumerate(boxes):
-                    dj = prog.sos(f"d{i + 1}_{j + 1}", _basis(n, m, half, 0, half))
+                    dj = prog.sos(f"d{i + 1}_{j + 1}", _basis(n, m, half, 0, 1))
                     target = target - dj * bx
                     obl[f"d{i + 1}_{j + 1}"] = dj
                 obl[f"domain {i + 1}"], obl[f"t{i + 1}"] = prog.require_sos(target, f"dom{i}"), ti
         if "inside" in parts:
             target = prog.poly(-v) + prog.poly(space.const(1)) * level
             for i, gi in enumerate(sets):
-                si = prog.sos(f"s{i + 1}", _basis(n, m, half, 0, half))
+                si = prog.sos(f"s{i + 1}", _basis(n, m, half, 0, 1))
                 target = target - si * gi
                 obl[f"s{i + 1}"] = si
             for j, bx in enumerate(boxes):
-                cj = prog.sos(f"c{j + 1}", _basis(n, m, half, 0, half))
+                cj = prog.sos(f"c{j + 1}", _basis(n, m, half, 0, 1))
                 target = target - cj * bx
                 obl[f"c{j + 1}"] = cj
             obl["inside"] = prog.require_sos(target, "inside")
@@ -147,7 +154,6 @@ def search_range_basin(
     model: Model, claim: Claim, say: Callable[[str], None], budget: float = BUDGET
 ) -> tuple[dict[str, Any] | None, str]:
     """(evidence, detail) for ``attracts SET`` over the ranges, or (None, why not)."""
-    from proofkit.exact import solve_exactly
     from proofkit.exact.rounding import unknown_poly
 
     setup = _setup(model, claim.target or "")
@@ -155,9 +161,6 @@ def search_range_basin(
         return None, setup
     space, g, box = setup
     n = len(model.states)
-    v = _nominal_v(model, space, g, box)
-    if v is None:
-        return None, "the nominal linearization is not Hurwitz: no quadratic V to start from"
     xs = model.state_symbols
     fixed = {p.symbol: p.nominal for p in model.params if not p.is_uncertain}
     point = [sp.expand(e.subs(fixed)) for _, e in model.equilibrium(claim.target or "").point]
@@ -171,9 +174,46 @@ def search_range_basin(
         doms = [(lift(h), s) for h, s in (model.domain.nonnegative_forms() if model.domain else ())]
     except (ValueError, TypeError, sp.PolynomialError) as exc:
         return None, f"the set or the domain is not polynomial: {exc}"
-    progs = _programs(space, g, box, v, sets, doms, n)
     deadline = time.perf_counter() + budget
-    say("region of attraction over the ranges: bisection on the level")
+    why = "the nominal linearization is not Hurwitz: no quadratic V to start from"
+    for label, v in _candidates(model, space, g, box, n):
+        if v is None or time.perf_counter() > deadline:
+            continue
+        say(f"region of attraction over the ranges: {label}, bisection on the level")
+        found, why = _at_levels(space, g, box, v, sets, doms, n, deadline)
+        if found is not None:
+            level, obl, exact = found
+            ev = _evidence(space, v, level, obl, exact, unknown_poly, len(box))
+            return ev, f"sublevel set {{V <= {level}}} of a quadratic V ({label})"
+    return None, why
+
+
+def _candidates(model: Model, space: Any, g: list, box: list, n: int):
+    """Quadratic V's to try: the nominal Lyapunov equation's, then one affine in p that
+    decreases along the linearization at every value of the box (a sum-of-squares search)."""
+    yield "V from the nominal Lyapunov equation", _nominal_v(model, space, g, box)
+    yield "V affine in the parameters", _linear_range_v(space, g, box, n)
+
+
+def _linear_range_v(space: Any, g: list, box: list, n: int) -> Any | None:
+    from proofkit.exact import solve_exactly
+    from proofkit.exact.rounding import unknown_poly
+    from proofkit.proofs._ranges_lyapunov import _program
+
+    lin = []
+    for gi in g:
+        terms = {e: c for e, c in zip(gi.monoms(), gi.coeffs(), strict=True) if sum(e[:n]) == 1}
+        lin.append(space.from_terms(terms) if terms else space.zero())
+    prog, v, *_ = _program(space, lin, box, n, 2, 1, 1)
+    res = solve_exactly(prog)
+    return unknown_poly(space, v, res.exact.values["V"]) if res.found else None
+
+
+def _at_levels(space, g, box, v, sets, doms, n, deadline):
+    """((level, obligations, exact values), "") or (None, why not) for one fixed V."""
+    from proofkit.exact import solve_exactly
+
+    progs = _programs(space, g, box, v, sets, doms, n)
     hi = Fraction(1)
     while _feasible(progs["decrease"], hi) and hi < 10**6:
         hi *= 4
@@ -192,31 +232,27 @@ def search_range_basin(
         lv.set(level)
         res = solve_exactly(prog)
         if res.found:
-            return _evidence(space, v, level, obl, res.exact, unknown_poly, len(box)), (
-                f"sublevel set {{V <= {level}}} of a quadratic V, for every value in the box"
-            )
+            return (level, obl, res.exact), ""
     return None, "no exact certificate at the levels tried between the set and the decrease"
 
 
 def _evidence(
-    space: Any, v: Any, level: Fraction, obl: dict, ex: Any, unknown_poly, m: int
+    space: Any, v: Any, level: Fraction, obl: dict, ex: Any, unknown_poly: Any, m: int
 ) -> dict:
-    m_names = [
-        k for k in obl if k not in ("decrease", "positive", "inside") and not k.startswith("domain")
-    ]
-    squares = {}
-    multipliers = {}
+    """The evidence in the names of ``region-of-attraction-over-range``."""
+    nv = space.nvars
+    zero = {"basis": [[0] * nv], "gram": [["0"]]}
+    targets = {"decrease", "positive", "inside"}
+    squares, multipliers = {}, {}
     for k, u in obl.items():
         squares[k] = _gram_json(u.basis, ex.values[u.name])
-        if k in m_names:
+        if k not in targets and not k.startswith("domain"):
             multipliers[k] = _poly_json(unknown_poly(space, u, ex.values[u.name]))
-    nv = space.nvars
-    for k in list(multipliers):
-        if not multipliers[k]:
-            squares[k] = {"basis": [[0] * nv], "gram": [["0"]]}
-    for j in range(m):  # V does not depend on the parameters: no multipliers for positive
-        multipliers[f"a{j + 1}"] = []
-        squares[f"a{j + 1}"] = {"basis": [[0] * nv], "gram": [["0"]]}
+            if not multipliers[k]:
+                squares[k] = zero
+    for j in range(m):  # V does not depend on the parameters: a zero multiplier for positive
+        if f"a{j + 1}" not in multipliers:
+            multipliers[f"a{j + 1}"], squares[f"a{j + 1}"] = [], zero
     return {
         "V": _poly_json(v),
         "numbers": {"eps": str(EPS), "level": str(level)},
