@@ -144,3 +144,25 @@ def test_bisection_program_reused_over_levels_matches_fresh_programs() -> None:
     assert len(reused.solver_cache) == 1  # one compiled problem served every level
     assert stats[0] == "solved" and stats[-1] == "infeasible"
     assert "infeasible" not in stats[: stats.index("infeasible")]
+
+
+def test_face_restriction_is_a_new_system_with_an_exact_lift() -> None:
+    # computed by hand: (1 - x^2)^2 = c' G c with c = W b, b = [1, x, x^2], W rows
+    # [1, 0, -1] and [0, 1, 0], G = diag(1, 0); the lift W' G W is the outer product of
+    # [1, 0, -1], and the face system holds at vec(G).
+    import flint
+
+    from proofkit.exact.facial import FaceRestriction
+    from proofkit.sos.refine import gram_system
+
+    prog = SearchProgram([X])
+    g = prog.require_sos(prog.poly((1 - X**2) ** 2), "g", basis=[sp.Integer(1), X, X**2])
+    a, b = gram_system(prog, g)
+    face = FaceRestriction.of([[1, 0, -1], [0, 1, 0]])
+    a_face, b_face = face.system(a, b)
+    assert a_face.shape == (a.shape[0], 4)
+    assert np.allclose(a_face @ np.array([1.0, 0.0, 0.0, 0.0]), b_face)
+    one, zero = flint.fmpq(1), flint.fmpq(0)
+    lifted = face.lift([[one, zero], [zero, zero]])
+    assert lifted == [[one, zero, -one], [zero, zero, zero], [-one, zero, one]]
+    assert g.size == 3  # the program is unchanged
