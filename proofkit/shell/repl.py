@@ -19,7 +19,7 @@ from typing import Any, TextIO
 from proofkit.shell.model_text import unfinished
 from proofkit.shell.session import Session
 
-__all__ = ["SessionCompleter", "run_shell"]
+__all__ = ["candidates", "run_shell"]
 
 PROMPT, MORE = "proofkit> ", "     ...> "
 BANNER = (
@@ -62,42 +62,44 @@ def _states(session: Session) -> list[str]:
     return session.statements.state_names() or []
 
 
+def candidates(session: Session, before: str) -> list[str]:
+    """Completions of the last word of ``before`` (the line up to the cursor)."""
+    from proofkit.shell.questions import COMMANDS
+
+    words = before.split()
+    word = "" if before.endswith(" ") or not words else words[-1]
+    equations = [f"d{x}/dt = " for x in _states(session)]
+    if len(words) == 0 or (len(words) == 1 and word):
+        pool: Iterable[str] = [*KEYWORDS, *COMMANDS, *equations]
+    elif words[0] in ("edit", "drop", "linearize", "basin"):
+        pool = [*_names(session), *(e.rstrip(" =") for e in equations), "claim", "domain"]
+    else:
+        pool = [*_names(session), *CLAIM_WORDS, *FUNCTIONS]
+    return [c for c in sorted(set(pool)) if c.startswith(word) and c != word]
+
+
 def _session_completer(session: Session) -> Any:
     from prompt_toolkit.completion import Completer, Completion, PathCompleter
     from prompt_toolkit.document import Document
 
-    from proofkit.shell.questions import COMMANDS
-
     paths = PathCompleter(expanduser=True)
 
     class SessionCompleter(Completer):
-        """Completes statements and commands first, then names and claim words."""
+        """Completes statements and commands first, then names, claim words and files."""
 
         def get_completions(self, document: Any, complete_event: Any) -> Iterator[Any]:
             text = document.text_before_cursor
             words = text.split()
-            first = not words or (len(words) == 1 and not text.endswith(" "))
-            if not first and words[0] in FILE_COMMANDS:
+            argument = len(words) > 1 or (words and text.endswith(" "))
+            if argument and words[0] in FILE_COMMANDS:
                 arg = text[len(words[0]) :].lstrip()
                 yield from paths.get_completions(Document(arg, len(arg)), complete_event)
                 return
             word = document.get_word_before_cursor(WORD=True)
-            if first:
-                pool: Iterable[str] = [
-                    *KEYWORDS,
-                    *COMMANDS,
-                    *(f"d{x}/dt = " for x in _states(session)),
-                ]
-            else:
-                pool = [*_names(session), *CLAIM_WORDS, *FUNCTIONS]
-            for cand in sorted(set(pool)):
-                if cand.startswith(word) and cand != word:
-                    yield Completion(cand, start_position=-len(word))
+            for cand in candidates(session, text):
+                yield Completion(cand, start_position=-len(word))
 
     return SessionCompleter()
-
-
-SessionCompleter = _session_completer
 
 
 def _history() -> Any:

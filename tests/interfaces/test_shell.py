@@ -236,3 +236,18 @@ def test_ctrl_c_stops_long_work_and_the_session_goes_on(tmp_path: Path) -> None:
     child.expect(pexpect.EOF)
     child.close()
     assert child.exitstatus == 0
+
+
+def test_completion_offers_statements_commands_and_names() -> None:
+    from proofkit.shell.repl import candidates
+
+    s = Session(io.StringIO(), io.StringIO())
+    for line in DUFFING.splitlines():
+        s.handle(line)
+    assert candidates(s, "equ") == ["equilibria", "equilibrium"]
+    assert candidates(s, "d") == ["domain", "drop", "dx/dt = ", "dy/dt = "]
+    assert candidates(s, "claim or") == ["origin"]
+    assert candidates(s, "claim origin att") == ["attracts"]
+    assert candidates(s, "linearize ") == sorted(
+        ["claim", "domain", "dx/dt", "dy/dt", "origin", "right", "x", "y"]
+    )
