@@ -147,6 +147,6 @@ def model_equilibria_json(model: Model) -> dict[str, Any]:
 def model_equilibria_lines(model: Model) -> list[str]:
     """``equilibria_lines`` of the model's survey; a model the analysis cannot take says why."""
     try:
-        return equilibria_lines(survey(model), nominal_note=bool(model.params))
+        return equilibria_lines(survey(model), nominal_note=bool(model.uncertain_params))
     except ModelError as err:
         return ["equilibria:", f"  not analysed: {err}"]

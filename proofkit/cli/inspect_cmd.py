@@ -59,6 +59,11 @@ def _model_dict(model: Model) -> dict[str, Any]:
         "equations": {e.state: format_expr(e.rhs) for e in model.equations},
         "domain": [format_condition(c) for c in model.domain] if model.domain else None,
         "equilibria": {q.name: {s: format_expr(v) for s, v in q.point} for q in model.equilibria},
+        "moving_equilibria": [q.name for q in model.equilibria if q.moves_with_parameters],
+        "conditions": [  # where the field is defined, as recorded before simplification
+            {"expression": format_expr(d.expr), "relation": d.relation, "why": d.origin}
+            for d in model.definedness
+        ],
         "claims": [c.text for c in model.claims],
         "polynomial": polynomial,
         "degree": model.degree() if polynomial else None,
@@ -111,14 +116,14 @@ def inspect_text(model: Model) -> str:
         out += [f"  {format_condition(c)}" for c in model.domain]
     else:
         out.append("domain: the whole state space")
+    if model.definedness:
+        out.append("the field is defined only where:")
+        out += _table(
+            [(f"{format_expr(d.expr)} {d.relation} 0", f"({d.origin})") for d in model.definedness]
+        )
     if model.equilibria:
         out.append("declared equilibria (f vanishes exactly at each):")
-        out += _table(
-            [
-                (q.name, "at " + ", ".join(f"{s} = {format_expr(v)}" for s, v in q.point))
-                for q in model.equilibria
-            ]
-        )
+        out += _table([(q.name, _point_text(q)) for q in model.equilibria])
     if model.claims:
         out.append("claims:")
         for i, c in enumerate(model.claims, 1):
@@ -136,6 +141,16 @@ def inspect_text(model: Model) -> str:
 
     out += model_equilibria_lines(model)
     return "\n".join(out)
+
+
+def _point_text(q: Any) -> str:
+    from proofkit.lang import format_expr
+
+    text = "at " + ", ".join(f"{s} = {format_expr(v)}" for s, v in q.point)
+    if q.moves_with_parameters:
+        names = ", ".join(sorted(str(p) for p in q.parameter_symbols))
+        text += f"  (moves with {names}; checked over the ranges)"
+    return text
 
 
 def _read(args: argparse.Namespace) -> Model:

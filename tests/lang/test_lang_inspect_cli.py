@@ -14,7 +14,7 @@ from pathlib import Path
 import pytest
 
 from proofkit.cli.inspect_cmd import inspect_report, inspect_text
-from proofkit.lang import format_expr, load_model
+from proofkit.lang import format_expr, load_model, parse_model
 
 WORKED = Path(__file__).resolve().parents[2] / "worked"
 WORKED_FILES = sorted(WORKED.glob("*.pk"))
@@ -118,3 +118,20 @@ def test_help() -> None:
     proc = run("--help")
     assert proc.returncode == 0
     assert "--json" in proc.stdout and "FILE" in proc.stdout
+
+
+def test_inspect_shows_moving_points_and_where_the_field_is_defined() -> None:
+    text = (
+        "parameter k = 1 in [1/2, 2]\nstate x\nlet r = x^2/(x - 3)\n"
+        "dx/dt = k - x + 0*log(x + 3) + 0*r\nequilibrium e at x = k\n"
+    )
+    model = parse_model(text, file="m.pk")
+    report = inspect_report(model)["model"]
+    assert report["moving_equilibria"] == ["e"]
+    assert report["conditions"] == [
+        {"expression": "x + 3", "relation": ">", "why": "the argument of log"},
+        {"expression": "x - 3", "relation": "!=", "why": "a denominator"},
+    ]
+    out = inspect_text(model)
+    assert "e  at x = k  (moves with k; checked over the ranges)" in out
+    assert "x + 3 > 0   (the argument of log)" in out and "x - 3 != 0  (a denominator)" in out
