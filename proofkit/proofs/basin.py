@@ -394,9 +394,16 @@ def attempt(model: Model, claim: Claim, progress: Say | None = None) -> ProofAtt
 
 
 def estimate_basin(
-    model: Model, equilibrium: str | None = None, *, degree: int = 4, progress: Say | None = None
+    model: Model,
+    equilibrium: str | None = None,
+    *,
+    degree: int = 4,
+    progress: Say | None = None,
+    seconds_per_degree: float | None = None,
 ) -> Any:
     """The largest audited region of attraction of this degree (see :mod:`._basin_run`)."""
+    from proofkit.proofs._basin_run import SECONDS_PER_DEGREE
     from proofkit.proofs._basin_run import estimate_basin as run
 
-    return run(model, equilibrium, degree=degree, progress=progress)
+    budget = seconds_per_degree or SECONDS_PER_DEGREE
+    return run(model, equilibrium, degree=degree, progress=progress, seconds_per_degree=budget)

@@ -63,6 +63,9 @@ class AscentSettings:
     eps: float = 1e-5
     directions: int = 256
     solver: str = "CLARABEL"
+    s0_relative: int | None = None  # s0 of degree at least deg V + this, when set
+    ring_margin: float = 0.5  # shape step keeps this share of the level probe's margin
+    steps: tuple[float, ...] = (1.0, 0.5, 0.25, 0.125)  # line search on the shape step
 
 
 @dataclass
@@ -149,6 +152,8 @@ class BasinSearch:
     # --- structure of one degree ------------------------------------------------------
     def shapes(self, degree: int) -> dict[str, object]:
         ds0 = max(self.cfg.s0_degree, 2 * math.ceil((self.field_degree - 1) / 2))
+        if self.cfg.s0_relative is not None:
+            ds0 = max(ds0, degree + self.cfg.s0_relative)
         top = max(degree + self.field_degree - 1, degree + ds0)
         top += top % 2
         index = MonoIndex(self.n, top)
@@ -251,7 +256,7 @@ class BasinSearch:
         lhs = gram_map(b1, index) @ cp.vec(q1, order="F") + lie @ vv - s0v @ vv
         embed = mult_map(NumPoly(np.zeros((1, self.n), np.int64), np.ones(1)), supp, index)
         pos = gram_map(bp, index) @ cp.vec(qp, order="F") - embed @ vv
-        mu = 0.5 * it.margin
+        mu = self.cfg.ring_margin * it.margin
         cons = [
             lhs == rhs,
             pos == -index.vector(self.eps_poly),
@@ -334,12 +339,11 @@ class BasinSearch:
             ring, w = self.ring(it.v, it.level)
             cand = self.shape_step(it, sh, ring, w)
             best_v, best_vol = it.v, it.volume
-            for t in (1.0, 0.5, 0.25, 0.125):
+            for t in self.cfg.steps:
                 vt = NumPoly(it.v.exps, it.v.coeffs + t * (cand.coeffs - it.v.coeffs))
                 vol, _ = self.volume(vt, it.level)
                 if vol > best_vol:
                     best_v, best_vol = vt, vol
-                    break
             scale = it.level
             v_norm = NumPoly(best_v.exps, best_v.coeffs / scale)
             nxt = self.level_of(v_norm, degree, 1.0)
