@@ -11,14 +11,20 @@ library and :mod:`proofkit.audit.numbers`.
 from __future__ import annotations
 
 import itertools
-from collections.abc import Sequence
+import math
+import time
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
+from fractions import Fraction
 
 from proofkit.audit.numbers import Num
 
 __all__ = [
     "Matrix",
     "Poly",
+    "WorkLimit",
     "char_poly",
+    "deadline",
     "gram_form",
     "ldl_pivots",
     "poly_add",
@@ -30,12 +36,35 @@ __all__ = [
     "poly_scale",
     "poly_str",
     "poly_substitute",
+    "psd_reason",
     "routh_rows",
     "shift_and_multiply",
 ]
 
 Poly = dict[tuple[int, ...], Num]  # exponent vector -> nonzero coefficient
 Matrix = list[list[Num]]
+MAX_RESULT_TERMS = 200_000  # terms of any intermediate polynomial
+_DEADLINE = [math.inf]  # time.monotonic() value after which the work stops
+
+
+class WorkLimit(Exception):
+    """The audit's time or size budget for one certificate was used up."""
+
+
+@contextmanager
+def deadline(seconds: float) -> Iterator[None]:
+    """Bound the work of everything inside: :func:`tick` raises WorkLimit after ``seconds``."""
+    saved = _DEADLINE[0]
+    _DEADLINE[0] = time.monotonic() + seconds
+    try:
+        yield
+    finally:
+        _DEADLINE[0] = saved
+
+
+def tick() -> None:
+    if time.monotonic() > _DEADLINE[0]:
+        raise WorkLimit("the audit's time limit was reached before this check finished")
 
 
 # --- sparse polynomials ------------------------------------------------------
@@ -57,6 +86,9 @@ def poly_scale(p: Poly, k: Num) -> Poly:
 def poly_mul(p: Poly, q: Poly) -> Poly:
     out: Poly = {}
     for e1, c1 in p.items():
+        tick()
+        if len(out) > MAX_RESULT_TERMS:
+            raise WorkLimit(f"a product has more than {MAX_RESULT_TERMS} terms")
         for e2, c2 in q.items():
             e = tuple(a + b for a, b in zip(e1, e2, strict=True))
             out[e] = out[e] + c1 * c2 if e in out else c1 * c2
@@ -89,6 +121,7 @@ def poly_substitute(p: Poly, values: Sequence[Poly], nvars: int) -> Poly:
     powers: list[list[Poly]] = [[poly_constant(Num.of(1), nvars)] for _ in values]
     out: Poly = {}
     for e, c in p.items():
+        tick()
         term = poly_constant(c, nvars)
         for i, k in enumerate(e):
             while len(powers[i]) <= k:
@@ -103,6 +136,7 @@ def gram_form(basis: Sequence[tuple[int, ...]], gram: Sequence[Sequence[Num]]) -
     """``z' G z`` for the monomial vector ``z`` given by its exponent vectors."""
     form: Poly = {}
     for i, mi in enumerate(basis):
+        tick()
         for j, mj in enumerate(basis):
             if gram[i][j].is_zero():
                 continue
@@ -134,6 +168,7 @@ def poly_str(p: Poly, names: Sequence[str]) -> str:
 def poly_eval(p: Poly, point: Sequence[Num]) -> Num:
     total = Num.of(0)
     for e, c in p.items():
+        tick()
         term = c
         for x, k in zip(point, e, strict=True):
             for _ in range(k):
@@ -148,6 +183,7 @@ def _matmul(a: Matrix, b: Matrix) -> Matrix:
     zero = Num.of(0)
     out = []
     for i in range(n):
+        tick()
         row = []
         for j in range(m):
             s = zero
@@ -179,6 +215,7 @@ def char_poly(a: Matrix) -> list[Num]:
     coeffs = [Num.of(1)]
     m: Matrix = [[Num.of(int(i == j)) for j in range(n)] for i in range(n)]
     for k in range(1, n + 1):
+        tick()
         am = _matmul(a, m)
         trace = Num.of(0)
         for i in range(n):
@@ -231,6 +268,7 @@ def routh_rows(coeffs: Sequence[Num]) -> list[list[Num]] | None:
 
     rows = [pad(list(coeffs[0::2])), pad(list(coeffs[1::2]))]
     while len(rows) < n + 1:
+        tick()
         a, b = rows[-2], rows[-1]
         if b[0].is_zero():
             return None
@@ -262,6 +300,7 @@ def ldl_pivots(m: Matrix) -> tuple[list[Num], Matrix] | str:
     lower: Matrix = [[Num.of(1) if i == j else Num.of(0) for j in range(n)] for i in range(n)]
     pivots: list[Num] = []
     for k in range(n):
+        tick()
         p = a[k][k]
         s = p.sign()
         if s < 0:
@@ -281,3 +320,42 @@ def ldl_pivots(m: Matrix) -> tuple[list[Num], Matrix] | str:
             for j in range(k + 1, n):
                 a[i][j] = a[i][j] - f * a[k][j]
     return pivots, lower
+
+
+def psd_reason(m: Matrix) -> str | None:
+    """None when the symmetric ``m`` is positive semidefinite, else the reason.
+
+    Rational matrices are scaled to integers and eliminated fraction-free
+    (Bareiss: every division is exact, the pivots are the leading principal
+    minors); a zero pivot needs a zero column below it, and its row and column
+    are then skipped (a PSD matrix with a zero diagonal entry has a zero row).
+    Other matrices use :func:`ldl_pivots`.
+    """
+    if any(x.b != 0 for row in m for x in row):
+        res = ldl_pivots(m)
+        return res if isinstance(res, str) else None
+    den = 1
+    for row in m:
+        tick()
+        for x in row:
+            den = math.lcm(den, x.a.denominator)
+        if den.bit_length() > 60_000:  # very different denominators: stay with fractions
+            res = ldl_pivots(m)
+            return res if isinstance(res, str) else None
+    a = [[int(x.a * den) if isinstance(x.a, Fraction) else x.a for x in row] for row in m]
+    n, prev = len(a), 1
+    for k in range(n):
+        tick()
+        p, rk = a[k][k], a[k]
+        if p < 0:
+            return f"negative pivot at position {k + 1}"
+        if p == 0:
+            if any(a[i][k] for i in range(k + 1, n)):
+                return f"zero pivot at position {k + 1} with a nonzero entry below it"
+            continue
+        for i in range(k + 1, n):
+            ri, aik = a[i], a[i][k]
+            for j in range(k + 1, n):
+                ri[j] = (p * ri[j] - aik * rk[j]) // prev
+        prev = p
+    return None

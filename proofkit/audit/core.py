@@ -24,6 +24,7 @@ from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import Any
 
+from proofkit.audit.algebra import WorkLimit, deadline
 from proofkit.audit.numbers import FormatError, parse_radicand
 from proofkit.audit.read import (
     MAX_CLAIMS,
@@ -61,6 +62,7 @@ __all__ = [
 ]
 
 FORMAT_VERSION = 2
+TIME_LIMIT = 8.0  # seconds of checking per certificate; later claims are rejected, never accepted
 # Schema modules of this package; a module not present yet is skipped.
 SCHEMA_MODULES = ("linear", "lyapunov", "polynomial", "ranges", "cycles")
 for _name in SCHEMA_MODULES:
@@ -312,6 +314,11 @@ def _check_claim(entry: dict[str, Any], model: ModelData, where: str) -> ClaimVe
             failed_step=rej.step,
             message=rej.message,
         )
+    except WorkLimit as exc:
+        return ClaimVerdict(
+            **base, status="rejected", method=method, theorem=theorem,
+            checked=tuple(checks.log), failed_step="work limit", message=str(exc),
+        )  # fmt: skip
     except (ZeroDivisionError, RecursionError, OverflowError, MemoryError) as exc:
         return ClaimVerdict(
             **base, status="rejected", method=method, theorem=theorem,
@@ -326,8 +333,16 @@ NO_MODEL = ModelData((), (), (), None, None, (), None)
 
 
 # --- the whole certificate -------------------------------------------------------------
-def audit_certificate(data: Any) -> AuditReport:
-    """Audit a parsed certificate; raises :class:`FormatError` when it is malformed."""
+def audit_certificate(data: Any, time_limit: float = TIME_LIMIT) -> AuditReport:
+    """Audit a parsed certificate; raises :class:`FormatError` when it is malformed.
+
+    Claims still unchecked after ``time_limit`` seconds are rejected ("work limit").
+    """
+    with deadline(time_limit):
+        return _audit(data)
+
+
+def _audit(data: Any) -> AuditReport:
     if not isinstance(data, dict):
         raise FormatError("a certificate is a JSON object")
     version = get(data, "proofkit_certificate", int, "certificate")
@@ -364,10 +379,10 @@ def certificate_digest(data: Any) -> str:
     return hashlib.sha256(text.encode("ascii")).hexdigest()
 
 
-def audit_text(text: str) -> AuditReport:
+def audit_text(text: str, time_limit: float = TIME_LIMIT) -> AuditReport:
     """Parse JSON text and audit it; raises :class:`FormatError` on bad JSON."""
     try:
         data = json.loads(text)
     except (ValueError, RecursionError) as exc:  # includes integers past Python's digit limit
         raise FormatError(f"not valid JSON: {escape(exc)[:200]}") from None
-    return audit_certificate(data)
+    return audit_certificate(data, time_limit)

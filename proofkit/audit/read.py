@@ -51,6 +51,8 @@ LIMITS = {
     "rows of a Gram matrix": MAX_GRAM,
     "sum-of-squares obligations of a claim": MAX_SQUARES,
     "claims of a certificate": MAX_CLAIMS,
+    "seconds of checking per certificate (default; later claims are rejected)": 8,
+    "terms of any intermediate polynomial": 200_000,
 }
 
 Poly = dict[tuple[int, ...], Num]

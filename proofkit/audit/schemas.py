@@ -30,12 +30,12 @@ from typing import Any
 from proofkit.audit.algebra import (
     Poly,
     gram_form,
-    ldl_pivots,
     poly_add,
     poly_constant,
     poly_eval,
     poly_scale,
     poly_substitute,
+    psd_reason,
     transpose,
 )
 from proofkit.audit.numbers import Num
@@ -265,8 +265,8 @@ def check_squares(
         require(len(set(basis)) == len(basis), "squares", f"{name}: repeated basis monomial")
         gram = read_matrix(get(item, "gram", list, w), 0, f"{w}.gram", len(basis))
         require(gram == transpose(gram) if gram else True, "squares", f"{name}: G not symmetric")
-        res = ldl_pivots(gram)
-        require(not isinstance(res, str), "squares", f"{name}: G is not PSD: {res}")
+        res = psd_reason(gram)
+        require(res is None, "squares", f"{name}: G is not PSD: {res}")
         diff = poly_add(targets[name], poly_scale(gram_form(basis, gram), Num.of(-1)))
         require(
             not diff,

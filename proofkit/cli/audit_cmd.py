@@ -53,6 +53,14 @@ def register(subparsers: Any) -> None:
         metavar="FILE",
         help="require the embedded model source to be byte-identical to FILE",
     )
+    p.add_argument(
+        "--time-limit",
+        type=float,
+        default=8.0,
+        metavar="SECONDS",
+        help="checking time for the whole certificate (default 8); claims not checked "
+        "in time are rejected, never accepted",
+    )
     p.add_argument("--quiet", action="store_true", help="print only the result line")
     p.set_defaults(func=run)
 
@@ -99,7 +107,7 @@ def run(args: argparse.Namespace) -> int:
     try:
         raw = read_bytes(args.certificate, "certificate")
         text = raw.decode("utf-8")
-        report = audit_text(text)
+        report = audit_text(text, max(0.1, min(args.time_limit, 3600.0)))
         model_ok = None if args.model is None else _model_check(text, args.model)
     except (OSError, UnicodeDecodeError) as exc:
         print(f"error: cannot read: {escape(exc)}", file=sys.stderr)
