@@ -6,8 +6,11 @@ The expected verdict comes from numpy's eigenvalues of A (computed), the
 stated Lyapunov matrix P from ``scipy.linalg.solve_continuous_lyapunov``
 (computed) and the stated Jacobian from sympy's ``jacobian`` (computed) --
 not from "the audit accepted it", which a bug shared by prover and audit
-would also pass. Fields whose linearization has an eigenvalue within 1e-6 of
-the imaginary axis are assumed away (the linear test does not decide them).
+would also pass. A second family puts the equilibrium at an irrational point
+of a quadratic field Q(sqrt d), where the stated characteristic polynomial is
+compared with sympy's exact one. Fields whose linearization has an eigenvalue
+within 1e-6 of the imaginary axis are assumed away (the linear test does not
+decide them).
 """
 
 from __future__ import annotations
@@ -81,3 +84,51 @@ def test_prove_verdict_matches_numpy_eigenvalues(case) -> None:
         p = np.array([[_q(v) for v in r] for r in ev["lyapunov"]["P"]])
         p_ref = scipy.linalg.solve_continuous_lyapunov(a.T.astype(float), -np.eye(len(a)))
         assert np.allclose(p, p_ref, rtol=1e-9, atol=1e-12)  # computed: scipy
+
+
+@given(
+    a=st.integers(-3, 3),
+    b=st.integers(-3, 3),
+    c=st.sampled_from([-3, -2, -1, 1, 2, 3]),
+    d=st.sampled_from([2, 3, 5]),
+    sign=st.sampled_from([1, -1]),
+)
+def test_prove_verdict_at_a_quadratic_irrational_point(a, b, c, d, sign) -> None:
+    # dx/dt = x^2 - d + a y, dy/dt = b x + c y: y = -b x / c and x^2 - (a b / c) x - d = 0,
+    # so x = (A +- sqrt(A^2 + 4 d)) / 2 with A = a b / c, a point over Q(sqrt(A^2 + 4 d)).
+    big_a = Fraction(a * b, c)
+    disc = big_a**2 + 4 * d
+    xs = (float(big_a) + sign * float(disc) ** 0.5) / 2
+    jac = np.array([[2 * xs, a], [b, c]], dtype=float)
+    max_re = float(np.max(np.linalg.eigvals(jac).real))  # computed: numpy at the float point
+    assume(abs(max_re) > 1e-6)
+    root = f"(({big_a}) {'+' if sign > 0 else '-'} sqrt({disc})) / 2"
+    text = (
+        f"state x, y\ndx/dt = x^2 - {d} + ({a})*y\ndy/dt = ({b})*x + ({c})*y\n"
+        f"equilibrium p at x = {root}, y = -({Fraction(b, c)})*{root}\n"
+        "claim p stable\nclaim p unstable\n"
+    )
+    run = prove_model(proofkit.parse(text, "quadratic.pk"))
+    statuses = tuple(o.status for o in run.outcomes)
+    assert statuses == (("proved", "refuted") if max_re < 0 else ("refuted", "proved"))
+    # computed: sympy's exact value of the stated characteristic polynomial at the point
+    x = (
+        sp.Rational(big_a.numerator, big_a.denominator) / 2
+        + sign * sp.sqrt(sp.Rational(disc.numerator, disc.denominator)) / 2
+    )
+    expected = sp.Matrix([[2 * x, a], [b, c]]).charpoly(sp.Symbol("s")).all_coeffs()
+    ev = run.certificate["claims"][0]["evidence"]
+    nf = run.certificate["claims"][0]["number_field"]
+    root_d = int(nf["sqrt"]) if nf else 0
+    stated = [_exact(v, root_d) for v in ev["characteristic_polynomial"]]
+    assert all(sp.simplify(s - e) == 0 for s, e in zip(stated, expected, strict=True))
+
+
+def _exact(v: object, d: int) -> sp.Expr:
+    if isinstance(v, list):
+        a, b = (Fraction(p) for p in v)
+        return sp.Rational(a.numerator, a.denominator) + sp.Rational(
+            b.numerator, b.denominator
+        ) * sp.sqrt(d)
+    f = Fraction(str(v))
+    return sp.Rational(f.numerator, f.denominator)
