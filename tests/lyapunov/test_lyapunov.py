@@ -265,3 +265,34 @@ def test_prove_runs_the_lyapunov_method_and_the_audit_accepts() -> None:
         "lyapunov-local",
         "lyapunov-global",
     ]
+
+
+def _leaves(obj, path=()):
+    """Paths of every exact number (a string) in an evidence object."""
+    if isinstance(obj, dict):
+        for k, v in obj.items():
+            yield from _leaves(v, (*path, k))
+    elif isinstance(obj, list):
+        for i, v in enumerate(obj):
+            yield from _leaves(v, (*path, i))
+    elif isinstance(obj, str):
+        yield path
+
+
+def test_every_mutated_number_is_rejected_by_the_audit() -> None:
+    # common practice (mutation testing): changing any one exact number of a certificate
+    # breaks an identity, the symmetry of a Gram matrix, or a sign condition.
+    import copy
+
+    model = _model(CUBIC_DAMPED, "claim O stable\n")
+    _claim, res = _prove(model)
+    assert res.entry["status"] == "proved"
+    paths = list(_leaves(res.entry["evidence"]))
+    assert len(paths) > 50
+    for path in paths:
+        entry = copy.deepcopy(res.entry)
+        node = entry["evidence"]
+        for k in path[:-1]:
+            node = node[k]
+        node[path[-1]] = str(Fraction(node[path[-1]]) + Fraction(1, 7))
+        assert not _audited(model, entry), path
