@@ -205,19 +205,25 @@ def _q(v: Any, d: int = 0) -> float:
 
 
 def _poly_fn(terms: list[Any], fixed: Sequence[float] = (), shift: Sequence[float] = ()) -> Scalar:
-    """A certificate POLY as a numpy function of two plane variables (extra variables fixed)."""
-    coeffs = [(exps, _q(c)) for exps, c in terms]
+    """A certificate POLY as a numpy function of two plane variables (extra variables fixed).
+
+    The coefficients (extra variables substituted) go into one matrix ``C`` with
+    ``C[i, j]`` the coefficient of ``x^i y^j``, evaluated by numpy's ``polyval2d``.
+    """
+    import numpy as np
+    from numpy.polynomial.polynomial import polyval2d
+
+    size = 1 + max((max(e[0], e[1] if len(e) > 1 else 0) for e, _c in terms), default=0)
+    table = np.zeros((size, size))
+    for exps, c in terms:
+        value = _q(c)
+        for v, e in zip(fixed, exps[2:], strict=False):
+            value *= v**e
+        table[exps[0], exps[1] if len(exps) > 1 else 0] += value
+    sx, sy = (shift[0], shift[1]) if shift else (0.0, 0.0)
 
     def f(x: Any, y: Any) -> Any:
-        xs = [x - (shift[0] if shift else 0.0), y - (shift[1] if shift else 0.0), *fixed]
-        total = 0.0 * x
-        for exps, c in coeffs:
-            term = c
-            for value, e in zip(xs, exps, strict=False):
-                if e:
-                    term = term * value**e
-            total = total + term
-        return total
+        return polyval2d(np.asarray(x, dtype=float) - sx, np.asarray(y, dtype=float) - sy, table)
 
     return f
 
