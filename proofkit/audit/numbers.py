@@ -99,11 +99,20 @@ class Num:
 
     def __str__(self) -> str:
         if self.b == 0:
-            return str(self.a)
-        root = f"sqrt({self.d})" if abs(self.b) == 1 else f"{abs(self.b)}*sqrt({self.d})"
+            return _short(self.a)
+        b = _short(abs(self.b))
+        root = f"sqrt({self.d})" if abs(self.b) == 1 else f"{b}*sqrt({self.d})"
         if self.a == 0:
             return root if self.b > 0 else f"-{root}"
-        return f"{self.a} {'+' if self.b > 0 else '-'} {root}"
+        return f"{_short(self.a)} {'+' if self.b > 0 else '-'} {root}"
+
+
+def _short(x: Fraction) -> str:
+    """``x`` as text, or its size only when it is too long to show (or to convert)."""
+    bits = x.numerator.bit_length() + x.denominator.bit_length()
+    if bits > 600:
+        return f"(a rational of about {int(bits * 0.30103)} digits)"
+    return str(x)
 
 
 def _sgn(x: Fraction) -> int:

@@ -30,6 +30,7 @@ __all__ = ["PROVERS", "ClaimOutcome", "ProofAttempt", "ProveRun", "prove_model"]
 # Prover modules in the order they are tried; a module not present yet is skipped.
 PROVERS = ("linearization", "ranges", "lyapunov", "basin", "cycles")
 NO_METHOD = "no method for this claim kind yet"
+AUDIT_SECONDS = 300.0  # prove audits its own certificate: a generous budget (audit: 8 s)
 
 
 @dataclass(frozen=True)
@@ -88,7 +89,7 @@ def _provers() -> list[Callable[..., ProofAttempt | None]]:
 
 def _accepted(section: dict[str, Any], entry: dict[str, Any]) -> tuple[bool, str]:
     """Does the audit accept this one entry on its own? (A pre-check; not the final audit.)"""
-    report = audit_certificate(new_certificate(section, [entry]))
+    report = audit_certificate(new_certificate(section, [entry]), AUDIT_SECONDS)
     verdict = report.claims[0]
     return verdict.status in ("proved", "refuted"), verdict.message or ""
 
@@ -135,7 +136,7 @@ def prove_model(model: Model, progress: Callable[[str], None] | None = None) -> 
     details = [a.detail for a in attempts]
     text = dumps(new_certificate(section, entries))
     say("auditing the certificate")
-    report = audit_text(text)
+    report = audit_text(text, AUDIT_SECONDS)
     prov = check_provenance(text, model)
     if not report.accepted or not prov.ok:  # never keep a claim the audit refused
         for i, verdict in enumerate(report.claims):
@@ -144,7 +145,7 @@ def prove_model(model: Model, progress: Callable[[str], None] | None = None) -> 
                 details[i] = f"the audit refused it: {why}"
                 entries[i] = not_proved_entry(model, model.claims[i], details[i])
         text = dumps(new_certificate(section, entries))
-        report = audit_text(text)
+        report = audit_text(text, AUDIT_SECONDS)
         prov = check_provenance(text, model)
     outcomes = []
     for entry, verdict, detail, sec in zip(entries, report.claims, details, seconds, strict=True):
