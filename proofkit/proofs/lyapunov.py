@@ -55,8 +55,10 @@ __all__ = [
     "EPS",
     "TIME_BUDGET",
     "LyapunovCertificate",
+    "SearchSetup",
     "attempt",
     "check_evidence",
+    "evidence_json",
     "search",
     "shifted_field",
 ]
@@ -85,7 +87,7 @@ class LyapunovCertificate:
 
 
 @dataclass
-class _Setup:
+class SearchSetup:
     """The shifted field over the deviation, in a polynomial space of the states."""
 
     space: Any  # proofkit.sos.PolySpace
@@ -145,7 +147,7 @@ def _exact_gram(exact: Any, u: Any) -> tuple[np.ndarray, list[list[flint.fmpq]]]
     return u.basis.copy(), exact.values[u.name]
 
 
-def _global(setup: _Setup, degree: int, m: int) -> LyapunovCertificate | None:
+def _global(setup: SearchSetup, degree: int, m: int) -> LyapunovCertificate | None:
     """V with ``V - eps|y|^2`` and ``-lie(V) - eps (|y|^2)^m`` sums of squares."""
     from proofkit.exact import solve_exactly
     from proofkit.exact.rounding import unknown_poly
@@ -168,7 +170,7 @@ def _global(setup: _Setup, degree: int, m: int) -> LyapunovCertificate | None:
     return cert
 
 
-def _ball(setup: _Setup, degree: int, m: int, r2: Fraction) -> LyapunovCertificate | None:
+def _ball(setup: SearchSetup, degree: int, m: int, r2: Fraction) -> LyapunovCertificate | None:
     """V positive, and decreasing on ``{|y|^2 <= r2}`` (multiplier s1); exact ``V``."""
     from proofkit.exact import solve_exactly
     from proofkit.exact.rounding import unknown_poly
@@ -195,7 +197,7 @@ def _ball(setup: _Setup, degree: int, m: int, r2: Fraction) -> LyapunovCertifica
     return cert
 
 
-def _lie_degree(setup: _Setup, degree: int) -> int:
+def _lie_degree(setup: SearchSetup, degree: int) -> int:
     deg_f = max((gi.total_degree() for gi in setup.g), default=1)
     top = degree + max(deg_f, 1) - 1
     return top + top % 2
@@ -212,7 +214,7 @@ def _level_guess(space: Any, v: flint.fmpq_mpoly, r2: Fraction) -> float:
     return float(vals.min())
 
 
-def _with_level(setup: _Setup, cert: LyapunovCertificate, r2: Fraction) -> bool:
+def _with_level(setup: SearchSetup, cert: LyapunovCertificate, r2: Fraction) -> bool:
     """Fix V; find ``s0`` and a level below the ball with the local decrease; fills ``cert``."""
     from proofkit.exact import solve_exactly
     from proofkit.exact.rounding import unknown_poly
@@ -245,7 +247,7 @@ def _with_level(setup: _Setup, cert: LyapunovCertificate, r2: Fraction) -> bool:
     return False
 
 
-def _as_local(setup: _Setup, cert: LyapunovCertificate) -> LyapunovCertificate:
+def _as_local(setup: SearchSetup, cert: LyapunovCertificate) -> LyapunovCertificate:
     """A global certificate as a local one: ``s0 = 0``, level 1."""
     zero = np.zeros((1, setup.space.nvars), dtype=np.int64)
     cert.level, cert.s0 = Fraction(1), setup.space.zero()
@@ -253,7 +255,7 @@ def _as_local(setup: _Setup, cert: LyapunovCertificate) -> LyapunovCertificate:
     return cert
 
 
-def _too_big(setup: _Setup, degree: int) -> bool:
+def _too_big(setup: SearchSetup, degree: int) -> bool:
     """Would the decrease Gram basis (all monomials up to half its degree) exceed MAX_GRAM?"""
     from math import comb
 
@@ -262,7 +264,7 @@ def _too_big(setup: _Setup, degree: int) -> bool:
 
 
 def search(
-    setup: _Setup, local: bool, deadline: float, say: Callable[[str], None]
+    setup: SearchSetup, local: bool, deadline: float, say: Callable[[str], None]
 ) -> tuple[LyapunovCertificate | None, str]:
     """Degrees 2, 4, 6, 8 in turn; the first exact certificate, or why none was found."""
     tried = []
@@ -389,7 +391,7 @@ def _rational_point(model: Model, claim: Claim) -> list[Fraction] | str:
     return [Fraction(str(c)) for c in eq["point"]]
 
 
-def _setup(model: Model, point: list[Fraction]) -> _Setup | str:
+def _setup(model: Model, point: list[Fraction]) -> SearchSetup | str:
     try:
         g = shifted_field(model, point)
     except ModelError as exc:
@@ -399,7 +401,7 @@ def _setup(model: Model, point: list[Fraction]) -> _Setup | str:
     if isinstance(powers, str):
         return powers
     norm = sum((space.gen(i) ** 2 for i in range(space.nvars)), space.zero())
-    return _Setup(space, g, norm, powers)
+    return SearchSetup(space, g, norm, powers)
 
 
 def _not_proved(model: Model, claim: Claim, reason: str) -> ProofAttempt:
