@@ -235,10 +235,14 @@ def _from_cover(model: Model, claim: Claim, system: RangeSystem, cover: Cover, s
     ranges = ", ".join(
         f"{n} in [{lo}, {hi}]" for n, (lo, hi) in zip(system.params, system.box, strict=True)
     )
+    count = len(cover.leaves)
     detail = (
-        f"{'stable' if kind == 'stable' else 'unstable'} for every {ranges}: "
-        f"{len(cover.leaves)} sub-boxes, exact Bernstein signs of the Hurwitz conditions"
+        f"{'stable' if kind == 'stable' else 'unstable'} for every {ranges}: exact Bernstein "
+        f"signs of the Hurwitz conditions on {count} sub-box{'es' if count != 1 else ''}"
     )
+    shown = [_margin_text(system, j, m[0]) for j, m in enumerate(margins) if m is not None]
+    if shown:
+        detail += "; margin (the same holds, others at nominal): " + ", ".join(shown)
     return RangeAttempt(entry, detail)
 
 
@@ -246,6 +250,24 @@ def _from_cover(model: Model, claim: Claim, system: RangeSystem, cover: Cover, s
 def _covered(system: RangeSystem, kind: str, j: int, lo: Fraction, hi: Fraction) -> Cover:
     box: Box = tuple((lo, hi) if i == j else (v, v) for i, v in enumerate(system.nominal))
     return cover_box(system, kind, box=box, budget=400, seconds=1.0)  # type: ignore[arg-type]
+
+
+DOUBLINGS = 7  # the margin search widens the declared range at most 2^7 - 1 times
+
+
+def _search_limit(system: RangeSystem, j: int, sign: int) -> Fraction:
+    lo, hi = system.box[j]
+    width = max(hi - lo, Fraction(1, 1000))
+    return (hi if sign > 0 else lo) + sign * width * (2**DOUBLINGS - 1)
+
+
+def _margin_text(system: RangeSystem, j: int, ends: tuple[Fraction, Fraction]) -> str:
+    lo, hi = ends
+    tags = [
+        " (search limit)" if end == _search_limit(system, j, sign) else ""
+        for end, sign in ((lo, -1), (hi, 1))
+    ]
+    return f"{system.params[j]} in [{float(lo):.6g}{tags[0]}, {float(hi):.6g}{tags[1]}]"
 
 
 def _extend(system: RangeSystem, kind: str, j: int, sign: int, seconds: float) -> Fraction:
@@ -261,7 +283,7 @@ def _extend(system: RangeSystem, kind: str, j: int, sign: int, seconds: float) -
         return _covered(system, kind, j, a, b).status == "covered"
 
     bad = None
-    for k in range(7):  # widen by doubling until a cover fails
+    for k in range(DOUBLINGS):  # widen by doubling until a cover fails
         trial = good + sign * width * 2**k
         if time.monotonic() > deadline or not ok(trial):
             bad = trial
