@@ -16,6 +16,10 @@ jobs ran (load average 7.4, so absolute times are noisy; median of 3):
 python 0.09 s, ``--help`` 0.29 s, ``inspect`` 2.0 s, ``audit --core-only``
 0.33 s (no heavy library imported), ``prove`` 5.8 s, ``prove --out`` 8.9 s;
 portrait parts in one process: Agg import 1.23 s, draw 0.38 s, save 0.28 s.
+Against the earlier portrait (pyplot, ``streamplot``, equilibria only), same
+certificate, same process set-up, load average 12: first portrait 2.9-3.6 s
+before, 2.3-2.8 s now (import dominates); a second portrait 1.2-1.4 s before,
+0.67-0.88 s now, while drawing separatrices, trajectories and a legend too.
 """
 
 from __future__ import annotations
