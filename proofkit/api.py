@@ -206,6 +206,7 @@ def basin(
 ) -> BasinResult:
     """The largest region of attraction of ``equilibrium`` certified with ``V`` of ``degree``.
 
+    ``equilibrium`` names a declared equilibrium (default: the first declared).
     A sum-of-squares search; the set counts as certified only after the audit
     accepted its certificate (``result.certified``). Slow (seconds to minutes).
 
@@ -215,7 +216,19 @@ def basin(
     >>> r.certified
     True
     """
+    from proofkit.errors import InputError
+
     m = _model(model)
+    names = [e.name for e in m.equilibria]
+    if (equilibrium or (names[0] if names else None)) not in names:
+        known = ", ".join(names) or "none declared"
+        what = f"named {equilibrium!r}" if equilibrium else "to start from"
+        raise InputError(
+            f"{m.file}: no declared equilibrium {what} (declared: {known})",
+            hint="declare it: equilibrium NAME at x = ..., y = ...",
+        )
+    if degree not in (2, 4, 6, 8, 10):
+        raise InputError(f"degree {degree}: expected 2, 4, 6, 8 or 10")
     try:
         from proofkit.proofs.basin import estimate_basin
     except ImportError:
