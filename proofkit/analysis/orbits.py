@@ -32,7 +32,8 @@ __all__ = ["Cycle", "NumericField", "OrbitSearch", "find_cycles", "numeric_field
 
 MAX_STATES = 6
 MAX_CYCLES = 12
-_ESCAPE = 1e3  # trajectories beyond this multiple of the box are frozen
+_ESCAPE = 20.0  # trajectories beyond this multiple of the box are frozen
+MAX_EVALUATIONS = 60_000  # field evaluations per integration in the shooting method
 Progress = Callable[[str], None]
 
 
@@ -219,19 +220,31 @@ def _starts(
 
 
 # --- shooting ------------------------------------------------------------------
+class _TooLong(Exception):
+    """An integration used up its budget of field evaluations (stiff or escaping)."""
+
+
 def _flow(nf: NumericField, x: np.ndarray, t: float, sign: float, tol: float):
     """``phi(t, x)`` and the monodromy ``M`` (variational equations) for the signed field."""
     from scipy.integrate import solve_ivp
 
     n = nf.n
+    calls = [0]
 
     def rhs(_t: float, z: np.ndarray) -> np.ndarray:
+        calls[0] += 1
+        if calls[0] > MAX_EVALUATIONS:
+            raise _TooLong
         y = z[:n]
         m = z[n:].reshape(n, n)
         return np.concatenate([sign * nf.f(y), (sign * nf.jac(y) @ m).ravel()])
 
     z0 = np.concatenate([x, np.eye(n).ravel()])
-    sol = solve_ivp(rhs, (0.0, t), z0, method="DOP853", rtol=tol, atol=tol * 1e-1)
+    try:
+        with np.errstate(all="ignore"):
+            sol = solve_ivp(rhs, (0.0, t), z0, method="DOP853", rtol=tol, atol=tol * 1e-1)
+    except _TooLong:
+        return None
     if not sol.success or not np.all(np.isfinite(sol.y[:, -1])):
         return None
     z = sol.y[:, -1]
@@ -294,15 +307,23 @@ def _finish(nf: NumericField, x: np.ndarray, t: float, sign: float, scale: float
         return None
     n = nf.n
 
+    calls = [0]
+
     def rhs(_t: float, y: np.ndarray) -> np.ndarray:
+        calls[0] += 1
+        if calls[0] > MAX_EVALUATIONS:
+            raise _TooLong
         return nf.f(y)
 
     events = [_extremum_event(nf, i) for i in range(n)]
     direction = 1.0 if sign > 0 else -1.0
     span = (0.0, direction * t)
-    sol = solve_ivp(
-        rhs, span, x, method="DOP853", rtol=1e-12, atol=1e-13, events=events, dense_output=True
-    )
+    try:
+        sol = solve_ivp(
+            rhs, span, x, method="DOP853", rtol=1e-12, atol=1e-13, events=events, dense_output=True
+        )
+    except _TooLong:
+        return None
     if not sol.success:
         return None
     times = np.linspace(0.0, t, 801)
@@ -388,7 +409,7 @@ def find_cycles(
             if guess is None:
                 continue
             point = tail[:, -1]
-            if any(_near_orbit(point, c) for c in found):
+            if np.abs(point).max() > 0.5 * bound or any(_near_orbit(point, c) for c in found):
                 continue
             say(f"orbit: Newton on the return map from {np.round(point, 3).tolist()}")
             cyc = refine_cycle(nf, point, guess, sign)

@@ -139,10 +139,20 @@ def index_program(pl: Planar, eps: Fraction) -> Found:
     return Found(ev)
 
 
-def dulac_program(pl: Planar, degree: int, eps: Fraction = Fraction(1)) -> Found:
-    """``divergence``: div(B f) - eps - sum s_i g_i is a sum of squares, B free of ``degree``."""
+def dulac_program(
+    pl: Planar, degree: int, eps: Fraction = Fraction(1), fixed: sp.Expr | None = None
+) -> Found:
+    """``divergence``: div(B f) - eps - sum s_i g_i is a sum of squares.
+
+    ``B`` is free of ``degree``, or the given polynomial ``fixed`` (a Dulac
+    function found by hand; then only the multipliers and Gram matrices are searched).
+    """
     prog = SearchProgram(pl.xs)
-    b = prog.free("B", full_basis(2, degree))
+    if fixed is not None:
+        b = prog.poly(sp.expand(fixed))
+        degree = pl.degree(fixed)
+    else:
+        b = prog.free("B", full_basis(2, degree))
     div = (b * pl.f[0]).diff(0) + (b * pl.f[1]).diff(1)
     fdeg = max(pl.degree(fi) for fi in pl.f)
     mults, _deg = _set_multipliers(prog, pl, degree + fdeg - 1)
@@ -155,7 +165,10 @@ def dulac_program(pl: Planar, degree: int, eps: Fraction = Fraction(1)) -> Found
         return Found(None, why)
     from proofkit.exact.rounding import unknown_poly
 
-    bpoly = unknown_poly(prog.space, b, exact.values["B"])
+    if fixed is not None:
+        bpoly = prog.space.coerce(sp.expand(fixed))
+    else:
+        bpoly = unknown_poly(prog.space, b, exact.values["B"])
     if bpoly.is_zero():
         return Found(None, "the Dulac function came out zero")
     ev = {
