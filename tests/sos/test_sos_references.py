@@ -16,21 +16,17 @@ MOTZKIN = X**4 * Y**2 + X**2 * Y**4 - 3 * X**2 * Y**2 + 1
 
 
 def test_motzkin_gets_no_certificate() -> None:
-    # published: Motzkin (1967): nonnegative, not a sum of squares.
+    # published: Motzkin (1967): nonnegative, not a sum of squares. The samples show the
+    # search fails for the right reason (not SOS), not because the polynomial is negative.
+    for a in range(-6, 7):
+        for b in range(-6, 7):
+            assert MOTZKIN.subs({X: sp.Rational(a, 3), Y: sp.Rational(b, 3)}) >= 0
     res = decompose(MOTZKIN, [X, Y])
     assert not res.found
     assert res.gram is None
     assert "margin" in res.reason
     with pytest.raises(ValueError):
         res.squares()
-
-
-def test_motzkin_is_nonnegative_where_sampled() -> None:
-    # published: Motzkin (1967) nonnegativity (AM-GM); the search above fails for the
-    # right reason (not SOS), not because the polynomial is negative somewhere.
-    for a in range(-6, 7):
-        for b in range(-6, 7):
-            assert MOTZKIN.subs({X: sp.Rational(a, 3), Y: sp.Rational(b, 3)}) >= 0
 
 
 def test_motzkin_times_sum_of_squares_is_certified_exactly() -> None:
