@@ -437,7 +437,9 @@ def _good(signs: Sequence[int], kind: str) -> bool:
         return all(s > 0 for s in signs)
     if signs[-1] < 0:  # a_n < 0: a real root s > 0
         return True
-    first = [1, signs[0]] + [signs[k] * signs[k - 1] for k in range(1, len(signs))]
+    # the Routh first column: 1, D1, D2/D1, ..., D_{n-1}/D_{n-2}, and D_n/D_{n-1} = a_n
+    ratios = [signs[k] * signs[k - 1] for k in range(1, len(signs) - 1)]
+    first = [1, signs[0], *ratios, *(signs[-1:] if len(signs) > 1 else [])]
     return all(signs) and any(a != b for a, b in itertools.pairwise(first))
 
 

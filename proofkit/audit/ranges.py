@@ -316,7 +316,10 @@ def _tiles(boxes: list[Box], full: Box) -> bool:
 
 
 def _first_column_changes(signs: Sequence[int]) -> int:
-    first = [1, signs[0]] + [signs[k] * signs[k - 1] for k in range(1, len(signs))]
+    """Sign changes of the Routh first column ``1, D1, D2/D1, ..., D_{n-1}/D_{n-2}, a_n``
+    (``D_n / D_{n-1} = a_n``) from the signs of ``D1 .. D_{n-1}, a_n``."""
+    ratios = [signs[k] * signs[k - 1] for k in range(1, len(signs) - 1)]
+    first = [1, signs[0], *ratios, *(signs[-1:] if len(signs) > 1 else [])]
     return sum(1 for a, b in pairwise(first) if a != b)
 
 

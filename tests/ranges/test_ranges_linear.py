@@ -176,3 +176,24 @@ def test_parameter_limit_at_and_past() -> None:
         assert verdicts[0].status == expected
         if expected == "not proved":
             assert "uncertain parameters" in attempts[0].entry["reason"]
+
+
+def test_routh_sign_changes_from_hurwitz_signs_against_numpy() -> None:
+    # computed: numpy.roots; with every Hurwitz determinant nonzero the Routh first column
+    # is 1, D1, D2/D1, ..., a_n and its sign changes count the right-half-plane roots
+    from proofkit.analysis.parametric import hurwitz_determinants
+    from proofkit.audit.ranges import _first_column_changes
+
+    rng = np.random.default_rng(5)
+    checked = 0
+    for _ in range(300):
+        n = int(rng.integers(1, 6))
+        c = [1, *(int(v) for v in rng.integers(-6, 7, size=n))]
+        d = hurwitz_determinants([sp.Integer(v) for v in c])
+        roots = np.roots(c)
+        if any(x == 0 for x in d) or np.min(np.abs(roots.real)) < 1e-7:
+            continue
+        signs = [int(sp.sign(x)) for x in d[:-1]] + [int(np.sign(c[-1]))]
+        assert _first_column_changes(signs) == int(np.sum(roots.real > 0)), c
+        checked += 1
+    assert checked > 200
