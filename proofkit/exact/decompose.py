@@ -174,11 +174,7 @@ def _try_iterated(
         w = np.linalg.eigvalsh((q + q.T) / 2)
         return float(w.min()) >= -1e-6 * max(1.0, float(np.abs(w).max()))
 
-    hints = [
-        s
-        for s, _b in res.numerics
-        if s.usable and s.status != "infeasible" and near_psd(s)
-    ]
+    hints = [s for s, _b in res.numerics if s.usable and s.status != "infeasible" and near_psd(s)]
     if not hints:
         return None
     prog = SearchProgram(variables)
