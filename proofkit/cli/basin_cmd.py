@@ -46,6 +46,13 @@ def register(subparsers: Any) -> None:
     p.add_argument(
         "--degree", type=int, default=4, metavar="D", help="degree of V: 2, 4, 6, 8 or 10 (4)"
     )
+    p.add_argument(
+        "--budget",
+        type=float,
+        default=50.0,
+        metavar="SECONDS",
+        help="search time per degree before the best set is made exact (50)",
+    )
     p.add_argument("--json", action="store_true", help="print the result as JSON")
     p.add_argument("--out", metavar="DIR", help="write certificate, documents and picture to DIR")
     p.add_argument("--quiet", action="store_true", help="no progress on stderr")
@@ -53,6 +60,8 @@ def register(subparsers: Any) -> None:
 
 
 def _check(args: argparse.Namespace, model: Any) -> None:
+    if not 0 < args.budget <= 3600:
+        raise InputError(f"--budget {args.budget}: expected seconds in (0, 3600]")
     if args.degree not in DEGREES:
         raise InputError(f"--degree {args.degree}: expected one of {', '.join(map(str, DEGREES))}")
     names = [e.name for e in model.equilibria]
@@ -104,7 +113,13 @@ def run(args: argparse.Namespace) -> int:
         if not args.quiet:
             print(f"proofkit: [{time.perf_counter() - t0:6.1f} s] {msg}", file=sys.stderr)
 
-    result = estimate_basin(model, args.equilibrium, degree=args.degree, progress=progress)
+    result = estimate_basin(
+        model,
+        args.equilibrium,
+        degree=args.degree,
+        progress=progress,
+        seconds_per_degree=args.budget,
+    )
     if args.out and result.status == "proved":
         try:
             written = _write(result, Path(args.out), args)

@@ -27,18 +27,17 @@ def _box(v: NumPoly, level: float, n: int) -> np.ndarray:
     return 1.2 * np.max(np.abs(dirs) * r[:, None], axis=0)
 
 
-def size_of(v: NumPoly, level: float, cells: int = 1200, samples: int = 400_000) -> dict[str, Any]:
+def size_of(v: NumPoly, level: float, cells: int = 1000, samples: int = 200_000) -> dict[str, Any]:
     """``{"value", "kind", "method", "error"}`` for ``{y : V(y) <= level}`` (deviation coords)."""
     n = v.exps.shape[1]
     half = _box(v, level, n)
     if n == 2:
         xs = np.linspace(-half[0], half[0], cells + 1)
         ys = np.linspace(-half[1], half[1], cells + 1)
-        gx, gy = np.meshgrid(xs, ys, indexing="ij")
-        vals = (eval_map(np.column_stack([gx.ravel(), gy.ravel()]), v.exps) @ v.coeffs).reshape(
-            gx.shape
-        )
-        inside = vals <= level
+        inside = np.empty((len(xs), len(ys)), dtype=bool)
+        for i, x in enumerate(xs):  # one column at a time keeps memory small
+            pts = np.column_stack([np.full_like(ys, x), ys])
+            inside[i] = eval_map(pts, v.exps) @ v.coeffs <= level
         corners = inside[:-1, :-1].astype(int) + inside[1:, :-1] + inside[:-1, 1:] + inside[1:, 1:]
         cell = (xs[1] - xs[0]) * (ys[1] - ys[0])
         full = int((corners == 4).sum())
@@ -50,8 +49,11 @@ def size_of(v: NumPoly, level: float, cells: int = 1200, samples: int = 400_000)
             "error": round(0.5 * cut * cell, 6),
         }
     rng = np.random.default_rng(5)
-    pts = rng.uniform(-1, 1, size=(samples, n)) * half[None, :]
-    frac = float(np.mean(eval_map(pts, v.exps) @ v.coeffs <= level))
+    hits = 0
+    for _ in range(samples // 20_000):
+        pts = rng.uniform(-1, 1, size=(20_000, n)) * half[None, :]
+        hits += int(np.sum(eval_map(pts, v.exps) @ v.coeffs <= level))
+    frac = hits / (samples // 20_000 * 20_000)
     box = float(np.prod(2 * half))
     err = 3 * math.sqrt(max(frac * (1 - frac), 1e-12) / samples) * box
     return {

@@ -62,4 +62,4 @@ def oscillator() -> proofkit.Model:
 def oscillator_run(oscillator):
     from proofkit.proofs.basin import estimate_basin
 
-    return estimate_basin(oscillator, "origin", degree=2)
+    return estimate_basin(oscillator, "origin", degree=2, seconds_per_degree=3)
