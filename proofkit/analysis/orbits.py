@@ -20,6 +20,7 @@ expressions).
 
 from __future__ import annotations
 
+import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
@@ -381,10 +382,16 @@ def find_cycles(
     box: Sequence[tuple[float, float]] | None = None,
     per_axis: int | None = None,
     horizon: float = 90.0,
+    budget: float = 60.0,
     progress: Progress | None = None,
 ) -> OrbitSearch:
-    """Locate the periodic orbits reached from a grid of starts, forward and backward."""
+    """Locate the periodic orbits reached from a grid of starts, forward and backward.
+
+    ``budget`` bounds the seconds spent refining candidates (Newton's method);
+    when it runs out the search stops and says so in its notes.
+    """
     say = progress or (lambda _m: None)
+    deadline = time.perf_counter() + budget
     nf = numeric_field(model)
     n = nf.n
     box = tuple(box) if box is not None else default_box(model)
@@ -404,6 +411,9 @@ def find_cycles(
             if len(found) >= MAX_CYCLES:
                 notes.append(f"stopped after {MAX_CYCLES} cycles")
                 break
+            if time.perf_counter() > deadline:
+                notes.append(f"time budget of {budget:g} s used up; some candidates not refined")
+                break
             tail = tails[:, r, :]
             guess = _period_guess(tail, dt)
             if guess is None:
@@ -420,6 +430,7 @@ def find_cycles(
     if n > 2:
         notes.append("saddle-type cycles (neither attracting nor repelling) are not searched")
     found.sort(key=lambda c: (max(c.amplitude), c.period))
+    notes = list(dict.fromkeys(notes))
     return OrbitSearch(nf.states, tuple(found), box, int(starts.shape[1]), tuple(notes))
 
 
