@@ -70,9 +70,10 @@ def _status(text: str, k: int) -> str:
 def test_duct_whistle_claims_all_proved_and_audited(duct) -> None:
     statuses = {o.claim: (o.status, o.method) for o in duct.outcomes}
     assert statuses["cycle in p^2 + 2*v^2 >= 1/4 and p^2 + 2*v^2 <= 4"] == ("proved", "annulus")
-    assert statuses["no cycle in p^2 + v^2 <= 1/4"][0] == "proved"
+    assert statuses["no cycle in p^2 + v^2 <= 1/4"] == ("proved", "dulac")
+    assert statuses["no cycle in p >= 3/2"] == ("proved", "no-equilibrium")
     assert duct.audit.accepted and duct.provenance.ok
-    assert [v.status for v in duct.audit.claims] == ["proved"] * 3
+    assert {v.status for v in duct.audit.claims} == {"proved"}
 
 
 def test_van_der_pol_true_and_false_claims(vdp) -> None:
