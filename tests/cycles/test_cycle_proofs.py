@@ -17,12 +17,13 @@ from __future__ import annotations
 
 import copy
 import json
+import math
 from fractions import Fraction
 from pathlib import Path
 
 import pytest
 import sympy as sp
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from proofkit.audit import FormatError, audit_text
@@ -200,3 +201,32 @@ def test_random_number_changes_rejected(duct, data) -> None:
             term[1] = str(Fraction(term[1]) + delta)
 
     assert _status(_mutated(duct, k, bump), k) in ("rejected", "format error")
+
+
+RINGS = """system two_rings
+state x, y
+let r2 = x^2 + y^2
+dx/dt = -y + x*(r2 - 1)*(4 - r2)/4
+dy/dt = x + y*(r2 - 1)*(4 - r2)/4
+claim no cycle in (x - {a})^2 + (y - {b})^2 <= {r}
+"""
+
+
+@pytest.mark.slow
+@settings(max_examples=12)
+@given(
+    st.fractions(min_value=-3, max_value=3, max_denominator=4),
+    st.fractions(min_value=-3, max_value=3, max_denominator=4),
+    st.fractions(min_value=Fraction(1, 4), max_value=4, max_denominator=4),
+)
+def test_no_cycle_never_proved_for_a_disc_holding_a_ring(a, b, r) -> None:
+    """Invented two-ring demo: the periodic orbits are the circles of radius 1 and 2
+    about the origin (computed by hand in polar form); a disc holds one of them iff
+    |centre| + radius_of_ring <= r."""
+    model = parse_model(RINGS.format(a=a, b=b, r=r * r), "rings.pk")
+    run = prove_model(model)
+    centre = math.hypot(float(a), float(b))
+    holds_ring = centre + 1 <= float(r) or centre + 2 <= float(r)
+    if run.outcomes[0].status == "proved":
+        assert not holds_ring
+        assert run.audit.claims[0].status == "proved"
