@@ -27,6 +27,10 @@ EXAMPLE = """example:
 
 The cycles are numerical findings (Poincare section, Newton's method on the
 return map, tolerances 1e-12), not proofs.
+
+limits: at most 6 states; at most 12 cycles; 60 s for refining candidates;
+trajectories beyond 20 box half-widths are dropped; saddle-type cycles of
+systems with more than two states are not searched.
 """
 NOT_PROOF = "numerical findings in floating point, not proofs"
 
