@@ -18,6 +18,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 import numpy as np
+import pytest
 import sympy as sp
 from hypothesis import assume, given
 from hypothesis import strategies as st
@@ -25,7 +26,9 @@ from sympy.polys.matrices import DomainMatrix
 
 from proofkit.analysis.linear import (
     characteristic_polynomial,
+    jacobian_at,
     leading_minors,
+    quadratic_element,
     quadratic_field,
     routh_array_in,
     routh_rows,
@@ -173,3 +176,25 @@ def test_lyapunov_solution_satisfies_the_equation_in_sympy(case) -> None:
     residual = (As.T * Ps + Ps * As + sp.eye(n)).applyfunc(sp.expand)
     assert residual == sp.zeros(n, n)  # computed: sympy exact arithmetic
     assert all(x.sign() > 0 for x in minors)
+
+
+def test_jacobian_at_an_irrational_point_matches_sympy() -> None:
+    # computed: sympy jacobian of f = (x^2 - 2 + x y, 3 x - y^3) at x = sqrt 2, y = 1 - sqrt 2
+    x, y = sp.symbols("x y")
+    f = [x**2 - 2 + x * y, 3 * x - y**3]
+    K = quadratic_field(2)
+    point = [quadratic_element(sp.sqrt(2), K), quadratic_element(1 - sp.sqrt(2), K)]
+    J = jacobian_at(f, [x, y], point)
+    expected = sp.Matrix(f).jacobian([x, y]).subs({x: sp.sqrt(2), y: 1 - sp.sqrt(2)})
+    for i in range(2):
+        for j in range(2):
+            assert sqrt_parts(J[i][j]) == _parts(expected[i, j], 2)
+
+
+def test_quadratic_field_refuses_what_it_cannot_hold() -> None:
+    with pytest.raises(ValueError):
+        quadratic_field(4)  # a perfect square: sqrt(4) is rational
+    with pytest.raises(ValueError):
+        quadratic_element(sp.sqrt(3), quadratic_field(2))
+    assert quadratic_field(5) is quadratic_field(5)
+    assert quadratic_field(0).is_rational
