@@ -226,7 +226,21 @@ def model_section(model: Model) -> dict[str, Any]:
         except NotRepresentable as exc:
             section["domain_note"] = f"not written as polynomials ({exc}); see the source"
     section["conditions"] = conditions
+    section["equilibria"] = [_declared(model, eq.name) for eq in model.equilibria]
     return section
+
+
+def _declared(model: Model, name: str) -> dict[str, Any]:
+    """A declared equilibrium: its point with fixed parameters substituted (null if it moves)."""
+    coords = model.equilibrium(name).as_dict()
+    exprs = [sp.expand(coords[s].subs(_fixed_values(model))) for s in model.states]
+    uncertain = {p.symbol for p in model.params if p.is_uncertain}
+    d = None if any(e.free_symbols & uncertain for e in exprs) else quadratic_field(exprs)
+    try:
+        point = None if d is None else [number_json(e, d) for e in exprs]
+    except NotRepresentable:
+        point, d = None, None
+    return {"name": name, "point": point, "number_field": {"sqrt": str(d)} if d else None}
 
 
 def _set_json(region: Any, model: Model, *, nominal: bool) -> list[dict[str, Any]]:

@@ -39,6 +39,7 @@ COMPARED = (
     ("field", "vector field (fixed parameters substituted)"),
     ("domain", "domain"),
     ("conditions", "conditions where the field is defined"),
+    ("equilibria", "declared equilibria and their points"),
 )
 
 

@@ -88,6 +88,7 @@ MODEL_KEYS = {
     "domain",
     "domain_note",
     "conditions",
+    "equilibria",
 }
 ENTRY_KEYS = {
     "claim",
@@ -219,9 +220,41 @@ def _model(model: dict[str, Any]) -> ModelData:
     dom = None if domain is None else tuple(read_set(domain, len(states), "model.domain"))
     for key in ("source", "source_sha256"):
         get(model, key, str, "model")
+    declared = _equilibria(get(model, "equilibria", list, "model"), len(states))
     return ModelData(
-        tuple(states), params, variables, numerators, denominators, tuple(conditions), dom
-    )
+        tuple(states), params, variables, numerators, denominators, tuple(conditions), dom,
+        declared,
+    )  # fmt: skip
+
+
+def _equilibria(data: Any, n: int) -> dict[str, tuple[Any, ...] | None]:
+    """The declared equilibria: name -> point (None when it moves or is not representable)."""
+    if not isinstance(data, list) or len(data) > MAX_CLAIMS:
+        raise FormatError("model.equilibria: expected a list")
+    out: dict[str, tuple[Any, ...] | None] = {}
+    for k, eq in enumerate(data):
+        w = f"model.equilibria[{k}]"
+        only_keys(eq, {"name", "point", "number_field"}, w)
+        name = get(eq, "name", str, w)
+        if name in out:
+            raise FormatError(f"{w}: equilibrium {escape(name)[:40]!r} declared twice")
+        d = _number_field(eq, w)
+        point = eq.get("point")
+        out[name] = None if point is None else tuple(read_vector(point, d, f"{w}.point", n))
+    return out
+
+
+def _declared_point(model: ModelData, claim: ClaimData) -> None:
+    """The claim's equilibrium must be declared, at the declared point."""
+    if claim.name is None:
+        return
+    if claim.name not in model.equilibria:
+        raise Rejected(
+            "equilibrium", f"no equilibrium named {escape(claim.name)[:40]!r} is declared"
+        )
+    declared = model.equilibria[claim.name]
+    if declared is not None and claim.point is not None and declared != claim.point:
+        raise Rejected("equilibrium", f"the point is not the declared point of {claim.name}")
 
 
 # --- one claim -------------------------------------------------------------------------
@@ -295,6 +328,7 @@ def _check_claim(entry: dict[str, Any], model: ModelData, where: str) -> ClaimVe
         if found is None:
             raise Rejected("method", f"no theorem lets {method!r} {verb} a {claim.kind!r} claim")
         theorem, schema_fn, scopes = found
+        _declared_point(model, claim)
         if entry.get("theorem") != theorem:
             raise Rejected("theorem", f"the theorem for this method is {theorem!r}")
         if claim.scope not in scopes:

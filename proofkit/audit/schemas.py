@@ -105,6 +105,7 @@ class ModelData:
     denominators: tuple[Poly, ...] | None
     conditions: tuple[Condition, ...]  # over the field's variables
     domain: tuple[Condition, ...] | None  # over the states
+    equilibria: dict[str, tuple[Num, ...] | None] = field(default_factory=dict)  # declared
 
     @property
     def uncertain(self) -> tuple[Parameter, ...]:
