@@ -186,8 +186,8 @@ def _cycle_hint(model: Model, pl: Planar) -> str:
     for c in cycles:
         if _inside(pl, c.orbit, pl.conditions):
             return (
-                f" (numerically, a periodic orbit of period {c.period:.6g} lies in the set, "
-                "so none can exist)"
+                f" (numerically, a periodic orbit of period {c.period:.6g} lies in the set: "
+                "the claim looks false, and no certificate can exist)"
             )
     return ""
 
