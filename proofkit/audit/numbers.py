@@ -120,7 +120,7 @@ def _sgn(x: Fraction) -> int:
 
 
 def _rational(text: object, where: str) -> Fraction:
-    if isinstance(text, str) and len(text) > MAX_DIGITS + 2:
+    if isinstance(text, str) and len(text) - text.count("-") - text.count("/") > MAX_DIGITS:
         raise FormatError(
             f"{where}: a number of {len(text)} characters; at most {MAX_DIGITS} digits"
         )
