@@ -319,14 +319,30 @@ def _check_claim(entry: dict[str, Any], model: ModelData, where: str) -> ClaimVe
         raise FormatError(f"{where}: only a claim not proved carries a reason")
     method = get(entry, "method", str, where)
     get(entry, "evidence", dict, where)
-    table = SCHEMAS if status == "proved" else REFUTATIONS
     checks = Checks()
-    theorem = None
+    theorem = (SCHEMAS if status == "proved" else REFUTATIONS).get((claim.kind, method), ("",))[0]
+    step, message = _run_schema(entry, model, claim, status, checks)
+    if step is not None:
+        return ClaimVerdict(
+            **base, status="rejected", method=method, theorem=theorem or None,
+            checked=tuple(checks.log), failed_step=step, message=message,
+        )  # fmt: skip
+    return ClaimVerdict(
+        **base, status=status, method=method, theorem=theorem, checked=tuple(checks.log)
+    )
+
+
+def _run_schema(
+    entry: dict[str, Any], model: ModelData, claim: ClaimData, status: str, checks: Checks
+) -> tuple[str | None, str | None]:
+    """Run the registered schema; (None, None) when it accepts, else (step, message)."""
+    found = (SCHEMAS if status == "proved" else REFUTATIONS).get((claim.kind, claim.method))
     try:
-        found = table.get((claim.kind, method))
-        verb = "prove" if status == "proved" else "refute"
         if found is None:
-            raise Rejected("method", f"no theorem lets {method!r} {verb} a {claim.kind!r} claim")
+            verb = "prove" if status == "proved" else "refute"
+            raise Rejected(
+                "method", f"no theorem lets {claim.method!r} {verb} a {claim.kind!r} claim"
+            )
         theorem, schema_fn, scopes = found
         _declared_point(model, claim)
         if entry.get("theorem") != theorem:
@@ -338,29 +354,17 @@ def _check_claim(entry: dict[str, Any], model: ModelData, where: str) -> ClaimVe
                 "hold for every value in the ranges",
             )
         schema_fn(model, claim, checks)
+    except FormatError:
+        raise
     except Rejected as rej:
-        return ClaimVerdict(
-            **base,
-            status="rejected",
-            method=method,
-            theorem=theorem,
-            checked=tuple(checks.log),
-            failed_step=rej.step,
-            message=rej.message,
-        )
+        return rej.step, rej.message
     except WorkLimit as exc:
-        return ClaimVerdict(
-            **base, status="rejected", method=method, theorem=theorem,
-            checked=tuple(checks.log), failed_step="work limit", message=str(exc),
-        )  # fmt: skip
+        return "work limit", str(exc)
+    except (TypeError, KeyError, IndexError, AttributeError, ValueError) as exc:
+        return "evidence", f"the evidence does not have the shape its theorem reads ({exc!r:.80})"
     except (ZeroDivisionError, RecursionError, OverflowError, MemoryError) as exc:
-        return ClaimVerdict(
-            **base, status="rejected", method=method, theorem=theorem,
-            checked=tuple(checks.log), failed_step="arithmetic", message=str(exc),
-        )  # fmt: skip
-    return ClaimVerdict(
-        **base, status=status, method=method, theorem=theorem, checked=tuple(checks.log)
-    )
+        return "arithmetic", f"{exc!r:.80}"
+    return None, None
 
 
 NO_MODEL = ModelData((), (), (), None, None, (), None)
