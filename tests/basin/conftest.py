@@ -8,12 +8,12 @@ Reference values (labels as in ../shared/REFERENCES.md):
   scipy.linalg.solve_continuous_lyapunov), its best level ``c* = 2.3044776``
   (computed: REFERENCES.md, polar sweep), the area of the true region
   ``13.72222`` (computed: REFERENCES.md, area inside the limit cycle).
-* ``DISC``: in polar coordinates ``r' = -r (1 - r^2)``, ``theta' = 1``
-  (derived by hand: x x' + y y' = -(x^2 + y^2)(1 - x^2 - y^2)); every
+* ``DISC``: in polar coordinates ``dr/dt = -r (1 - r^2)``, ``dtheta/dt = 1``
+  (derived by hand: x dx/dt + y dy/dt = -(x^2 + y^2)(1 - x^2 - y^2)); every
   trajectory with r < 1 tends to 0, r = 1 is a periodic orbit, r > 1 grows
   without bound in finite time. The region of attraction is exactly the open
   unit disc, area pi.
-* ``STRIP``: ``x' = -x (1 - x^2)`` does not involve y and ``y' = -y``; x tends
+* ``STRIP``: ``dx/dt = -x (1 - x^2)`` does not involve y and ``dy/dt = -y``; x tends
   to 0 exactly when |x| < 1 (the scalar equation's equilibria are 0, +-1, and
   the sign of x' is -x on (-1, 1)), y always tends to 0. The region of
   attraction is exactly the strip |x| < 1 (derived by hand).
