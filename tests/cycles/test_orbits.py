@@ -32,7 +32,7 @@ dy/dt = mu*(1 - x^2)*y - x
 equilibrium rest at x = 0, y = 0
 """
 
-# Invented demo: r' = r (r^2 - 1)(4 - r^2)/4, theta' = 1 in polar form.
+# Invented demo: dr/dt = r (r^2 - 1)(4 - r^2)/4, dtheta/dt = 1 in polar form.
 RINGS = """system two_rings
 state x, y
 let r2 = x^2 + y^2
@@ -117,7 +117,7 @@ def test_two_rings_both_found_with_their_stability() -> None:
     search = find_cycles(parse_model(RINGS, "rings.pk"))
     assert len(search.cycles) == 2
     inner, outer = search.cycles
-    # computed by hand: theta' = 1 gives T = 2 pi; r = 1 and r = 2 are the circles;
+    # computed by hand: dtheta/dt = 1 gives T = 2 pi; r = 1 and r = 2 are the circles;
     # the nontrivial multiplier is exp(T g'(r)) with g(r) = r (r^2 - 1)(4 - r^2)/4:
     # g'(1) = 3/2 (repelling), g'(2) = -6 (attracting).
     for c, radius in ((inner, 1.0), (outer, 2.0)):
