@@ -145,8 +145,8 @@ def test_zero_eigenvalue_with_cubic_term() -> None:
 
 
 def test_shifted_planar_system_globally_stable() -> None:
-    # computed by hand: in u = x - 1, w = y - 2 the field is u' = -u + w^2 - u^3,
-    # w' = -w - u w; V = u^2 + w^2 gives dV/dt = -2u^2 - 2w^2 - 2u^4 (the 2 u w^2 cancel).
+    # computed by hand: in u = x - 1, w = y - 2 the field is du/dt = -u + w^2 - u^3,
+    # dw/dt = -w - u w; V = u^2 + w^2 gives dV/dt = -2u^2 - 2w^2 - 2u^4 (the 2 u w^2 cancel).
     body = (
         "state x, y\ndx/dt = -(x - 1) + (y - 2)^2 - (x - 1)^3\n"
         "dy/dt = -(y - 2) - (x - 1)*(y - 2)\nequilibrium P at x = 1, y = 2\n"
@@ -158,8 +158,8 @@ def test_shifted_planar_system_globally_stable() -> None:
 
 
 def test_shifted_three_state_system_globally_stable() -> None:
-    # computed by hand: with u, w, z the deviations from (1, -1, 2), u' = -u + w z,
-    # w' = -w - u z, z' = -z; V = u^2 + w^2 + z^2 gives dV/dt = -2(u^2 + w^2 + z^2).
+    # computed by hand: with u, w, z the deviations from (1, -1, 2), du/dt = -u + w z,
+    # dw/dt = -w - u z, dz/dt = -z; V = u^2 + w^2 + z^2 gives dV/dt = -2(u^2 + w^2 + z^2).
     body = (
         "state x, y, z\ndx/dt = -(x - 1) + (y + 1)*(z - 2)\n"
         "dy/dt = -(y + 1) - (x - 1)*(z - 2)\ndz/dt = -(z - 2)\n"
