@@ -7,7 +7,7 @@ Targets (issue 13): ``orbit`` on a planar polynomial model finds all its cycles
 in under 10 s; the Poincaré–Bendixson annulus proof of the van der Pol
 oscillator (mu = 1) takes under 60 s. Models: the van der Pol oscillator
 (mu = 1; one attracting cycle, period 6.6633 published by Hairer & Wanner) and
-an invented two-ring system (r' = r (r^2 - 1)(4 - r^2)/4, theta' = 1: a repelling
+an invented two-ring system (dr/dt = r (r^2 - 1)(4 - r^2)/4, dtheta/dt = 1: a repelling
 circle r = 1 inside an attracting circle r = 2). Prints seconds per run, where
 the orbit search spends them (exploration vs Newton refinement) and the
 margin to each target.
