@@ -51,7 +51,7 @@ def test_first_order_loop_positive_range_proved() -> None:
 
 
 def _bumpy(lo: int, hi: int):
-    # x' = y, y' = -(k^2 - 2k + 11/10) x - y: a = (k - 1)^2 + 1/10 > 0 but its Bernstein
+    # dx/dt = y, dy/dt = -(k^2 - 2k + 11/10) x - y: a = (k - 1)^2 + 1/10 > 0 but its Bernstein
     # coefficients on [0, 3] are not all positive (b1 = -19/10), so the cover subdivides
     return build(
         "x y",
@@ -144,7 +144,7 @@ def test_random_linear_systems_agree_with_numpy(c0, c1, lo, width) -> None:
 
 
 def test_radical_that_does_not_cancel_audits() -> None:
-    # computed by hand: x' = K - x^2 rests at x = +-sqrt(K), Jacobian -+2 sqrt(K): the radical
+    # computed by hand: dx/dt = K - x^2 rests at x = +-sqrt(K), Jacobian -+2 sqrt(K): the radical
     # stays in det(sI - J) = s + 2 sqrt(K), so each sub-box encloses sqrt(K) rationally
     m = build(
         "x",
