@@ -102,3 +102,36 @@ def test_no_portrait_for_a_one_state_model(tmp_path: Path) -> None:
     one = prove_model(proofkit.parse("state x\ndx/dt = -x\nequilibrium o at x = 0\n", "one.pk"))
     assert not phase_portrait(one.certificate, tmp_path / "phase.png")
     assert not (tmp_path / "phase.png").exists()
+
+
+def test_counterexample_is_rendered_with_start_point_and_trace() -> None:
+    # the shape the basin prover writes (start point exact, trajectory samples for a plot)
+    from types import SimpleNamespace
+
+    from proofkit.certificate import read
+    from proofkit.report._claims import claim_blocks
+    from proofkit.report.writers import to_markdown
+
+    entry = {
+        "claim": {"kind": "attracts", "equilibrium": {"name": "o", "point": ["0", "0"]},
+                  "set": None, "scope": "nominal"},
+        "statement": "o attracts x^2 + y^2 <= 4", "status": "refuted",
+        "method": "simulation", "theorem": "counterexample-by-simulation",
+        "evidence": {"start": ["3/2", "0"], "kind": "escaped"},
+        "counterexample": {
+            "start": ["3/2", "0"], "what_happened": "leaves every bounded set", "kind": "escaped",
+            "time_horizon": 2.0,
+            "trajectory": {"t": [0.0, 0.5, 1.0, 1.5, 2.0],
+                           "x": [[1.5, 0.0], [1.7, 0.9], [2.4, 2.8], [4.1, 9.5], [9.0, 60.0]]},
+            "note": "simulation (scipy solve_ivp, rtol 1e-9): numerical evidence, not a proof",
+        },
+    }  # fmt: skip
+    view = read({"proofkit_certificate": 2, "model": None, "claims": [entry]})
+    verdict = SimpleNamespace(status="refuted", checked=("the start point lies in the set",))
+    model = SimpleNamespace(states=("x", "y"), field=None, parameters=())
+    md = to_markdown(claim_blocks(view.claims[0], verdict, model, []))
+    assert "Counterexample: the trajectory starting exactly at $x = \\frac{3}{2}, y = 0$" in md
+    assert "leaves every bounded set" in md
+    assert "| t | x | y |" in md and "| 2 | 9 | 60 |" in md  # the last sample is kept
+    assert "numerical evidence, not a proof" in md
+    assert "Conclusion: the claim is false" in md
