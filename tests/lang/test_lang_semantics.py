@@ -10,6 +10,8 @@ rho_H = 470/19.
 from __future__ import annotations
 
 import sympy as sp
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import proofkit
 from proofkit.errors import InputError
@@ -151,3 +153,29 @@ def test_parameter_denominator_must_stay_nonzero_over_the_range() -> None:
     assert "a denominator (k) must be != 0, but it is 0 at k = 0" in err.message
     assert (err.span.line, err.span.column) == (3, 12)
     parse_model("parameter k = 1 in [1/2, 2]\nstate x\ndx/dt = -x/k\nequilibrium o at x = 0\n")
+
+
+@settings(max_examples=25, deadline=None)
+@given(
+    k=st.integers(-3, 3),
+    c=st.integers(-3, 3),
+    uncertain=st.booleans(),
+    width=st.integers(0, 2),
+    offset=st.integers(-2, 2),
+)
+def test_points_written_in_the_parameters(
+    k: int, c: int, uncertain: bool, width: int, offset: int
+) -> None:
+    # computed by hand: dx/dt = -(x - k - c) (x^2 + 1) vanishes exactly at x = k + c, for every
+    # value of k; a point off by a nonzero offset is refused, by a zero offset accepted
+    rng = f" in [{k - width}, {k + width}]" if uncertain else ""
+    text = (
+        f"parameter k = {k}{rng}\nconstant c = {c}\nstate x\n"
+        f"dx/dt = -(x - k - c)*(x^2 + 1)\nequilibrium e at x = k + c + ({offset})\n"
+    )
+    if offset != 0:
+        assert "'e' is not an equilibrium" in error(text).message
+    else:
+        model = parse_model(text)
+        assert model.equilibrium("e").moves_with_parameters == uncertain
+        assert parse_model(format_model(model)) == model
