@@ -219,13 +219,8 @@ def _describe_token(tok: Token) -> str:
     return f"'{tok}'"
 
 
-def _token_error(
-    where: Located, tok: Token, prev: Token | None, before: Token | None, expected: set[str]
-) -> InputError:
-    """A syntax error at ``tok`` with plain words and the best hint we can find.
-
-    ``prev`` is the token before ``tok`` and ``before`` the one before that.
-    """
+def _token_error(where: Located, tok: Token, prev: Token | None, expected: set[str]) -> InputError:
+    """A syntax error at ``tok`` (``prev`` came before it) with plain words and a hint."""
     ptype = prev.type if prev is not None else None
     if ptype == "NAME" and len(expected) > 1:
         expected = expected - {"LPAR"}  # a call is possible, but never what was meant
@@ -242,10 +237,8 @@ def _token_error(
         line, column, end = tok.line, tok.column, tok.end_column
     message = f"expected {words}, found {_describe_token(tok)}"
     hint: str | None = None
-    at_statement_start = prev is not None and (before is None or before.type == "_NL")
-    if tok.type == "NAME" and at_statement_start and ptype == "NAME":
-        guess = closest(str(prev), _STATEMENT_WORDS)
-        hint = f"did you mean '{guess}'?" if guess else _STATEMENT_HINT
+    if tok.type == "NAME" and (prev is None or ptype == "_NL"):
+        hint = _statement_start_hint(where, tok)
     elif ptype == "NUMBER" and tok.type in {"NAME", "LPAR"} and "MULOP" in expected:
         hint = f"write {prev}*{tok} for a product: multiplication is never implicit"
         message = f"a number directly followed by {_describe_token(tok)}; expected {words}"
@@ -262,33 +255,30 @@ def _token_error(
         hint = f"'{tok}' is a reserved word of the language and cannot be used as a name"
     elif tok.type == "EQUAL" and "REL" in expected:
         hint = "a set condition compares with <=, <, >= or >"
-    elif tok.type == "EQUAL" and ptype == "NAME" and at_statement_start:
-        hint = (
-            f"a state equation is written d{prev}/dt = ...; a constant is "
-            f"constant {prev} = ...; a shorthand is let {prev} = ..."
-        )
     elif tok.type in {"RPAR", "RSQB"} and tok.type not in expected:
         hint = f"this '{tok}' has no matching opening bracket"
     elif tok.type == "LSQB":
         hint = "group with parentheses ( ); brackets [ ] only write parameter ranges"
     elif tok.type == "MULOP" and ptype == "MULOP":
         hint = "write ^ (or **) for a power"
-    elif tok.type == "NAME" and (prev is None or ptype == "_NL"):
-        guess = closest(str(tok), _STATEMENT_WORDS)
-        rest = (where.line_text(tok.line) or "")[tok.end_column - 1 :].lstrip()
-        if rest.startswith("/") and str(tok).startswith("d"):
-            state = str(tok)[1:] or "x"
-            hint = f"write the time derivative of {state} as d{state}/dt = ..."
-        elif rest.startswith("=") and not rest.startswith("=="):
-            hint = (
-                f"a state equation is written d{tok}/dt = ...; a constant is "
-                f"constant {tok} = ...; a shorthand is let {tok} = ..."
-            )
-        else:
-            hint = f"did you mean '{guess}'?" if guess else _STATEMENT_HINT
     elif tok.type in {"_NL", "$END"}:
         hint = "the statement is incomplete"
     return make_error(where, message, line, column, end, hint=hint)
+
+
+def _statement_start_hint(where: Located, tok: Token) -> str:
+    """The hint for a name where a statement should start."""
+    guess = closest(str(tok), _STATEMENT_WORDS)
+    rest = (where.line_text(tok.line) or "")[tok.end_column - 1 :].lstrip()
+    if rest.startswith("/") and str(tok).startswith("d"):
+        state = str(tok)[1:] or "x"
+        return f"write the time derivative of {state} as d{state}/dt = ..."
+    if rest.startswith("=") and not rest.startswith("=="):
+        return (
+            f"a state equation is written d{tok}/dt = ...; a constant is "
+            f"constant {tok} = ...; a shorthand is let {tok} = ..."
+        )
+    return f"did you mean '{guess}'?" if guess else _STATEMENT_HINT
 
 
 def _syntax_error(where: Located, parser: Lark, tokens: list[Token], tok: Token) -> InputError:
@@ -298,14 +288,13 @@ def _syntax_error(where: Located, parser: Lark, tokens: list[Token], tok: Token)
         replay.feed_token(t)
     expected = set(replay.accepts())
     prev = tokens[-1] if tokens else None
-    before = tokens[-2] if len(tokens) > 1 else None
     if tok.type == "NAME" and (prev is None or prev.type == "_NL"):
         if str(tok) in _OLD_WORDS:
             return _old_keyword_error(where, tok)
         prime = _prime_error(where, tok.start_pos)
         if prime is not None:
             return prime
-    return _token_error(where, tok, prev, before, expected)
+    return _token_error(where, tok, prev, expected)
 
 
 def _old_keyword_error(where: Located, word: Token) -> InputError:
