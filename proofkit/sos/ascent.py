@@ -54,10 +54,10 @@ class AscentSettings:
     """Knobs of the search; the defaults are the measured ones (tests/perf/bench_basin.py)."""
 
     s0_degree: int = 4
-    backoff: float = 0.003
-    bisect_tol: float = 1e-3
+    backoff: float = 0.0005
+    bisect_tol: float = 3e-4
     max_iterations: int = 60
-    stall_iterations: int = 5
+    stall_iterations: int = 8
     stall_gain: float = 2e-4
     seconds_per_degree: float = 45.0
     eps: float = 1e-5
