@@ -291,7 +291,11 @@ def _function_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Bloc
     ):
         if key not in ev:
             continue
-        coords = "x" if cycle else "y = x - x^*"
+        coords = (
+            "the states"
+            if cycle
+            else "the deviation y = x - x* from the equilibrium (written with the state names)"
+        )
         out.append(
             para(t(f"The {what}, in {coords}: "), m(f"{key} = " + latex_poly(ev[key], states)))
         )
@@ -301,7 +305,8 @@ def _function_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Bloc
         if fld is None:
             continue
         lie = _lie(ev[key], fld, states)
-        body = f"\\dot {key} = \\nabla {key} \\cdot f = " + latex_poly(lie, states)
+        field = "f(x)" if cycle else "f(x^* + y)"
+        body = f"\\dot {key} = \\nabla {key} \\cdot {field} = " + latex_poly(lie, states)
         if len(lie) <= MAX_INLINE_TERMS:
             out.append(para(t("Its derivative along the model's field, expanded exactly:")))
             out.append(Block("math", body))

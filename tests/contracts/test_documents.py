@@ -135,3 +135,35 @@ def test_counterexample_is_rendered_with_start_point_and_trace() -> None:
     assert "| t | x | y |" in md and "| 2 | 9 | 60 |" in md  # the last sample is kept
     assert "numerical evidence, not a proof" in md
     assert "Conclusion: the claim is false" in md
+
+
+def test_sum_of_squares_lyapunov_proof_shows_function_derivative_and_obligations() -> None:
+    # computed by hand: for V = x^2 + y^2 and f = (-x + y, -x - y^3), dV/dt = -2 x^2 - 2 y^4;
+    # whatever V the search finds, its stated Lie derivative is recomputed here with sympy
+    import sympy as sp
+
+    text = "state x, y\ndx/dt = -x + y\ndy/dt = -x - y^3\nequilibrium o at x = 0, y = 0\n"
+    run = prove_model(proofkit.parse(text + "claim o globally stable\n", "g.pk"))
+    assert [o.status for o in run.outcomes] == ["proved"]
+    md = render_markdown(run.certificate, run.audit, _meta())
+    ev = run.certificate["claims"][0]["evidence"]
+    x, y = sp.symbols("x y")
+
+    def poly(terms):
+        return sum(sp.Rational(str(c)) * x ** e[0] * y ** e[1] for e, c in terms)
+
+    v = poly(ev["V"])
+    lie = sp.expand(sp.diff(v, x) * (-x + y) + sp.diff(v, y) * (-x - y**3))
+    assert "The Lyapunov function" in md and "Its derivative along the model's field" in md
+    lie_line = next(line for line in md.splitlines() if line.startswith("\\dot V"))
+    terms = sp.Poly(lie, x, y).terms()
+    assert lie_line.count(" x") + lie_line.count(" y") >= len(terms)
+    for _monomial, c in terms:  # every coefficient of sympy's derivative is shown
+        c = abs(c)
+        shown = str(c) if c.q == 1 else f"\\frac{{{c.p}}}{{{c.q}}}"
+        assert shown in lie_line, (shown, lie_line)
+    for name in ("positive", "decrease"):
+        assert f"Obligation {name}" in md
+    assert "V - \\varepsilon |y|^2 = z^T G_{\\mathit{positive}} z" in md
+    assert "Its exact LDL' factorisation gives the squares" in md
+    assert "[x] V is radially unbounded" in md or "radially unbounded" in md
