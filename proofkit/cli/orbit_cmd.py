@@ -78,6 +78,16 @@ def run(args: argparse.Namespace) -> int:
     except ModelError as err:
         raise InputError(f"{args.file}: {err}") from None
     written = _draw(search, model, Path(args.out)) if args.out else []
+    try:
+        _print(args, search, written)
+    except BrokenPipeError:  # the reader went away (e.g. | head): nothing left to say
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+    return 0
+
+
+def _print(args: argparse.Namespace, search: Any, written: list[Path]) -> None:
     if args.json:
         data = {"file": args.file, **search.as_json()}
         if written:
@@ -87,7 +97,6 @@ def run(args: argparse.Namespace) -> int:
         print(_text(search, args.file))
         for p in written:
             print(f"wrote {p}")
-    return 0
 
 
 def _fmt(m: Any) -> str:

@@ -190,8 +190,11 @@ class AnnulusData:
     eps: Fraction
 
 
-def annulus_program(pl: Planar, a: AnnulusData) -> Found:
-    """Every obligation of ``poincare-bendixson`` with ``W`` fixed; multipliers searched."""
+def annulus_program(pl: Planar, a: AnnulusData, extra: int = 0) -> Found:
+    """Every obligation of ``poincare-bendixson`` with ``W`` fixed; multipliers searched.
+
+    ``extra`` (even) raises the degree of the boundary obligations and their ``p_o``, ``p_i``.
+    """
     prog = SearchProgram(pl.xs)
     x, y = pl.xs
     q = lambda v: sp.Rational(v.numerator, v.denominator)  # noqa: E731
@@ -199,7 +202,7 @@ def annulus_program(pl: Planar, a: AnnulusData) -> Found:
     w = sp.expand(a.w)
     dw = pl.degree(w)
     lie = sp.expand(sp.diff(w, x) * pl.f[0] + sp.diff(w, y) * pl.f[1])
-    dlie = _even(max(pl.degree(lie), dw))
+    dlie = _even(max(pl.degree(lie), dw)) + extra
     p_o = prog.free("p_o", full_basis(2, dlie - dw))
     p_i = prog.free("p_i", full_basis(2, dlie - dw))
     offset = prog.scalar("offset")
@@ -212,7 +215,7 @@ def annulus_program(pl: Planar, a: AnnulusData) -> Found:
     names = ["a1", "a2"]
     for label, conds, letter in (("within", pl.conditions, "b"), ("domain", pl.domain, "c")):
         for i, (g, strict) in enumerate(conds):
-            deg = _even(max(pl.degree(g), dw))
+            deg = _even(max(pl.degree(g), dw)) + 2
             m1 = _sos(prog, f"{letter}{i + 1}_1", deg - dw)
             m2 = _sos(prog, f"{letter}{i + 1}_2", deg - dw)
             base = prog.poly(g - eps if strict else g)

@@ -87,8 +87,10 @@ def test_van_der_pol_true_and_false_claims(vdp) -> None:
 
 
 @pytest.mark.slow
-def test_van_der_pol_annulus_proof() -> None:
-    model = parse_model(VDP.split("claim")[0] + "claim cycle in x^2 + y^2 <= 16\n", "vdp.pk")
+@pytest.mark.parametrize(("mu", "disc"), [("1", "16"), ("2", "25")])
+def test_van_der_pol_annulus_proof(mu: str, disc: str) -> None:
+    head = VDP.split("claim")[0].replace("(1 - x^2)*y", f"{mu}*(1 - x^2)*y")
+    model = parse_model(head + f"claim cycle in x^2 + y^2 <= {disc}\n", "vdp.pk")
     run = prove_model(model)
     assert run.outcomes[0].status == "proved" and run.outcomes[0].method == "annulus"
     assert run.audit.claims[0].status == "proved"
