@@ -174,3 +174,12 @@ def test_audit_json_core_only_says_what_was_not_checked(proved, tmp_path) -> Non
     assert data["not_checked"], "core-only output must say what it did not check"
     r = pk("audit", str(_tampered(proved, tmp_path)), "--json", "--core-only", cwd=tmp_path)
     assert r.returncode == 1 and json.loads(r.stdout)["core"]["accepted"] is False
+
+
+def test_prove_help_has_an_example_and_the_exit_codes(capsys) -> None:
+    with pytest.raises(SystemExit) as info:
+        main(["prove", "--help"])
+    assert info.value.code == 0
+    out = capsys.readouterr().out
+    assert "example:" in out and "proofkit prove" in out and "--quiet" in out
+    assert "0 all claims proved" in out and "3 internal error" in out
