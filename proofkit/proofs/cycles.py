@@ -230,7 +230,10 @@ def _cycle(model: Model, claim: Claim, pl: Planar, say: Progress) -> ProofAttemp
                 )
                 return ProofAttempt(entry, detail, trace={"cycle": cyc})
             notes.append(result)
-    reason = "no annulus certified: " + "; ".join(notes[-3:])
+    reason = (
+        "no annulus certified (the annulus around the cycle must lie in the set; a set with "
+        "more room around the cycle may help): " + "; ".join(notes[-3:])
+    )
     return ProofAttempt(not_proved_entry(model, claim, reason), reason)
 
 
