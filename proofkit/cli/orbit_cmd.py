@@ -2,7 +2,10 @@
 
 Reports each orbit's period, each state's amplitude (largest absolute value
 on the orbit), the Floquet multipliers of the monodromy matrix and the
-orbital-stability verdict; ``--json`` prints ``{"cycles": [...]}``;
+orbital-stability verdict; ``--json`` prints ``{"cycles": [...]}`` (each cycle:
+``period``, ``amplitude`` and ``point`` per state, ``multipliers`` with the
+trivial one first and a complex one as ``[re, im]``, ``stable``, ``hyperbolic``,
+``residual``), with ``search``, ``notes`` and ``numerical`` beside it;
 ``--out DIR`` draws the orbits on the phase portrait (``orbits.png``) and the
 time series of one period (``period.png``) with matplotlib's Agg backend,
 imported only there. Every number is a floating-point finding, never a proof:
