@@ -198,6 +198,20 @@ def _field_section(model: Model) -> tuple[dict[str, Any] | None, str | None, lis
     return field, None, conditions
 
 
+def _expressions(model: Model) -> dict[str, Any] | None:
+    """A non-rational field as expression trees (``model.expressions``), or None."""
+    from proofkit.analysis.enclosure import NotExpressible, expression_json
+
+    fixed = _fixed_values(model)
+    uncertain = [p.symbol for p in model.params if p.is_uncertain]
+    xs = [*model.state_symbols, *uncertain]
+    try:
+        components = [expression_json(rhs.subs(fixed), xs) for rhs in model.field]
+    except NotExpressible:
+        return None
+    return {"variables": [*model.states, *(str(p) for p in uncertain)], "components": components}
+
+
 def model_section(model: Model) -> dict[str, Any]:
     """The ``model`` object of format 2 (see DEVELOPERS.md)."""
     section: dict[str, Any] = {
@@ -219,6 +233,9 @@ def model_section(model: Model) -> dict[str, Any]:
     section["field"] = field
     if note is not None:
         section["field_note"] = note
+        expressions = _expressions(model)
+        if expressions is not None:
+            section["expressions"] = expressions
     section["domain"] = None
     if model.domain is not None:
         try:

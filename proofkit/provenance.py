@@ -37,6 +37,7 @@ COMPARED = (
     ("states", "states and their order"),
     ("parameters", "parameter nominal values and ranges"),
     ("field", "vector field (fixed parameters substituted)"),
+    ("expressions", "vector field's expression trees (non-rational fields)"),
     ("domain", "domain"),
     ("conditions", "conditions where the field is defined"),
     ("equilibria", "declared equilibria and their points"),

@@ -64,7 +64,7 @@ __all__ = [
 FORMAT_VERSION = 2
 TIME_LIMIT = 8.0  # seconds of checking per certificate; later claims are rejected, never accepted
 # Schema modules of this package; a module not present yet is skipped.
-SCHEMA_MODULES = ("linear", "lyapunov", "polynomial", "ranges", "cycles")
+SCHEMA_MODULES = ("linear", "lyapunov", "polynomial", "ranges", "cycles", "enclosures")
 for _name in SCHEMA_MODULES:
     try:
         importlib.import_module(f"proofkit.audit.{_name}")
@@ -85,6 +85,7 @@ MODEL_KEYS = {
     "parameters",
     "field",
     "field_note",
+    "expressions",
     "domain",
     "domain_note",
     "conditions",
@@ -126,6 +127,7 @@ class ClaimVerdict:
     checked: tuple[str, ...] = ()  # each verified hypothesis, in words
     failed_step: str | None = None
     message: str | None = None
+    hint: str | None = None  # e.g. an attached simulation, which the audit does not check
 
 
 @dataclass(frozen=True)
@@ -221,9 +223,15 @@ def _model(model: dict[str, Any]) -> ModelData:
     for key in ("source", "source_sha256"):
         get(model, key, str, "model")
     declared = _equilibria(get(model, "equilibria", list, "model"), len(states))
+    expressions = None
+    if model.get("expressions") is not None:  # a non-rational field as expression trees
+        from proofkit.audit.enclosures import read_expressions
+
+        uncertain = [p.name for p in params if p.range is not None]
+        expressions = read_expressions(model["expressions"], states, uncertain)
     return ModelData(
         tuple(states), params, variables, numerators, denominators, tuple(conditions), dom,
-        declared,
+        declared, expressions,
     )  # fmt: skip
 
 
@@ -307,6 +315,10 @@ def _check_claim(entry: dict[str, Any], model: ModelData, where: str) -> ClaimVe
     claim = _structure(entry, model, where)
     text = sentence(model, claim)
     base = {"statement": statement, "sentence": text, "kind": claim.kind, "scope": claim.scope}
+    if entry.get("counterexample") is not None:
+        base["hint"] = (
+            "a counterexample found by simulation is attached; the audit did not check it"
+        )
     if status == "not proved":
         reason = get(entry, "reason", str, where)
         for key in ("evidence", "method", "theorem"):

@@ -106,6 +106,7 @@ class ModelData:
     conditions: tuple[Condition, ...]  # over the field's variables
     domain: tuple[Condition, ...] | None  # over the states
     equilibria: dict[str, tuple[Num, ...] | None] = field(default_factory=dict)  # declared
+    expressions: tuple[Any, ...] | None = None  # a non-rational field as expression trees
 
     @property
     def uncertain(self) -> tuple[Parameter, ...]:

@@ -127,7 +127,11 @@ def attempt(
     exact evidence for the opposite statement; a range-scope claim can only be
     refuted this way (nominal evidence cannot prove it).
     """
-    if claim.kind not in THEOREM or not model.is_polynomial():
+    if claim.kind in THEOREM and not model.is_polynomial():  # rational or elementary functions
+        from proofkit.proofs._nonpoly_linearization import attempt as nonpolynomial
+
+        return nonpolynomial(model, claim, progress)
+    if claim.kind not in THEOREM:
         return None
     d = claim_number_field(model, claim)
     if d is not None and (claim_structure(model, claim)["equilibrium"] or {}).get("point") is None:

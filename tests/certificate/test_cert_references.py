@@ -138,15 +138,17 @@ def test_centre_type_linearization_is_not_proved() -> None:
     assert claims[0]["status"] == "not proved" or claims[0]["method"] != "linearization"
 
 
-def test_non_polynomial_model_claims_are_not_proved() -> None:
-    # certificates cover polynomial vector fields only (documented limitation)
+def test_non_polynomial_model_linearization_by_enclosure() -> None:
+    # a non-rational field has no polynomial form: it is carried as expression trees and
+    # its linearization is proved from interval enclosures the audit recomputes
     run = prove_text(
         "state x, y\ndx/dt = y\ndy/dt = -sin(x) - y\n"
         "equilibrium o at x = 0, y = 0\nclaim o stable\n"
     )
-    assert run.outcomes[0].status == "not proved"
-    assert "polynomial" in run.outcomes[0].detail
+    assert run.outcomes[0].status == "proved"
+    assert run.outcomes[0].method == "linearization-enclosure"
     assert run.certificate["model"]["field"] is None
+    assert run.certificate["model"]["expressions"]["components"][0] == ["var", 1]
     assert full_audit_ok(run.text)
 
 
