@@ -28,19 +28,21 @@ from proofkit.audit.algebra import (
     poly_add,
     poly_constant,
     poly_derivative,
+    poly_eval,
     poly_mul,
     poly_pow,
     poly_scale,
     poly_substitute,
 )
 from proofkit.audit.numbers import Num
-from proofkit.audit.read import Condition, only_keys
+from proofkit.audit.read import Condition, get, only_keys, read_vector
 from proofkit.audit.schemas import (
     Checks,
     ClaimData,
     ModelData,
     check_squares,
     equilibrium_point,
+    nominal_field,
     read_function,
     read_multipliers,
     read_numbers,
@@ -50,7 +52,13 @@ from proofkit.audit.schemas import (
     sum_of_squares_norm,
 )
 
-__all__ = ["lie_derivative", "lyapunov_global", "lyapunov_local", "region_of_attraction"]
+__all__ = [
+    "another_equilibrium",
+    "lie_derivative",
+    "lyapunov_global",
+    "lyapunov_local",
+    "region_of_attraction",
+]
 
 EVIDENCE_KEYS = {"V", "numbers", "multipliers", "squares", "margin_power"}
 MAX_MARGIN_POWER = 4
@@ -191,3 +199,37 @@ def region_of_attraction(model: ModelData, claim: ClaimData, checks: Checks) -> 
         )
     check_squares(s.targets, claim.evidence, s.n, checks, s.w)
     checks.ok("every multiplier is a sum of squares; {V <= level} is compact (V >= eps|y|^2)")
+
+
+def _holds(conditions: tuple[Condition, ...], point: list[Num]) -> bool:
+    signs = [(poly_eval(g, point).sign(), strict) for g, strict in conditions]
+    return all(s > 0 or (s == 0 and not strict) for s, strict in signs)
+
+
+@schema(
+    "attracts", "equilibrium-in-set", "another-equilibrium-in-the-set",
+    scopes=("nominal", "range"), refutes=True,
+)  # fmt: skip
+@schema(
+    "globally stable", "equilibrium-in-set", "another-equilibrium-in-the-set",
+    scopes=("nominal", "range"), refutes=True,
+)  # fmt: skip
+def another_equilibrium(model: ModelData, claim: ClaimData, checks: Checks) -> None:
+    """A second equilibrium in the set (and the domain) never moves, so it never converges.
+
+    Evidence ``{"point": [NUMBER...]}``: an exact zero of the field at the nominal
+    values (which lie in every range), different from the claim's point, where
+    every condition of the claim's set and of the domain holds.
+    """
+    ev, w = claim.evidence, f"{claim.where}.evidence"
+    only_keys(ev, {"point"}, w)
+    own = equilibrium_point(model, claim, rational=False)
+    other = read_vector(get(ev, "point", list, w), claim.d, f"{w}.point", len(model.states))
+    require(other != own, "point", "the point is the claim's own equilibrium")
+    for i, fi in enumerate(nominal_field(model)):
+        value = poly_eval({e: Num(c.a, c.b, claim.d) for e, c in fi.items()}, other)
+        require(value.is_zero(), "point", f"f{i + 1} = {value} there, not 0: not an equilibrium")
+    checks.ok("the point is an exact zero of the field, other than the claim's equilibrium")
+    require(_holds(claim.set or (), other), "set", "the point is not in the claim's set")
+    require(_holds(model.domain or (), other), "domain", "the point is not in the domain")
+    checks.ok("it lies in the claim's set and the domain (exact signs): it stays there forever")

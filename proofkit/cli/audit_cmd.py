@@ -152,6 +152,7 @@ def _as_json(args: Any, report: Any, prov: Any, model_ok: Any, ok: bool, sha: st
                     "failed_step": c.failed_step,
                     "message": c.message,
                     "checked": list(c.checked),
+                    "hint": c.hint,
                 }
                 for c in report.claims
             ],
@@ -181,9 +182,10 @@ def _print(args: Any, report: Any, prov: Any, model_ok: Any, ok: bool, sha: str)
         elif c.status == "not proved":
             say(f"  not proved (nothing to check)  {c.sentence}: {escape(c.message)}")
         else:
-            say(
-                f"  {WORDS[c.status]}  {c.sentence}  [{escape(c.theorem)}; {len(c.checked)} checks]"
-            )
+            checks = f"[{escape(c.theorem)}; {len(c.checked)} checks]"
+            say(f"  {WORDS[c.status]}  {c.sentence}  {checks}")
+        if c.hint:
+            say(f"            note: {escape(c.hint)}")
     if prov is None:
         say("stage 2: provenance skipped (--core-only)")
         say(f"  {NOT_CHECKED_WITHOUT_PROVENANCE}")

@@ -254,3 +254,21 @@ def test_nominal_evidence_proves_only_the_nominal_scope() -> None:
     assert report.claims[1].status == "proved"
     assert report.claims[0].sentence.endswith("for every value of k in [1/2, 2]")
     assert report.claims[1].sentence.endswith("at the nominal parameter values (k = 1)")
+
+
+def test_another_equilibrium_in_the_set_refutes_attraction() -> None:
+    # dx/dt = -x + x^3 (computed above): x = 1 is an equilibrium, so it never reaches 0;
+    # the claim "o attracts x^2 <= 2" is false, shown exactly by that point.
+    text = BISTABLE.replace("x^2 <= 1/4", "x^2 <= 2").replace("9/16", "4")
+    ev = {"point": ["1"]}
+    cert = build(text, [("equilibrium-in-set", "another-equilibrium-in-the-set", ev)])
+    cert["claims"][0]["status"] = "refuted"
+    report = audit_certificate(cert)
+    assert report.claims[0].status == "refuted", report.claims[0].message
+    assert full_ok(cert)
+    for bad in (["0"], ["2"], ["1/2"]):  # its own point; not in the set; not an equilibrium
+        cert["claims"][0]["evidence"] = {"point": bad}
+        assert audit_certificate(cert).claims[0].status == "rejected", bad
+    small = build(BISTABLE, [("equilibrium-in-set", "another-equilibrium-in-the-set", ev)])
+    small["claims"][0]["status"] = "refuted"  # x = 1 is outside x^2 <= 1/4
+    assert audit_certificate(small).claims[0].failed_step == "set"
