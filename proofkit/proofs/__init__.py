@@ -94,6 +94,18 @@ def _accepted(section: dict[str, Any], entry: dict[str, Any]) -> tuple[bool, str
     return verdict.status in ("proved", "refuted"), verdict.message or ""
 
 
+def _refused(model: Model, claim: Claim, result: ProofAttempt, why: str) -> ProofAttempt:
+    """A "not proved" entry for evidence the audit refused; a simulation stays attached."""
+    cx = result.entry.get("counterexample")
+    if cx is None:
+        reason = f"the audit refused the evidence: {why}"
+        return ProofAttempt(not_proved_entry(model, claim, reason), reason)
+    reason = f"{result.detail} (found by simulation: not exact evidence, so not marked refuted)"
+    entry = not_proved_entry(model, claim, reason)
+    entry["counterexample"] = cx
+    return ProofAttempt(entry, reason, result.trace)
+
+
 def _attempt_claim(
     model: Model, claim: Claim, section: dict[str, Any], say: Callable[[str], None]
 ) -> ProofAttempt:
@@ -109,8 +121,7 @@ def _attempt_claim(
         ok, why = _accepted(section, result.entry)
         if ok:
             return result
-        reason = f"the audit refused the evidence: {why}"
-        fallback = fallback or ProofAttempt(not_proved_entry(model, claim, reason), reason)
+        fallback = fallback or _refused(model, claim, result, why)
     if fallback is not None:
         return fallback
     if claim.kind in ("stable", "unstable") and not model.is_polynomial():
