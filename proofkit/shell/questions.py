@@ -103,7 +103,9 @@ def _try(s: Session, args: str) -> None:
         if err.span is not None and err.span.line == trial.line_of(key):
             raise _relocated(err, text) from None
         raise
-    _outcomes(s, prove(model, progress=s.progress))
+    result = prove(model, progress=s.progress)
+    s.remember("certificate", result.certificate)
+    _outcomes(s, result)
 
 
 @command("prove", "prove", "prove every claim of the model (audited)")
@@ -111,6 +113,7 @@ def _prove(s: Session, args: str) -> None:
     from proofkit.api import prove
 
     result = prove(s.need_model(), progress=s.progress)
+    s.remember("certificate", result.certificate)
     _outcomes(s, result)
     proved = sum(o.status == "proved" for o in result.outcomes)
     s.say(f"{proved} of {len(result.outcomes)} claim(s) proved; certificate audited exactly")
@@ -134,6 +137,8 @@ def _basin(s: Session, args: str) -> None:
         raise InputError(f"no declared equilibrium '{words[0]}'", hint=f"declared: {known}")
     result = basin(model, words[0], degree=degree, progress=s.progress)
     s.attach(basin=result.to_json())
+    if result.certified:
+        s.remember("certificate", result.result.certificate)
     head, extra = result._summary()
     s.say(head + ("" if result.certified else f": {extra}"))
     if result.certified:
@@ -147,6 +152,7 @@ def _cycles(s: Session, args: str) -> None:
 
     result = orbit(s.need_model(), progress=s.progress)
     s.attach(**result.to_json())
+    s.remember("cycles", result.cycles)
     if not result.cycles:
         s.say("no periodic orbit located (numerical search; not a proof)")
     for row in result._rows():
@@ -162,6 +168,7 @@ def _write(s: Session, args: str) -> None:
     if not args:
         raise InputError("write needs a directory", hint="write out/")
     result = prove(s.need_model(), progress=s.progress)
+    s.remember("certificate", result.certificate)
     _outcomes(s, result)
     written = result.write(args)
     s.attach(written=[str(p) for p in written])
@@ -169,16 +176,28 @@ def _write(s: Session, args: str) -> None:
         s.say(f"wrote {path}")
 
 
-@command("portrait", "portrait [FILE]", "draw the phase portrait (png, svg or pdf)")
+@command("portrait", "portrait [FILE]", "draw the phase portrait, with what was found so far")
 def _portrait(s: Session, args: str) -> None:
-    from proofkit.api import portrait
+    from dataclasses import replace
+
+    from proofkit.report._portrait_data import certificate_data
+    from proofkit.results import Portrait, _audited, _portrait_data
 
     model = s.need_model()
     out = Path(args or f"{model.name or 'portrait'}.png")
     if out.suffix.lstrip(".").lower() not in ("png", "svg", "pdf"):
         raise InputError(f"{out}: unknown picture format", hint="name it FILE.png, .svg or .pdf")
     s.progress("drawing the phase portrait")
-    result = portrait(model, out)
+    cycles = [c for found in s.recall("cycles") for c in found]
+    data = _portrait_data(model, None, cycles=cycles)
+    regions = list(data.regions)
+    for cert in s.recall("certificate"):  # only claims the audit accepts are drawn
+        drawn = certificate_data(_audited(cert, model)) if len(model.states) == 2 else None
+        regions += [r for r in (drawn.regions if drawn else ()) if r not in regions]
+    result = Portrait(model, replace(data, regions=tuple(regions)), out)
+    result.save(out)
     s.attach(portrait=result.to_json())
     marks = ", ".join(f"{p.name or '-'} ({p.verdict})" for p in result.data.points)
     s.say(f"wrote {out}: {marks}")
+    for label in [r.label for r in regions] + ["located periodic orbit"] * len(cycles):
+        s.say(f"  drawn: {label}")

@@ -53,6 +53,7 @@ class Session:
         self.done = False
         self.interactive = False  # set by the terminal loop
         self.prefill = ""  # text to put on the next prompt (the edit command)
+        self._found: tuple[Any, dict[str, list[Any]]] = (None, {})  # findings of one model
 
     # --- output -------------------------------------------------------------
     def say(self, text: str = "") -> None:
@@ -90,6 +91,16 @@ class Session:
             self.say(note)
         if self.problem is not None and len(statements):
             self.say("the model is not complete yet: " + _first_line(self.problem))
+
+    def remember(self, kind: str, value: Any) -> None:
+        """Keep a finding (a certificate, located cycles) for the current model only."""
+        if self._found[0] is not self.model:
+            self._found = (self.model, {})
+        self._found[1].setdefault(kind, []).append(value)
+
+    def recall(self, kind: str) -> list[Any]:
+        """The findings of ``kind`` about the current model (none after any change)."""
+        return list(self._found[1].get(kind, [])) if self._found[0] is self.model else []
 
     def need_model(self) -> Model:
         if self.model is None:

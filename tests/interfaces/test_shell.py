@@ -251,3 +251,17 @@ def test_completion_offers_statements_commands_and_names() -> None:
     assert candidates(s, "linearize ") == sorted(
         ["claim", "domain", "dx/dt", "dy/dt", "origin", "right", "x", "y"]
     )
+
+
+def test_portrait_draws_what_was_found_for_this_model_only(tmp_path: Path) -> None:
+    from .models import VAN_DER_POL
+
+    first, second = tmp_path / "a.png", tmp_path / "b.png"
+    _, out, _ = _shell(
+        VAN_DER_POL + f"cycles\nportrait {first}\ndx/dt = y + 0\nportrait {second}\n"
+    )
+    # published (Hairer & Wanner): the van der Pol cycle for mu = 1 has period 6.6633
+    assert "cycle 1: period 6.6633" in out
+    before, after = out.split(f"wrote {second}")
+    assert "drawn: located periodic orbit" in before and "drawn:" not in after
+    assert first.stat().st_size > 10_000 and second.stat().st_size > 10_000
