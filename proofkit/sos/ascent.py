@@ -64,6 +64,7 @@ class AscentSettings:
     directions: int = 256
     solver: str = "CLARABEL"
     s0_relative: int | None = None  # s0 of degree at least deg V + this, when set
+    max_gram: int = 40  # s0's degree is lowered (not below 2) while the decrease Gram exceeds this
     ring_margin: float = 0.5  # shape step keeps this share of the level probe's margin
     steps: tuple[float, ...] = (1.0, 0.5, 0.25, 0.125)  # line search on the shape step
 
@@ -124,6 +125,11 @@ def ray_radii(v: NumPoly, level: float, dirs: np.ndarray, r_max: float) -> np.nd
     return hi
 
 
+def _basis_size(n: int, top: int) -> int:
+    """Monomials of degree 1..top/2 in n variables."""
+    return math.comb(n + top // 2, n) - 1
+
+
 def _ball_volume(n: int) -> float:
     return math.pi ** (n / 2) / math.gamma(n / 2 + 1)
 
@@ -154,8 +160,12 @@ class BasinSearch:
         ds0 = max(self.cfg.s0_degree, 2 * math.ceil((self.field_degree - 1) / 2))
         if self.cfg.s0_relative is not None:
             ds0 = max(ds0, degree + self.cfg.s0_relative)
-        top = max(degree + self.field_degree - 1, degree + ds0)
-        top += top % 2
+        need = 2 * math.ceil((self.field_degree - 1) / 2)  # s0 V must reach the top of lie(V)
+        while (
+            ds0 > max(need, 2) and _basis_size(self.n, self._top(degree, ds0)) > self.cfg.max_gram
+        ):
+            ds0 -= 2  # a smaller multiplier keeps large state spaces affordable
+        top = self._top(degree, ds0)
         index = MonoIndex(self.n, top)
         return {
             "index": index,
@@ -164,6 +174,10 @@ class BasinSearch:
             "dec_basis": monomials(self.n, top // 2, 1),
             "pos_basis": monomials(self.n, degree // 2, 1),
         }
+
+    def _top(self, degree: int, ds0: int) -> int:
+        top = max(degree + self.field_degree - 1, degree + ds0)
+        return top + top % 2
 
     def _solve(self, prob: cp.Problem) -> bool:
         t0 = time.perf_counter()

@@ -130,7 +130,7 @@ def main() -> int:
         print(f"degree {r['degree']}: {r['ratio']:.2%} (target {goal:.1%}: {met})")
     if not args.skip_four:
         t0 = time.perf_counter()
-        four = run(FOUR_STATE, [2, 4], 50.0, None)
+        four = run(FOUR_STATE, [2, 4], 30.0, None)
         total = time.perf_counter() - t0
         print(f"4-state degree-4 basin: {total:.1f} s in all (target 120 s)")
         del four
