@@ -338,8 +338,13 @@ def certify(
     return BasinCertificate(it.degree, v, level, ev, it.volume, list(it.history))
 
 
-def run_search(setup: BasinSetup, degrees: Sequence[int], say: Say, budget: float):
-    """Yield ``(search, iterate)`` after each degree (numerical; warm-started)."""
+def run_search(
+    setup: BasinSetup, degrees: Sequence[int], say: Say, budget: float, first: bool = False
+):
+    """Yield ``(search, iterate)`` after each degree (numerical; warm-started).
+
+    ``first``: also yield the quadratic ``V`` of the Lyapunov equation at its best level.
+    """
     from proofkit.sos.ascent import AscentSettings, BasinSearch
 
     d2 = np.array([float(s) ** 2 for s in setup.setting.scale])
@@ -352,6 +357,8 @@ def run_search(setup: BasinSetup, degrees: Sequence[int], say: Say, budget: floa
     if it is None:
         return
     say(f"degree 2 from the Lyapunov equation: level {it.level:.6g}")
+    if first:
+        yield search, it
     for d in degrees:
         it = search.improve(it, d)
         yield search, it
@@ -378,7 +385,7 @@ def attempt(model: Model, claim: Claim, progress: Say | None = None) -> ProofAtt
         return refuted
     t0 = time.perf_counter()
     why = "no sublevel set was found"
-    for search, it in run_search(setup, DEGREES, say, CLAIM_BUDGET / len(DEGREES)):
+    for search, it in run_search(setup, DEGREES, say, CLAIM_BUDGET / len(DEGREES), first=True):
         cert = certify(setup, search, it)
         if isinstance(cert, BasinCertificate):
             refute(model, claim, setup, must_fail=True, seed=12)
