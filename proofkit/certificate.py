@@ -189,13 +189,33 @@ def _field_section(model: Model) -> tuple[dict[str, Any] | None, str | None, lis
         "numerators": nums,
         "denominators": None if polynomial else dens,
     }
-    conditions = []
-    if not polynomial:  # where the field is defined: every denominator nonzero (d^2 > 0)
-        for rhs in model.field:
-            den = _num_den(rhs.subs(fixed), xs)[1]
-            if den != 1:
-                conditions.append({"g": poly_json(sp.expand(den**2), xs), "strict": True})
+    try:
+        conditions = _conditions(model, xs, fixed, [] if polynomial else dens)
+    except (NotRepresentable, sp.PolynomialError) as exc:
+        return None, f"where the field is defined is not polynomial: {exc}", []
     return field, None, conditions
+
+
+def _conditions(
+    model: Model, xs: Sequence[sp.Symbol], fixed: dict[sp.Symbol, sp.Expr], dens: list[Any]
+) -> list[dict[str, Any]]:
+    """Where the field is defined (``Model.definedness``, and every denominator nonzero)."""
+    out: list[dict[str, Any]] = []
+    for d in getattr(model, "definedness", ()):
+        e = sp.expand(d.expr.subs(fixed))
+        if not e.free_symbols:
+            continue  # a constant condition: the language has decided it already
+        g = sp.expand(e**2) if d.relation == "!=" else e
+        out.append({"g": poly_json(g, xs), "strict": d.relation != ">="})
+    for rhs in model.field if dens else ():
+        den = _num_den(rhs.subs(fixed), xs)[1]
+        if den != 1:
+            out.append({"g": poly_json(sp.expand(den**2), xs), "strict": True})
+    unique: list[dict[str, Any]] = []
+    for c in out:
+        if c not in unique:
+            unique.append(c)
+    return unique
 
 
 def _expressions(model: Model) -> dict[str, Any] | None:

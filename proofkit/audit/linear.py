@@ -51,9 +51,11 @@ def _routh(claim: ClaimData, model: ModelData, checks: Checks) -> tuple[Matrix, 
     ev, w, d = claim.evidence, f"{claim.where}.evidence", claim.d
     only_keys(ev, EVIDENCE_KEYS, w)
     n = len(model.states)
-    point = equilibrium_point(model, claim, rational=False)
+    point = equilibrium_point(model, claim, rational=False, local=True)
     checks.ok("the point is an exact zero of every component of the vector field")
-    field = [{e: Num(c.a, c.b, d) for e, c in fi.items()} for fi in nominal_field(model)]
+    if model.conditions:
+        checks.ok("every condition where the field is defined holds strictly at the point")
+    field = [{e: Num(c.a, c.b, d) for e, c in fi.items()} for fi in nominal_field(model, point)]
     jac_stated = read_matrix(get(ev, "jacobian", list, w), d, f"{w}.jacobian", n)
     jac = [[poly_eval(poly_derivative(fi, j), point) for j in range(n)] for fi in field]
     require(jac == jac_stated, "jacobian", "the stated Jacobian differs from df/dx at the point")

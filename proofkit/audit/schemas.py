@@ -167,15 +167,21 @@ def schema(
 
 
 # --- the field ----------------------------------------------------------------------
-def nominal_field(model: ModelData) -> list[Poly]:
+def nominal_field(model: ModelData, near: list[Num] | None = None) -> list[Poly]:
     """The polynomial field over the states, uncertain parameters at their nominal values.
 
-    Rejects a rational field or one with conditions where it is defined: the
-    schemas that use this need a polynomial field defined everywhere.
+    Rejects a rational field, and a field with conditions where it is defined
+    unless ``near`` is given and every condition holds strictly there (then, by
+    continuity, in a neighbourhood of ``near``: enough for local theorems).
     """
     require(model.numerators is not None, "field", "the certificate states no vector field")
     require(model.denominators is None, "field", "the field has denominators; not supported here")
-    require(not model.conditions, "field", "the field is defined only under conditions")
+    if model.conditions:
+        require(near is not None, "field", "the field is defined only under conditions")
+        at = [*(near or []), *(Num.of(p.nominal or 0) for p in model.uncertain)]
+        for g, _strict in model.conditions:
+            value = poly_eval({e: Num(c.a, c.b, at[0].d if at else 0) for e, c in g.items()}, at)
+            require(value.sign() > 0, "field", "a condition where the field is defined fails here")
     n = len(model.states)
     values = [{tuple(int(i == j) for j in range(n)): Num.of(1)} for i in range(n)]
     unknown = [p.name for p in model.uncertain if p.nominal is None]
@@ -184,13 +190,19 @@ def nominal_field(model: ModelData) -> list[Poly]:
     return [poly_substitute(f, values, n) for f in model.numerators or ()]
 
 
-def equilibrium_point(model: ModelData, claim: ClaimData, *, rational: bool) -> list[Num]:
-    """The claim's fixed point, checked to be an exact zero of the nominal field."""
+def equilibrium_point(
+    model: ModelData, claim: ClaimData, *, rational: bool, local: bool = False
+) -> list[Num]:
+    """The claim's fixed point, checked to be an exact zero of the nominal field.
+
+    ``local``: conditions where the field is defined may exist if they hold strictly there.
+    """
     require(claim.point is not None, "equilibrium", "the claim names no fixed equilibrium point")
     point = list(claim.point or ())
     if rational:
         require(claim.d == 0, "equilibrium", "this theorem needs a rational equilibrium point")
-    for i, fi in enumerate(nominal_field(model)):
+    lifted = [Num(c.a, c.b, claim.d) for c in point]
+    for i, fi in enumerate(nominal_field(model, lifted if local else None)):
         lifted = {e: Num(c.a, c.b, claim.d) for e, c in fi.items()}
         r = poly_eval(lifted, point)
         require(r.is_zero(), "equilibrium", f"f{i + 1} = {r} at the point, not 0")

@@ -272,3 +272,29 @@ def test_another_equilibrium_in_the_set_refutes_attraction() -> None:
     small = build(BISTABLE, [("equilibrium-in-set", "another-equilibrium-in-the-set", ev)])
     small["claims"][0]["status"] = "refuted"  # x = 1 is outside x^2 <= 1/4
     assert audit_certificate(small).claims[0].failed_step == "set"
+
+
+def test_conditions_where_the_field_is_defined() -> None:
+    # -x + 0/(x - 3): the field is -x where x != 3 (kept as (x - 3)^2 > 0, computed).
+    import json
+
+    import proofkit
+    from proofkit.proofs import prove_model
+
+    text = "state x\ndx/dt = -x + 0/(x - 3)\nequilibrium o at x = 0\nclaim o stable\n"
+    cert = json.loads(prove_model(proofkit.parse(text, "c.pk")).text)
+    assert cert["model"]["conditions"] == [
+        {"g": [[[2], "1"], [[1], "-6"], [[0], "9"]], "strict": True}
+    ]
+    assert verdicts(cert) == ["proved"]  # local: the condition holds strictly at x = 0
+    cert["model"]["conditions"][0]["g"] = [[[2], "1"]]  # x^2 > 0 fails at the point
+    report = audit_certificate(cert)
+    assert report.claims[0].status == "rejected" and report.claims[0].failed_step == "field"
+    global_cert = build(text.replace("stable", "globally stable"), [None])
+    global_cert["claims"][0].update(
+        status="proved", method="lyapunov", theorem="lyapunov-global", evidence=cubic_global()
+    )
+    global_cert["claims"][0].pop("reason")
+    global_cert["claims"][0]["number_field"] = None
+    v = audit_certificate(global_cert).claims[0]
+    assert v.status == "rejected" and "only under conditions" in (v.message or "")
