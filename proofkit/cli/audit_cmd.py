@@ -61,6 +61,7 @@ def register(subparsers: Any) -> None:
         help="checking time for the whole certificate (default 8); claims not checked "
         "in time are rejected, never accepted",
     )
+    p.add_argument("--verbose", action="store_true", help="list every hypothesis checked, in words")
     p.add_argument("--quiet", action="store_true", help="print only the result line")
     p.set_defaults(func=run)
 
@@ -186,6 +187,9 @@ def _print(args: Any, report: Any, prov: Any, model_ok: Any, ok: bool, sha: str)
             say(f"  {WORDS[c.status]}  {c.sentence}  {checks}")
         if c.hint:
             say(f"            note: {escape(c.hint)}")
+        if args.verbose:
+            for line in c.checked:
+                say(f"            checked: {escape(line)}")
     if prov is None:
         say("stage 2: provenance skipped (--core-only)")
         say(f"  {NOT_CHECKED_WITHOUT_PROVENANCE}")
