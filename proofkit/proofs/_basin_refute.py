@@ -16,7 +16,7 @@ from typing import Any
 import flint
 import numpy as np
 
-from proofkit.certificate import claim_entry
+from proofkit.certificate import claim_entry, not_proved_entry
 from proofkit.model import Claim, Model
 from proofkit.proofs import ProofAttempt
 from proofkit.proofs._basin_sim import Counterexample, find_counterexample
@@ -77,4 +77,19 @@ def refute(
         evidence=evidence, counterexample=cx.as_json(),
     )  # fmt: skip
     start = ", ".join(f"{s} = {c}" for s, c in zip(model.states, cx.start, strict=True))
-    return ProofAttempt(entry, f"the claim is false: the trajectory from {start} {cx.what}", cx)
+    detail = f"the claim is false: the trajectory from {start} {cx.what}"
+    if not _audit_accepts(model, entry):  # the audit has no schema for this evidence yet
+        how = "exact" if cx.kind == "equilibrium" else "simulation"
+        reason = f"{detail} ({how}; the audit has no schema for this counterexample yet)"
+        entry = not_proved_entry(model, claim, reason)
+        entry["counterexample"] = cx.as_json()
+        return ProofAttempt(entry, reason, cx)
+    return ProofAttempt(entry, detail, cx)
+
+
+def _audit_accepts(model: Model, entry: dict[str, Any]) -> bool:
+    from proofkit.audit import audit_certificate
+    from proofkit.certificate import model_section, new_certificate
+
+    report = audit_certificate(new_certificate(model_section(model), [entry]))
+    return report.claims[0].status == "refuted"

@@ -62,6 +62,7 @@ METHOD, THEOREM = "sublevel-set", "region-of-attraction"
 DEGREES = (2, 4, 6, 8)
 MAX_STATES = 6
 CLAIM_BUDGET = 120.0  # seconds of search per attracts claim
+DOMAIN_STEPS = 8  # levels tried (each 0.7 of the last) to fit {V <= level} into the domain
 Say = Callable[[str], None]
 
 
@@ -321,15 +322,18 @@ def certify(
 
     ``set_from_level``: the claim's set is ``{V <= level}`` itself (``proofkit basin``).
     """
-    core = _core_evidence(setup, search, it)
-    if isinstance(core, str):
-        return core
-    ev, v, level = core
-    setting = setup.setting
-    if set_from_level:
-        gap = setting.space.const(flint.fmpq(level.numerator, level.denominator)) - v
-        setting = replace(setting, set_conds=((gap, False),))
-    why = _set_obligations(setting, v, level, ev)
+    for k in range(DOMAIN_STEPS if setup.setting.domain else 1):
+        core = _core_evidence(setup, search, replace(it, level=it.level * 0.7**k))
+        if isinstance(core, str):
+            return core
+        ev, v, level = core
+        setting = setup.setting
+        if set_from_level:
+            gap = setting.space.const(flint.fmpq(level.numerator, level.denominator)) - v
+            setting = replace(setting, set_conds=((gap, False),))
+        why = _set_obligations(setting, v, level, ev)
+        if not why or "domain" not in why:  # a set outside the domain: try a lower level
+            break
     if why:
         return why
     ok, reason = check_evidence(setting, ev)
