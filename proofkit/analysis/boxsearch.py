@@ -9,6 +9,15 @@ misses X. Y is a floating-point inverse of J(m): any Y is valid, so floats
 only steer the test, ball arithmetic decides. The list is complete when
 every part of the box was excluded or certified.
 
+Where the field is a quotient ``N/D`` (rational terms), the search runs on
+the numerators ``N``, which have no poles: a zero of ``N`` in the box is an
+equilibrium exactly when the enclosure of every ``D`` over its box misses 0,
+so no box ever straddles a pole. Boxes where the argument of a ``log`` or of
+a fractional power is certainly out of range lie outside the natural domain
+and are excluded. :func:`search_settings` sets the time budget and a progress
+callback for every search in its ``with`` block (the ``inspect`` command uses
+it for ``--budget`` and its progress line on stderr).
+
 A certified root is named exactly when a simple exact candidate (a rational,
 or a rational multiple of pi) lies in its box and makes every f_i vanish
 identically by sympy's exact evaluation.
@@ -21,7 +30,9 @@ This module must never report a root that the ball arithmetic did not certify.
 from __future__ import annotations
 
 import itertools
-from collections.abc import Sequence
+import time
+from collections.abc import Callable, Iterator, Sequence
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from fractions import Fraction
 
@@ -31,10 +42,25 @@ import sympy as sp
 
 from proofkit.analysis.intervals import arb_value, compile_arb
 
-__all__ = ["BoxResult", "CertifiedRoot", "box_search"]
+__all__ = ["DEFAULT_SECONDS", "BoxResult", "CertifiedRoot", "box_search", "search_settings"]
 
 Box = list[tuple[flint.fmpq, flint.fmpq]]
 _SPLIT = flint.fmpq(19, 37)
+DEFAULT_SECONDS = 20.0  # time budget of one search unless search_settings says otherwise
+_SETTINGS: dict[str, object] = {"seconds": None, "progress": None}
+
+
+@contextmanager
+def search_settings(
+    seconds: float | None = None, progress: Callable[[str], None] | None = None
+) -> Iterator[None]:
+    """Inside the block, searches use ``seconds`` as their budget and report to ``progress``."""
+    saved = dict(_SETTINGS)
+    _SETTINGS.update(seconds=seconds, progress=progress)
+    try:
+        yield
+    finally:
+        _SETTINGS.update(saved)
 
 
 @dataclass(frozen=True, eq=False)
@@ -78,18 +104,58 @@ def _to_rational(q: flint.fmpq) -> sp.Rational:
     return sp.Rational(int(q.p), int(q.q))
 
 
+def _cleared(fs: Sequence[sp.Expr], xs: Sequence[sp.Symbol]) -> tuple[list, list]:
+    """Numerators to search and the denominators that must not vanish (1 where none)."""
+    nums, dens = [], []
+    for f in fs:
+        num, den = sp.fraction(sp.together(f))
+        if den.free_symbols & set(xs):
+            nums.append(num)
+            dens.append(den)
+        else:
+            nums.append(f)
+            dens.append(sp.Integer(1))
+    return nums, dens
+
+
+def _domain_arguments(fs: Sequence[sp.Expr]) -> list[tuple[sp.Expr, bool]]:
+    """Arguments that must be > 0 (log, negative fractional powers) or >= 0 (sqrt, ...)."""
+    out = []
+    for f in fs:
+        for e in sp.preorder_traversal(f):
+            if isinstance(e, sp.log):
+                out.append((e.args[0], True))
+            elif isinstance(e, sp.Pow) and e.exp.is_Rational and not e.exp.is_Integer:
+                out.append((e.base, bool(e.exp < 0)))
+    return out
+
+
 class _Krawczyk:
     def __init__(self, fs: Sequence[sp.Expr], xs: Sequence[sp.Symbol]) -> None:
         self.n = len(xs)
-        self.f = [compile_arb(f, xs) for f in fs]
-        self.J = [[compile_arb(sp.diff(f, x), xs) for x in xs] for f in fs]
+        nums, dens = _cleared(fs, xs)
+        self.f = [compile_arb(f, xs) for f in nums]
+        self.J = [[compile_arb(sp.diff(f, x), xs) for x in xs] for f in nums]
+        self.dens = [compile_arb(d, xs) for d in dens if d != 1]
+        self.args = [(compile_arb(a, xs), strict) for a, strict in _domain_arguments(fs)]
+        self.undefined = 0  # boxes excluded because the field is undefined on all of them
 
     def excluded_by_range(self, X: list[flint.arb]) -> bool:
+        for a, strict in self.args:
+            v = a(X)
+            if v.is_finite() and (v < 0 or (strict and v <= 0)):
+                self.undefined += 1
+                return True
         for f in self.f:
             v = f(X)
             if v.is_finite() and not v.contains(0):
                 return True
         return False
+
+    def off_poles(self, box: Box) -> bool:
+        """Every denominator is certainly nonzero on ``box``."""
+        X = [_ball(lo, hi) for lo, hi in box]
+        return all(d(X).is_finite() and not d(X).contains(0) for d in self.dens)
 
     def step(self, box: Box) -> tuple[str, Box | None]:
         """One Krawczyk test: ('unique', K∩X), ('none', None), ('contained', K∩X) or 'unknown'.
@@ -259,11 +325,15 @@ def box_search(
     box: Sequence[tuple[sp.Rational, sp.Rational]],
     budget: int = 20000,
     min_width: Fraction = Fraction(1, 2**30),
-    max_seconds: float = 30.0,
+    max_seconds: float | None = None,
 ) -> BoxResult:
-    """Every zero of fs in the box, each certified unique in a small box; and is that all?"""
-    import time
+    """Every zero of fs in the box, each certified unique in a small box; and is that all?
 
+    ``max_seconds``: the time budget (default: the enclosing :func:`search_settings`,
+    else :data:`DEFAULT_SECONDS`).
+    """
+    if max_seconds is None:
+        max_seconds = float(_SETTINGS["seconds"] or DEFAULT_SECONDS)  # type: ignore[arg-type]
     kr = _Krawczyk(fs, xs)
     start: Box = [
         (flint.fmpq(int(lo.p), int(lo.q)), flint.fmpq(int(hi.p), int(hi.q))) for lo, hi in box
@@ -273,19 +343,16 @@ def box_search(
     old = flint.ctx.prec
     flint.ctx.prec = 80
     try:
-        t_end = time.monotonic() + max_seconds
-        while run.stack and run.processed < budget and time.monotonic() <= t_end:
-            run.processed += 1
-            _process(kr, run.stack.pop(), run, mw)
+        _run(kr, run, mw, budget, max_seconds)
         roots, merge_ok = _merge(kr, run.found)
-        straddle = [r for r in roots if not _within(r, start) and _meets(r, start)]
-        roots = [r for r in roots if _within(r, start)]
-        merge_ok = merge_ok and not straddle
+        kept, notes, open_roots = _classify(kr, fs, xs, roots, start)
     finally:
         flint.ctx.prec = old
-    complete = not run.stack and run.unresolved == 0 and merge_ok
-    reason = _outcome_text(run, complete, start, len(roots), f"{budget}, {max_seconds:g} s")
-    out = [_root_of(rb, _identify(fs, xs, rb)) for rb in roots]
+    searched = not run.stack and run.unresolved == 0 and merge_ok
+    complete = searched and not open_roots
+    reason = _outcome_text(run, searched, start, len(kept), f"{budget}, {max_seconds:g} s")
+    reason += "".join(f"; {n}" for n in notes)
+    out = [_root_of(rb, exact) for rb, exact in kept]
     extra = _exact_in_undecided(fs, xs, run, start, {r.exact for r in out if r.exact is not None})
     if extra:
         reason += (
@@ -293,6 +360,68 @@ def box_search(
             "zero near them is excluded)"
         )
     return BoxResult((*out, *extra), complete, reason, run.processed)
+
+
+def _classify(
+    kr: _Krawczyk, fs: Sequence[sp.Expr], xs: Sequence[sp.Symbol], roots: list[Box], start: Box
+) -> tuple[list[tuple[Box, tuple[sp.Expr, ...] | None]], list[str], int]:
+    """Certified zeros of the numerators: equilibria in the box, with notes; and how many
+    stay undecided (on a pole, or on the boundary of the box, not settled exactly)."""
+    kept: list[tuple[Box, tuple[sp.Expr, ...] | None]] = []
+    notes: list[str] = []
+    on_pole = outside = undecided = 0
+    nums, dens = _cleared(fs, xs)
+    for r in roots:
+        if not _meets(r, start):
+            continue
+        if not kr.off_poles(r):
+            exact = _identify(nums, xs, r)
+            if exact is not None and any(
+                sp.simplify(d.subs(dict(zip(xs, exact, strict=True)))) == 0 for d in dens
+            ):
+                on_pole += 1  # exactly on a pole: the field is undefined there
+            else:
+                undecided += 1
+            continue
+        exact = _identify(fs, xs, r)
+        if _within(r, start):
+            kept.append((r, exact))
+        elif exact is not None and _exact_in_box(exact, start):
+            kept.append((r, exact))  # on the boundary of the box, exactly inside
+        elif exact is not None:
+            outside += 1
+        else:
+            undecided += 1
+    if kr.dens:
+        notes.append("zeros of the numerators count only where every denominator is nonzero")
+    if on_pole:
+        notes.append(f"{on_pole} zero(s) of the numerators lie exactly on a pole (not equilibria)")
+    if kr.undefined:
+        notes.append(f"{kr.undefined} boxes lie where the field is undefined (log, sqrt)")
+    if undecided:
+        notes.append(
+            f"{undecided} root enclosure(s) on a pole or the box boundary could not be decided"
+        )
+    return kept, notes, undecided
+
+
+def _run(kr: _Krawczyk, run: _Bisection, mw: flint.fmpq, budget: int, seconds: float) -> None:
+    """Process boxes until none are left or the budget is spent; report progress each second."""
+    say = _SETTINGS["progress"]
+    t0 = time.monotonic()
+    t_end, next_note = t0 + seconds, t0 + 1.0
+    while run.stack and run.processed < budget:
+        now = time.monotonic()
+        if now > t_end:
+            break
+        if callable(say) and now >= next_note:
+            next_note = now + 1.0
+            say(
+                f"box search: {run.processed} boxes done, {len(run.stack)} to go, "
+                f"{len(run.found)} root enclosures, {now - t0:.0f} of {seconds:g} s"
+            )
+        run.processed += 1
+        _process(kr, run.stack.pop(), run, mw)
 
 
 def _exact_in_box(point: tuple[sp.Expr, ...], box: Box) -> bool:
@@ -321,16 +450,31 @@ def _merge(kr: _Krawczyk, boxes: list[Box]) -> tuple[list[Box], bool]:
         dup = False
         for k, c in enumerate(out):
             if _meets(b, c):
-                hull = [(min(p[0], q[0]), max(p[1], q[1])) for p, q in zip(b, c, strict=True)]
-                verdict, _kb = kr.step(hull)
-                if verdict == "unique":
-                    out[k] = hull
+                union = _unique_union(kr, b, c)
+                if union is not None:
+                    out[k] = union
                     dup = True
                     break
                 ok = False
         if not dup:
             out.append(b)
     return out, ok
+
+
+def _unique_union(kr: _Krawczyk, b: Box, c: Box) -> Box | None:
+    """A box holding both that the Krawczyk test certifies to hold exactly one zero, or None.
+
+    Both boxes hold a zero; when one zero is unique in a box that contains both, they
+    are the same root. The hull is widened step by step (epsilon-inflation), as a
+    side of zero width (a root on the face shared by two boxes) can never pass.
+    """
+    hull = [(min(p[0], q[0]), max(p[1], q[1])) for p, q in zip(b, c, strict=True)]
+    for scale in (0, 1, 8):
+        pad = [(hi - lo) * scale / 8 + flint.fmpq(1, 2**60) * scale for lo, hi in hull]
+        wide = [(lo - e, hi + e) for (lo, hi), e in zip(hull, pad, strict=True)]
+        if kr.step(wide)[0] == "unique":
+            return wide
+    return None
 
 
 def _within(b: Box, c: Box) -> bool:
