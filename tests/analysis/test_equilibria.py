@@ -107,7 +107,8 @@ def test_no_real_equilibria() -> None:
 
 
 def test_pendulum_in_a_box_certified_and_complete() -> None:
-    # computed by hand: dx/dt = y, dy/dt = -sin x - y/2 vanishes at (k pi, 0); in [-10, 10]^2, k = -3..3;
+    # computed by hand: dx/dt = y, dy/dt = -sin x - y/2 vanishes at (k pi, 0); in [-10, 10]^2,
+    # k = -3..3;
     # J = [[0, 1], [-cos(k pi), -1/2]]: even k stable focus (disc 1/4 - 4 < 0), odd k saddle
     s = survey(model("x y", [y, -sp.sin(x) - y / 2]))
     assert s.complete and "Krawczyk" in s.complete_reason
