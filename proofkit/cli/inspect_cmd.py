@@ -7,6 +7,12 @@ declared equilibria, claims); ``--json`` prints one JSON object whose
 The JSON is built only by :func:`inspect_report` and the text only by
 :func:`inspect_text`, so later stages can add their findings in one place.
 
+For fields that are not polynomial the equilibria come from a certified box
+search over the box the domain gives (else a default box); ``--budget
+SECONDS`` bounds its time (default 20 s) and its progress goes to stderr once
+a second unless ``--quiet``. The result says which box was covered and
+whether the list is complete.
+
 Top-level imports are stdlib only; this module never evaluates model text.
 """
 
@@ -22,6 +28,11 @@ if TYPE_CHECKING:
 
 __all__ = ["inspect_report", "inspect_text", "register", "run"]
 
+EXAMPLE = """example:
+  proofkit inspect swing.pk --budget 5
+  proofkit inspect chemostat.pk --json --quiet
+"""
+
 
 def register(subparsers: Any) -> None:
     p = subparsers.add_parser(
@@ -30,6 +41,8 @@ def register(subparsers: Any) -> None:
         description="Read a model file, check it, and show it back in readable mathematical "
         "form: states, parameters (nominal value and range), constants, equations, domain, "
         "declared equilibria and claims. Exit 0 when the file is a valid model, 2 when not.",
+        epilog=EXAMPLE,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     p.add_argument("file", metavar="FILE", help="model file (.pk); '-' reads standard input")
     p.add_argument(
@@ -37,6 +50,14 @@ def register(subparsers: Any) -> None:
         action="store_true",
         help="print one JSON object (key 'model') instead of text; exact numbers as 'p/q'",
     )
+    p.add_argument(
+        "--budget",
+        type=float,
+        default=20.0,
+        metavar="SECONDS",
+        help="time for the certified equilibrium search of a non-polynomial field (20)",
+    )
+    p.add_argument("--quiet", action="store_true", help="no progress on stderr")
     p.set_defaults(func=run)
 
 
@@ -169,9 +190,19 @@ def _read(args: argparse.Namespace) -> Model:
 
 
 def run(args: argparse.Namespace) -> int:
+    budget = getattr(args, "budget", 20.0)
+    if not 0 < budget <= 3600:
+        from proofkit.errors import InputError
+
+        raise InputError(f"--budget {budget}: expected seconds in (0, 3600]")
     model = _read(args)
-    if args.json:
-        print(json.dumps(inspect_report(model), indent=2))
-    else:
-        print(inspect_text(model))
+    from proofkit.analysis.boxsearch import search_settings
+
+    def progress(msg: str) -> None:
+        if not getattr(args, "quiet", False):
+            print(f"proofkit: {msg}", file=sys.stderr, flush=True)
+
+    with search_settings(seconds=budget, progress=progress):
+        text = json.dumps(inspect_report(model), indent=2) if args.json else inspect_text(model)
+    print(text)
     return 0
