@@ -58,7 +58,7 @@ def size_of(v: NumPoly, level: float, cells: int = 1000, samples: int = 200_000)
     err = 3 * math.sqrt(max(frac * (1 - frac), 1e-12) / samples) * box
     return {
         "value": round(frac * box, 6),
-        "kind": "volume",
+        "kind": "length" if n == 1 else "volume",
         "method": f"Monte Carlo, {samples} uniform points in the bounding box",
         "error": round(err, 6),
     }

@@ -99,7 +99,7 @@ def _rational_point(model: Model, claim_or_name: Claim | str) -> tuple[Fraction,
     nominal = model.nominal_values()
     out = []
     for v in values:
-        v = sp.nsimplify(v.subs(nominal)) if nominal else v
+        v = sp.simplify(v.subs(nominal)) if nominal else v
         if not v.is_Rational:
             return (
                 f"the equilibrium {name} is not a rational point ({v}); region-of-attraction "

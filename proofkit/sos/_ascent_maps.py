@@ -105,7 +105,6 @@ def mult_map(poly: NumPoly, support: np.ndarray, index: MonoIndex) -> sps.csr_ma
 
 def lie_map(field: list[NumPoly], support: np.ndarray, index: MonoIndex) -> sps.csr_matrix:
     """Coefficients of ``V`` over ``support`` -> coefficients of ``grad V . field``."""
-    n = support.shape[1]
     out = sps.csr_matrix((len(index), support.shape[0]))
     for i, g in enumerate(field):
         keep = support[:, i] > 0
@@ -119,7 +118,6 @@ def lie_map(field: list[NumPoly], support: np.ndarray, index: MonoIndex) -> sps.
         rows = index.rows(g.exps[ai.ravel()] + dexps[si.ravel()])
         vals = g.coeffs[ai.ravel()] * factor[si.ravel()]
         out = out + sps.csr_matrix((vals, (rows, si.ravel())), shape=(len(index), s))
-    del n
     return out.tocsr()
 
 

@@ -358,6 +358,8 @@ class BasinSearch:
                 vol, _ = self.volume(vt, it.level)
                 if vol > best_vol:
                     best_v, best_vol = vt, vol
+            if best_v is it.v:
+                break  # the shape step found nothing better: the next round would repeat this one
             scale = it.level
             v_norm = NumPoly(best_v.exps, best_v.coeffs / scale)
             nxt = self.level_of(v_norm, degree, 1.0)
