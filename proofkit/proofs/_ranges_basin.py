@@ -21,7 +21,6 @@ from fractions import Fraction
 from typing import Any
 
 import flint
-import numpy as np
 import sympy as sp
 
 from proofkit.model import Claim, Model
@@ -40,28 +39,38 @@ MAX_BISECT = 14
 
 
 def _nominal_v(model: Model, space: Any, g: list[Any], box: list) -> Any | None:
-    """``y' P y`` with ``A'P + PA = -I`` at the nominal values (rounded P, exact V)."""
-    from scipy.linalg import solve_continuous_lyapunov
+    """``y' P y`` with ``A'P + PA = -I`` at the nominal values (rounded P, exact V).
+
+    The Hurwitz test and ``P`` come from the exact kernel (:mod:`proofkit.analysis.linear`);
+    rounding ``P`` to small denominators keeps ``V`` short (it is only a candidate).
+    """
+    from proofkit.analysis.linear import (
+        characteristic_polynomial,
+        quadratic_field,
+        routh_array_in,
+        solve_lyapunov_in,
+    )
 
     n = len(model.states)
-    nominal = [Fraction(str(sp.Rational(p.nominal))) for p in model.params if p.is_uncertain]
-    a = np.zeros((n, n))
-    for i, gi in enumerate(g):
-        for j in range(n):
-            a[i, j] = float(
-                gi.derivative(j)(
-                    *[flint.fmpq(0)] * n, *[flint.fmpq(v.numerator, v.denominator) for v in nominal]
-                )
-            )
-    if np.max(np.linalg.eigvals(a).real) >= 0:
+    K = quadratic_field(0)
+    nominal = [_fmpq(sp.Rational(p.nominal)) for p in model.params if p.is_uncertain]
+    at = [flint.fmpq(0)] * n + nominal
+    a = [[K(gi.derivative(j)(*at)) for j in range(n)] for gi in g]
+    if not routh_array_in(characteristic_polynomial(a, K), K).hurwitz:
         return None
-    p = solve_continuous_lyapunov(a.T, -np.eye(n))
+    identity = [[K.one if i == j else K.zero for j in range(n)] for i in range(n)]
+    p, _minors = solve_lyapunov_in(a, identity, K)
     v = space.zero()
     for i in range(n):
         for j in range(n):
-            c = Fraction(float(p[i, j])).limit_denominator(1000)
+            q = p[i][j].rational()
+            c = Fraction(int(q.p), int(q.q)).limit_denominator(1000)
             v += space.gen(i) * space.gen(j) * space.const(c)
     return v
+
+
+def _fmpq(r: sp.Rational) -> flint.fmpq:
+    return flint.fmpq(int(r.p), int(r.q))
 
 
 def _programs(space: Any, g: list, box: list, v: Any, sets: list, doms: list, n: int) -> dict:

@@ -4,10 +4,10 @@ Used to refute a range claim ("it breaks at rho = 25"): at a rational value
 ``p*`` the equilibrium lies in Q or in one quadratic field Q(sqrt d) (its
 radical ``r* = c sqrt(d)``), and a regular Routh array of ``(s+1)^k q(s + h)``
 shows a root with positive real part (or, against an instability claim, all
-roots in the open left half plane). Arithmetic in Q(sqrt d) is done here with
-``fractions`` and exact signs (comparing squares); floating point only picks
-the shift ``h`` (a hint); the Routh array comes from the analysis kernel
-(:mod:`proofkit.analysis.linear`). The audit recomputes everything.
+roots in the open left half plane). Arithmetic in Q(sqrt d), the shifted
+polynomial and the Routh array come from the analysis kernel
+(:mod:`proofkit.analysis.linear`, exact signs); floating point only picks the
+shift ``h`` (a hint). The audit recomputes everything.
 
 This module must never import :mod:`proofkit.audit` internals and never decide
 a sign from floating point.
@@ -16,16 +16,14 @@ a sign from floating point.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
 from fractions import Fraction
 from math import isqrt
 from typing import Any
 
 import numpy as np
-import sympy as sp
 
+from proofkit.analysis.algebraic import AlgNum, RealAlgebraicField
 from proofkit.analysis.linear import (
-    quadratic_element,
     quadratic_field,
     routh_rows,
     shift_and_multiply,
@@ -34,32 +32,7 @@ from proofkit.analysis.linear import (
 )
 from proofkit.analysis.parametric import RangeSystem
 
-__all__ = ["QS", "value_evidence"]
-
-
-@dataclass(frozen=True)
-class QS:
-    """``a + b sqrt(d)`` with rational ``a, b`` (``d`` not a square, or 0 for Q)."""
-
-    a: Fraction
-    b: Fraction = Fraction(0)
-    d: int = 0
-
-    def __add__(self, o: QS) -> QS:
-        return QS(self.a + o.a, self.b + o.b, self.d or o.d)
-
-    def __sub__(self, o: QS) -> QS:
-        return QS(self.a - o.a, self.b - o.b, self.d or o.d)
-
-    def __mul__(self, o: QS) -> QS:
-        d = self.d or o.d
-        return QS(self.a * o.a + d * self.b * o.b, self.a * o.b + self.b * o.a, d)
-
-    def __float__(self) -> float:
-        return float(self.a) + float(self.b) * (self.d**0.5 if self.d else 0.0)
-
-    def json(self) -> str | list[str]:
-        return str(self.a) if self.b == 0 else [str(self.a), str(self.b)]
+__all__ = ["value_evidence"]
 
 
 def _square_split(n: int) -> tuple[int, int]:
@@ -76,8 +49,8 @@ def _square_split(n: int) -> tuple[int, int]:
     return s, n
 
 
-def _eval(p: Any, pt: Sequence[Fraction], r: QS | None) -> QS:
-    """A polynomial over (parameters, r) with r-degree <= 1 at ``(pt, r)``."""
+def _eval(p: Any, pt: Sequence[Fraction], r: AlgNum | None, K: RealAlgebraicField) -> AlgNum:
+    """A polynomial over (parameters, r) with r-degree <= 1 at ``(pt, r)``, in ``K``."""
     m = len(pt)
     a = b = Fraction(0)
     for monom, c in p.to_dict().items():
@@ -88,29 +61,28 @@ def _eval(p: Any, pt: Sequence[Fraction], r: QS | None) -> QS:
             b += v
         else:
             a += v
-    return QS(a) + (QS(Fraction(0)) if r is None else QS(b) * r)
+    return K(a) if r is None else K(a) + K(b) * r
 
 
-def _json(x: Any) -> str | list[str]:
+def _json(x: AlgNum) -> str | list[str]:
     a, b = sqrt_parts(x)
     return str(a) if b == 0 else [str(a), str(b)]
 
 
-def _routh_evidence(cp: list[QS], d: int, kind: str) -> dict[str, Any] | None:
+def _routh_evidence(
+    coeffs: list[AlgNum], K: RealAlgebraicField, kind: str
+) -> dict[str, Any] | None:
     """A regular array contradicting ``kind`` ("stable": a root with Re s > h >= 0)."""
-    K = quadratic_field(d)
-    root = sp.sqrt(d) if d else sp.Integer(0)
-    coeffs = [quadratic_element(sp.Rational(c.a) + sp.Rational(c.b) * root, K) for c in cp]
     tries: list[Fraction] = [Fraction(0)]
     if kind == "stable":
-        roots = np.roots([float(c) for c in cp]) if len(cp) > 1 else np.array([])
+        roots = np.roots([float(c) for c in coeffs]) if len(coeffs) > 1 else np.array([])
         top = float(max(roots.real)) if len(roots) else 0.0
         if top > 1e-9:
             h = Fraction(top / 2).limit_denominator(1000)
             tries += [h / 2**k for k in range(6) if h > 0]
     for h in tries:
         for power in (0, 1, 2) if kind == "stable" else (0,):
-            q = shift_and_multiply(coeffs, quadratic_element(h, K), power, K)
+            q = shift_and_multiply(coeffs, K(h), power, K)
             rows = routh_rows(q, K)
             if rows is None:
                 continue
@@ -133,27 +105,29 @@ def value_evidence(
     """Evidence that the claim ``kind`` fails at ``pt``, and the radicand ``d`` (0 for Q)."""
     d, r, radical = 0, None, None
     if system.radicand is not None:
-        g = _eval(system.radicand, pt, None).a
+        q = _eval(system.radicand, pt, None, quadratic_field(0)).rational()
+        g = Fraction(int(q.p), int(q.q))
         if g < 0:
             return None
         s, sq = _square_split(g.numerator * g.denominator)
         c = Fraction(s, g.denominator)
         d = 0 if sq == 1 else sq
-        r = QS(c) if d == 0 else QS(Fraction(0), c, d)
+        r = quadratic_field(d).one * c if d == 0 else quadratic_field(d).gen * c
         radical = str(c)
+    K = quadratic_field(d)
     point = [
-        _eval(a, pt, None) + _eval(b, pt, None) * (r or QS(Fraction(0))) for a, b in system.point
+        _eval(a, pt, None, K) + _eval(b, pt, None, K) * (K.zero if r is None else r)
+        for a, b in system.point
     ]
-    cp = [_eval(c, pt, r) for c in system.charpoly]
-    cp = [QS(c.a, c.b, d) for c in cp]
-    routh = _routh_evidence(cp, d, kind)
+    cp = [_eval(c, pt, r, K) for c in system.charpoly]
+    routh = _routh_evidence(cp, K, kind)
     if routh is None:
         return None
     evidence = {
         "parameters": {n: str(v) for n, v in zip(system.params, pt, strict=True)},
         "radical": radical,
-        "point": [x.json() for x in point],
-        "characteristic_polynomial": [c.json() for c in cp],
+        "point": [_json(x) for x in point],
+        "characteristic_polynomial": [_json(c) for c in cp],
         "routh": routh,
     }
     return evidence, d

@@ -116,25 +116,28 @@ def shifted_field(model: Model, point: Sequence[Fraction]) -> list[flint.fmpq_mp
     return g
 
 
-def _linear_part(space: Any, g: list[flint.fmpq_mpoly]) -> sp.Matrix:
+def _linear_part(space: Any, g: list[flint.fmpq_mpoly]) -> list[list[Any]]:
+    """The Jacobian of ``g`` at ``y = 0`` as exact rationals (elements of ``Q``)."""
+    from proofkit.analysis.linear import quadratic_field
+
+    Q = quadratic_field(0)
     n = space.nvars
     rows = []
     for gi in g:
-        row = [sp.Integer(0)] * n
+        row = [Q.zero] * n
         for exps, c in zip(gi.monoms(), gi.coeffs(), strict=True):
             if sum(exps) == 1:
-                row[list(exps).index(1)] = sp.Rational(int(c.p), int(c.q))
+                row[list(exps).index(1)] = Q(c)
         rows.append(row)
-    return sp.Matrix(rows)
+    return rows
 
 
 def _margin_powers(space: Any, g: list[flint.fmpq_mpoly]) -> tuple[int, ...] | str:
     """Margin powers worth trying, or why no Lyapunov function exists (exact Routh counts)."""
-    from proofkit.analysis import routh_array
+    from proofkit.analysis.linear import characteristic_polynomial, quadratic_field, routh_array_in
 
-    s = sp.Symbol("s")
-    coeffs = _linear_part(space, g).charpoly(s).all_coeffs()
-    routh = routh_array(coeffs)
+    Q = quadratic_field(0)
+    routh = routh_array_in(characteristic_polynomial(_linear_part(space, g), Q), Q)
     if routh.rhp_count:
         return (
             f"the linearization has {routh.rhp_count} eigenvalue(s) with positive real part "
