@@ -157,7 +157,7 @@ def estimate_basin(
     """The largest audited ``{V <= level}`` of this degree around ``equilibrium``."""
     from proofkit.proofs._basin_sim import numeric
     from proofkit.proofs._basin_size import size_of
-    from proofkit.proofs.basin import run_search, setup_basin
+    from proofkit.proofs.basin import MAX_GRAM, run_search, setup_basin
 
     say = progress or (lambda _m: None)
     t0 = time.perf_counter()
@@ -171,7 +171,10 @@ def estimate_basin(
         found.append((search, it))
         solver = search.solver_seconds
     if not found:
-        reason = "the linearization gives no quadratic Lyapunov function with a positive level"
+        reason = (
+            "no sublevel set was found: the linearization is not Hurwitz, no level of the "
+            f"quadratic V was feasible, or the programs exceed {MAX_GRAM} rows"
+        )
         return BasinRun(name, degree, "not proved", reason=reason, seconds=time.perf_counter() - t0)
     cert, why = _certify_best(setup, found, say)
     if cert is None:

@@ -61,6 +61,7 @@ __all__ = [
 METHOD, THEOREM = "sublevel-set", "region-of-attraction"
 DEGREES = (2, 4, 6, 8)
 MAX_STATES = 6
+MAX_GRAM = 120  # rows of one Gram matrix (the audit's limit too): bounds each solve
 CLAIM_BUDGET = 120.0  # seconds of search per attracts claim
 DOMAIN_STEPS = 8  # levels tried (each 0.7 of the last) to fit {V <= level} into the domain
 Say = Callable[[str], None]
@@ -189,6 +190,9 @@ def _pair(e: np.ndarray) -> tuple[int, int]:
 def _obligation(setting: ExactSetting, p0: Any, terms: list, basis: np.ndarray):
     """Numerical fit in z, then exact multipliers and Gram in y: (multipliers, Gram) or why."""
     from proofkit.sos.ascent import fit_squares
+
+    if max([basis.shape[0]] + [b.shape[0] for _q, b in terms]) > MAX_GRAM:
+        return f"its Gram matrix would exceed {MAX_GRAM} rows"
 
     num_terms = [(setting.to_z(q), b) for q, b in terms]
     got = fit_squares(setting.to_z(p0), num_terms, basis)
@@ -355,7 +359,7 @@ def run_search(
     cfg = AscentSettings(eps=float(setup.setting.eps), seconds_per_degree=budget)
     search = BasinSearch(setup.field_z, cfg, eps_weights=d2, progress=say)
     start = _lyapunov_start(setup)
-    if start is None:
+    if start is None or _too_large(search, 2, say):
         return
     it = search.level_of(start, 2)
     if it is None:
@@ -364,8 +368,18 @@ def run_search(
     if first:
         yield search, it
     for d in degrees:
+        if _too_large(search, d, say):
+            return
         it = search.improve(it, d)
         yield search, it
+
+
+def _too_large(search: Any, degree: int, say: Say) -> bool:
+    """Bounded cost: no degree whose decrease Gram matrix would exceed MAX_GRAM rows."""
+    rows = int(search.shapes(degree)["dec_basis"].shape[0])
+    if rows > MAX_GRAM:
+        say(f"degree {degree} skipped: its Gram matrix would have {rows} rows (limit {MAX_GRAM})")
+    return rows > MAX_GRAM
 
 
 def _not_proved(model: Model, claim: Claim, reason: str) -> ProofAttempt:
