@@ -319,12 +319,25 @@ def _point(model: Model, claim: Claim, scope: str) -> tuple[dict[str, Any], int 
         return entry, 0
     d = quadratic_field(exprs)
     if d is None:
+        _exact_point(model, exprs, entry)
         return entry, None
     try:
         entry["point"] = [number_json(e, d) for e in exprs]
     except NotRepresentable:
         return entry, None
     return entry, d
+
+
+def _exact_point(model: Model, exprs: list[sp.Expr], entry: dict[str, Any]) -> None:
+    """A non-polynomial field's point such as ``pi/3`` as expression trees (key ``exact``)."""
+    if model.is_polynomial() or any(e.free_symbols for e in exprs):
+        return
+    from proofkit.analysis.enclosure import NotExpressible, expression_json
+
+    try:
+        entry["exact"] = [expression_json(e, []) for e in exprs]
+    except NotExpressible:
+        return
 
 
 def claim_structure(model: Model, claim: Claim) -> dict[str, Any]:

@@ -171,10 +171,27 @@ def _preconditioner(jac: list[list[tuple[Fraction, Fraction]]], bits: int) -> li
             for row in inv.tolist()]  # fmt: skip
 
 
+def _centre(value: Fraction | sp.Expr, bits: int) -> Fraction:
+    """A rational within 2^-(bits + 64) of an exact value such as pi/3."""
+    if isinstance(value, Fraction):
+        return value
+    if isinstance(value, sp.Rational):
+        return Fraction(int(value.p), int(value.q))
+    from proofkit.analysis.intervals import arb_value
+
+    lo, hi = _bounds(arb_value(value, bits + 128))
+    if hi - lo > Fraction(1, 2 ** (bits + 64)):
+        raise ValueError(f"{value} could not be enclosed tightly enough")
+    return (lo + hi) / 2
+
+
 def linearization_enclosure(
-    field: Sequence[sp.Expr], xs: Sequence[sp.Symbol], point: Sequence[Fraction]
+    field: Sequence[sp.Expr], xs: Sequence[sp.Symbol], point: Sequence[Fraction | sp.Expr]
 ) -> LinearizationEnclosure:
-    """The enclosure evidence at ``point``; the finest tried when no precision decides."""
+    """The enclosure evidence at ``point`` (rational, or exact such as pi/3).
+
+    The finest grid tried is returned when no precision decides every sign.
+    """
     jexprs = [[compile_arb(sp.diff(f, x), xs) for x in xs] for f in field]
     old = flint.ctx.prec
     result = None
@@ -184,7 +201,7 @@ def linearization_enclosure(
             half = Fraction(1, 2 ** (bits + 16))
             # off-centre: python-flint 0.9 gives nan for ``ball ** k`` when the ball's
             # midpoint is exactly 0, so no ball here is centred on a rational point
-            box = tuple((p - half, p + 2 * half) for p in point)
+            box = tuple((c - half, c + 2 * half) for c in (_centre(p, bits) for p in point))
             balls = [_ball(lo, hi) for lo, hi in box]
             jac = [[_grid(*_bounds(j(balls)), bits) for j in row] for row in jexprs]
             y = _preconditioner(jac, bits)

@@ -288,24 +288,30 @@ def _structure(entry: dict[str, Any], model: ModelData, where: str) -> ClaimData
     if scope == "range" and not model.uncertain:
         raise FormatError(f"{w}.scope: 'range' needs an uncertain parameter")
     d = _number_field(entry, where)
-    name, point, moving = None, None, None
+    name, point, moving, exact = None, None, None, None
     eq = c.get("equilibrium")
     if (eq is None) == (kind in NEEDS_POINT):
         raise FormatError(f"{w}.equilibrium: required exactly for kinds {sorted(NEEDS_POINT)}")
     if eq is not None:
-        only_keys(eq, {"name", "point", "moving"}, f"{w}.equilibrium")
+        only_keys(eq, {"name", "point", "moving", "exact"}, f"{w}.equilibrium")
         name = get(eq, "name", str, f"{w}.equilibrium")
         if eq.get("point") is not None:
             n = len(model.states)
             point = tuple(read_vector(eq["point"], d, f"{w}.equilibrium.point", n))
         moving = eq.get("moving")
+        if eq.get("exact") is not None:  # a point such as pi/3, as expression trees
+            from proofkit.audit.enclosures import read_point
+
+            exact = read_point(eq["exact"], len(model.states), f"{w}.equilibrium.exact")
+            if point is not None:
+                raise FormatError(f"{w}.equilibrium: either a point or an exact point, not both")
     raw_set = c.get("set")
     if (raw_set is None) == (kind in NEEDS_SET):
         raise FormatError(f"{w}.set: required exactly for kinds {sorted(NEEDS_SET)}")
     cset = None if raw_set is None else tuple(read_set(raw_set, len(model.states), f"{w}.set"))
     method = entry.get("method") or ""
     evidence = entry.get("evidence") or {}
-    return ClaimData(kind, name, point, moving, cset, scope, method, d, evidence, where)
+    return ClaimData(kind, name, point, moving, cset, scope, method, d, evidence, where, exact)
 
 
 def _check_claim(entry: dict[str, Any], model: ModelData, where: str) -> ClaimVerdict:

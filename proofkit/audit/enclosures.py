@@ -65,6 +65,7 @@ __all__ = [
     "evaluate",
     "jacobian_enclosure",
     "read_expressions",
+    "read_point",
 ]
 
 FUNCTIONS = ("sin", "cos", "tan", "exp", "log", "sqrt", "tanh")
@@ -127,6 +128,26 @@ def read_expressions(data: Any, states: list[str], uncertain: list[str]) -> tupl
     return tuple(
         _read_expr(c, len(variables), f"{w}.components[{i}]", count, 0) for i, c in enumerate(comps)
     )
+
+
+def read_point(data: Any, n: int, where: str) -> tuple[Expr, ...]:
+    """A point given exactly by constant expression trees (``pi/3``), one per state."""
+    if not isinstance(data, list) or len(data) != n:
+        raise FormatError(f"{where}: expected {n} constant expressions")
+    count = [0]
+    return tuple(_read_expr(e, 0, f"{where}[{i}]", count, 0) for i, e in enumerate(data))
+
+
+def _point_enclosure(claim: ClaimData, bits: int) -> list[Interval]:
+    """The claim's point: a rational one exactly, an exact one (pi/3) by enclosure."""
+    if claim.point is not None:
+        require(claim.d == 0, "equilibrium", "needs a rational point or an exact point")
+        return [point(c.a) for c in claim.point]
+    require(claim.exact is not None, "equilibrium", "the claim states no point")
+    try:
+        return [evaluate(e, [Dual(point(Fraction(0)), ())], bits).v for e in claim.exact or ()]
+    except Undefined as exc:
+        raise Rejected("equilibrium", f"the exact point is not defined: {exc}") from None
 
 
 # --- evaluating with derivatives ------------------------------------------------------
@@ -307,17 +328,16 @@ def _krawczyk(model: ModelData, box: list[Interval], y: list[list[Fraction]], bi
 def _enclosure_signs(model: ModelData, claim: ClaimData, checks: Checks) -> list[int]:
     ev, w = claim.evidence, f"{claim.where}.evidence"
     only_keys(ev, {"precision", "box", "preconditioner", "jacobian", "routh_signs"}, w)
-    require(claim.point is not None and claim.d == 0, "equilibrium", "needs a rational point")
     n = len(model.states)
     require(n <= MAX_STATES, "size", f"at most {MAX_STATES} states")
     prec = get(ev, "precision", int, w)
     require(8 <= prec <= MAX_PRECISION, "precision", f"precision must be in 8..{MAX_PRECISION}")
     bits = prec + GUARD
+    x = _point_enclosure(claim, bits)
     raw_box = get(ev, "box", list, w)
     require(len(raw_box) == n, "box", "one interval per state")
     box = [_read_interval(b, None, f"{w}.box[{i}]") for i, b in enumerate(raw_box)]
-    x = [c.a for c in claim.point or ()]
-    inside = all(lo < v < hi for v, (lo, hi) in zip(x, box, strict=True))
+    inside = all(lo < v[0] and v[1] < hi for v, (lo, hi) in zip(x, box, strict=True))
     require(inside, "box", "the claim's point is not inside the box")
     raw_y = get(ev, "preconditioner", list, w)
     require(

@@ -127,6 +127,7 @@ class ClaimData:
     d: int  # radicand of the claim's number field, 0 for Q
     evidence: dict[str, Any]
     where: str
+    exact: tuple[Any, ...] | None = None  # a point such as pi/3 as expression trees
 
 
 @dataclass

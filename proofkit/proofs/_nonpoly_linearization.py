@@ -58,13 +58,22 @@ def _rational_point(model: Model, claim: Claim) -> list[Fraction] | None:
     return [Fraction(v) for v in point]
 
 
+def _exact_point(model: Model, claim: Claim) -> list[sp.Expr] | None:
+    """A point such as (pi/3, 0) that the claim structure states as expression trees."""
+    eq = claim_structure(model, claim)["equilibrium"] or {}
+    if eq.get("exact") is None:
+        return None
+    coords = model.at_nominal().equilibrium(claim.target or "").as_dict()
+    return [coords[s] for s in model.states]
+
+
 def _rational(model: Model, claim: Claim) -> tuple[str | None, dict[str, Any], str]:
     from proofkit.proofs.linearization import _evidence
 
     return _evidence(model, claim, 0)
 
 
-def _enclosure(model: Model, point: list[Fraction]) -> tuple[str | None, dict[str, Any], str]:
+def _enclosure(model: Model, point: list[Any]) -> tuple[str | None, dict[str, Any], str]:
     from proofkit.analysis.enclosure import linearization_enclosure
 
     nominal = model.at_nominal()
@@ -94,17 +103,18 @@ def attempt(
     """Evidence for ``stable`` / ``unstable`` on a non-polynomial field, or None if n/a."""
     if claim.kind not in RATIONAL_THEOREM or model.is_polynomial():
         return None
-    point = _rational_point(model, claim)
+    rational = _rational_point(model, claim)
+    point: list[Any] | None = rational or _exact_point(model, claim)
     if point is None:
         reason = (
-            "the equilibrium is not a rational point; linearization certificates for "
-            "non-polynomial fields need rational coordinates"
+            "the equilibrium is neither a rational point nor a point the certificate can "
+            "state exactly (rational numbers, pi, and the functions of the language)"
         )
         return ProofAttempt(not_proved_entry(model, claim, reason), reason)
     section = model_section(model)
     field = section.get("field")
     try:
-        if field is not None and field.get("denominators") is not None:
+        if field is not None and field.get("denominators") is not None and rational:
             method, theorems = "linearization-rational", RATIONAL_THEOREM
             shown, evidence, detail = _rational(model, claim)
         elif section.get("expressions") is not None:

@@ -164,3 +164,12 @@ def test_rational_jacobian_mutation_rejected(culture_run) -> None:
     cert = json.loads(culture_run.text)
     cert["claims"][0]["evidence"]["jacobian"][0][0] = "-1"
     assert _status(cert) == "rejected"
+
+
+def test_exact_point_moved_is_rejected(swing_run) -> None:
+    # the claim's exact point pi/3 changed to pi/4: not in the certified box any more
+    cert = json.loads(swing_run.text)
+    cert["claims"][1]["claim"]["equilibrium"]["exact"][0] = ["*", "1/4", ["pi"]]
+    verdict = audit_certificate(cert).claims[1]
+    assert verdict.status == "rejected" and verdict.failed_step == "box"
+    assert not full_audit_ok(json.dumps(cert))

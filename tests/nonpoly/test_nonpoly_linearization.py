@@ -57,10 +57,19 @@ def test_swing_stable_point_proved_by_enclosure(swing_run) -> None:
     assert ev["routh_signs"] == [1, 1, 1]
 
 
-def test_swing_saddle_at_irrational_point_not_proved(swing_run) -> None:
+def test_swing_saddle_at_an_exactly_known_point_proved(swing_run) -> None:
     saddle = _by_claim(swing_run)["saddle unstable"]
-    assert saddle.status == "not proved"
-    assert "rational" in saddle.detail
+    assert saddle.status == "proved", saddle.detail
+    entry = json.loads(swing_run.text)["claims"][1]
+    assert entry["claim"]["equilibrium"]["exact"][0] == ["*", "1/3", ["pi"]]
+    ev = entry["evidence"]
+    # computed (sympy): J = [[0, 1], [-cos(2 pi/3), -1/2]] = [[0, 1], [1/2, -1/2]]:
+    # det(sI - J) = s^2 + s/2 - 1/2, eigenvalues 1/2 and -1 (a saddle)
+    (lo, hi) = ev["jacobian"][1][0]
+    assert Fraction(lo) <= Fraction(1, 2) <= Fraction(hi)
+    assert ev["routh_signs"] == [1, 1, -1]
+    lo_box, hi_box = (Fraction(v) for v in ev["box"][0])
+    assert lo_box < sp.Rational(1, 3) * sp.pi < hi_box
 
 
 def test_false_claims_on_elementary_fields_never_proved() -> None:
