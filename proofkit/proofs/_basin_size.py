@@ -1,9 +1,11 @@
 """Area or volume of a certified sublevel set ``{V <= level}``, with how it was estimated.
 
-A number for the user and the benchmark, never evidence: planar sets are
-counted on a fine grid (error bound: the area of the grid cells the boundary
-cuts), higher-dimensional ones by Monte Carlo in a bounding box (three
-standard errors).
+A number for the user and the benchmark, never evidence: planar sets that
+are star-shaped about the equilibrium (checked along every ray) by polar
+quadrature of the boundary radius (error: the change from 2048 to 4096
+rays), other planar sets counted on a fine grid (error bound: the area of the
+grid cells the boundary cuts), higher-dimensional ones by Monte Carlo in a
+bounding box (three standard errors).
 """
 
 from __future__ import annotations
@@ -27,10 +29,32 @@ def _box(v: NumPoly, level: float, n: int) -> np.ndarray:
     return 1.2 * np.max(np.abs(dirs) * r[:, None], axis=0)
 
 
+def _star_area(v: NumPoly, level: float, half: np.ndarray) -> dict[str, Any] | None:
+    """Polar quadrature ``1/2 int r(theta)^2`` when every ray leaves the set only once."""
+    r_max = 2 * float(np.linalg.norm(half))
+    areas = []
+    for count in (2048, 4096):
+        dirs = directions(2, count)
+        r = ray_radii(v, level, dirs, r_max)
+        for k in np.linspace(1.0005, 2.0, 40):  # star-shaped: V stays above the level outside
+            if np.any(eval_map(dirs * (r * k)[:, None], v.exps) @ v.coeffs <= level):
+                return None
+        areas.append(0.5 * float(np.mean(r**2)) * 2 * math.pi)
+    return {
+        "value": round(areas[1], 6),
+        "kind": "area",
+        "method": "polar quadrature of the boundary radius on 4096 rays (the set is "
+        "star-shaped about the equilibrium: checked on every ray to twice the radius)",
+        "error": round(max(abs(areas[1] - areas[0]), 1e-6 * areas[1]), 6),
+    }
+
+
 def size_of(v: NumPoly, level: float, cells: int = 1000, samples: int = 200_000) -> dict[str, Any]:
     """``{"value", "kind", "method", "error"}`` for ``{y : V(y) <= level}`` (deviation coords)."""
     n = v.exps.shape[1]
     half = _box(v, level, n)
+    if n == 2 and (star := _star_area(v, level, half)) is not None:
+        return star
     if n == 2:
         xs = np.linspace(-half[0], half[0], cells + 1)
         ys = np.linspace(-half[1], half[1], cells + 1)

@@ -57,8 +57,8 @@ class AscentSettings:
     backoff: float = 0.0005
     bisect_tol: float = 3e-4
     max_iterations: int = 60
-    stall_iterations: int = 8
-    stall_gain: float = 2e-4
+    stall_iterations: int = 12
+    stall_gain: float = 5e-5
     seconds_per_degree: float = 45.0
     eps: float = 1e-5
     directions: int = 256
