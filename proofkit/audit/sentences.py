@@ -65,7 +65,7 @@ def _point(model: ModelData, claim: ClaimData) -> str:
 def sentence(model: ModelData, claim: ClaimData) -> str:
     """The claim in the audit's own words, escaped for printing."""
     states = model.states
-    where = set_words(claim.set, states) if claim.set is not None else ""
+    where = set_words(claim.set, states) if claim.set is not None else "a set (not stated)"
     kind = claim.kind
     if kind == "nonnegative":
         variables = claim.evidence.get("variables") if claim.evidence else None
