@@ -71,9 +71,9 @@ def parse(text: str, name: str | None = None) -> Model:
     >>> m.states
     ('x',)
     """
-    from proofkit.lang import parse_model
+    from proofkit.lang import _parse_model
 
-    return parse_model(text, file=name or "<model>")
+    return _parse_model(text, file=name or "<model>")
 
 
 def load(path: str | os.PathLike[str]) -> Model:
@@ -85,9 +85,9 @@ def load(path: str | os.PathLike[str]) -> Model:
     >>> proofkit.load(f).name
     'decay'
     """
-    from proofkit.lang import load_model
+    from proofkit.lang import _load_model
 
-    return load_model(path)
+    return _load_model(path)
 
 
 def _model(model: Model | str | os.PathLike[str]) -> Model:

@@ -1,8 +1,8 @@
 """The model language: ``.pk`` text to the exact, immutable :class:`~proofkit.model.Model`.
 
 Model text enters the library through one public door, :func:`proofkit.parse`
-and :func:`proofkit.load`; :func:`parse_model` (text) and :func:`load_model` (a
-file) are the machinery behind that door and not part of the public API.
+and :func:`proofkit.load`; the private ``_parse_model`` (text) and
+``_load_model`` (a file) are the machinery behind that door.
 Public here: :func:`format_model` (a Model back to text), :func:`format_expr`
 (one exact expression in the language's syntax). Every failure caused by the input is an
 :class:`~proofkit.errors.InputError` (or its :class:`~proofkit.errors.LimitError`)
@@ -45,7 +45,7 @@ __all__ = [
 MAX_FILE_BYTES = MAX_FILE_CHARS
 
 
-def parse_model(text: str, file: str = "<model>") -> Model:
+def _parse_model(text: str, file: str = "<model>") -> Model:
     """Parse model text into a Model; ``file`` names the text in error messages."""
     if not isinstance(text, str):
         raise InputError(f"model text must be a string, not {type(text).__name__} (in {file})")
@@ -67,7 +67,7 @@ def parse_model(text: str, file: str = "<model>") -> Model:
         raise make_error(where, "the model is too large to process", None, limit=True) from None
 
 
-def load_model(path: str | os.PathLike[str]) -> Model:
+def _load_model(path: str | os.PathLike[str]) -> Model:
     """Read a ``.pk`` file (UTF-8, at most 1 MiB) and parse it."""
     p = Path(path)
     name = str(path)
@@ -101,4 +101,9 @@ def load_model(path: str | os.PathLike[str]) -> Model:
         ) from None
     if text.startswith("\ufeff"):
         text = text[1:]  # a UTF-8 byte order mark is harmless; drop it
-    return parse_model(text, file=name)
+    return _parse_model(text, file=name)
+
+
+# remove when proofkit/cli/inspect_cmd.py and proofkit/proofs/_basin_run.py switch
+parse_model = _parse_model
+load_model = _load_model  # remove when proofkit/cli/inspect_cmd.py switches

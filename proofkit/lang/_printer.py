@@ -4,7 +4,7 @@
 (``^`` for powers, ``abs``, ``sqrt``, exact ``p/q`` rationals), with only
 the parentheses the precedence rules need, so that parsing the text gives
 back the same sympy expression. :func:`format_model` writes a whole Model
-such that ``parse_model(format_model(m)) == m``.
+such that ``proofkit.parse(format_model(m)) == m``.
 
 This module must never use sympy's own string printers for output that is
 read back (they print ``**``, ``Abs``, ``E`` ...), and never evaluates text.
@@ -136,7 +136,7 @@ def format_region(r: Region) -> str:
 
 
 def format_model(model: Model) -> str:
-    """The model as valid model text; ``parse_model(format_model(m)) == m``.
+    """The model as valid model text; ``proofkit.parse(format_model(m)) == m``.
 
     Constants, shorthands and equilibrium points are written with their exact
     (substituted) values; claims are written as their recorded text.

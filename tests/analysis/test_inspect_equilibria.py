@@ -7,8 +7,8 @@ import subprocess
 import sys
 from pathlib import Path
 
+from proofkit import parse
 from proofkit.cli.inspect_cmd import inspect_report, inspect_text
-from proofkit.lang import parse_model
 
 # computed by hand: dtheta/dt = omega, domega/dt = -2 theta + theta^3/6 - omega/2 rests where
 # theta (theta^2/6 - 2) = 0: theta = 0, +-2 sqrt(3); J = [[0, 1], [-2 + theta^2/2, -1/2]]
@@ -24,7 +24,7 @@ claim level stable at nominal
 
 
 def test_json_lists_every_equilibrium_exactly() -> None:
-    rep = inspect_report(parse_model(TEXT, file="pitch.pk"))
+    rep = inspect_report(parse(TEXT, name="pitch.pk"))
     assert rep["complete"] is True and "zero-dimensional" in rep["complete_reason"]
     eqs = {e["point"]["theta"]: e for e in rep["equilibria"]}
     assert set(eqs) == {"0", "2*sqrt(3)", "-2*sqrt(3)"}
@@ -42,7 +42,7 @@ def test_json_lists_every_equilibrium_exactly() -> None:
 
 
 def test_text_has_the_table_and_the_completeness_line() -> None:
-    text = inspect_text(parse_model(TEXT, file="pitch.pk"))
+    text = inspect_text(parse(TEXT, name="pitch.pk"))
     assert "equilibria (at the nominal parameter values):" in text
     table = text[text.index("equilibria (at the nominal parameter values):") :]
     line = next(ln for ln in table.splitlines() if ln.strip().startswith("level "))

@@ -7,10 +7,11 @@ from pathlib import Path
 
 import pytest
 
+from proofkit import parse
 from proofkit.analysis import Limits, survey
 from proofkit.analysis.equilibria import LimitHit, solve_polynomial_system
 from proofkit.cli import main
-from proofkit.lang import MAX_FILE_BYTES, parse_model
+from proofkit.lang import MAX_FILE_BYTES
 from proofkit.lang._checks import CHECK_SECONDS
 from proofkit.lang._limits import MAX_CLAIMS, MAX_EQUILIBRIA, MAX_STATES
 
@@ -71,7 +72,7 @@ def _states(n: int) -> str:
 
 
 def test_number_of_states(tmp_path: Path, capsys) -> None:
-    assert len(parse_model(_states(MAX_STATES)).states) == MAX_STATES
+    assert len(parse(_states(MAX_STATES)).states) == MAX_STATES
     # the 51st name starts at column 7 + 4 * 10 + 5 * 40 = 247 (computed: "x0, ".."x9, " are
     # 4 characters, "x10, ".."x49, " 5)
     _refused(tmp_path, _states(MAX_STATES + 1), capsys, "1:247", "51 states; the limit is 50")
@@ -83,14 +84,14 @@ def test_digits_of_every_exact_number(tmp_path: Path, capsys) -> None:
     # 10^1920 (computed); the product is refused before it is built
     lines = ["constant c0 = 10^30"] + [f"constant c{i} = c{i - 1}*c{i - 1}" for i in range(1, 6)]
     ok = "\n".join(lines) + "\nstate x\ndx/dt = -x + x^2/c5\n"
-    assert parse_model(ok).constants[-1].value == 10**960
+    assert parse(ok).constants[-1].value == 10**960
     _refused(tmp_path, ok + "constant c6 = c5*c5\n", capsys, "9:15", "limit is 1000 digits")
     _refused(tmp_path, "state x\ndx/dt = -x*(10^64)^64\n", capsys, "2:12", "1000 digits")
 
 
 def test_literal_digits_and_exponent(tmp_path: Path, capsys) -> None:
-    parse_model("state x\ndx/dt = -x + " + "9" * 1000 + "*x^2\n")
-    parse_model("state x\ndx/dt = -x + 1e-300*x^2\n")
+    parse("state x\ndx/dt = -x + " + "9" * 1000 + "*x^2\n")
+    parse("state x\ndx/dt = -x + 1e-300*x^2\n")
     _refused(
         tmp_path,
         "state x\ndx/dt = -x + " + "9" * 1001 + "*x^2\n",
@@ -109,7 +110,7 @@ def test_literal_digits_and_exponent(tmp_path: Path, capsys) -> None:
 
 
 def test_nested_exp_and_huge_exp_arguments(tmp_path: Path, capsys) -> None:
-    parse_model("state x\ndx/dt = -x + exp(exp(x)) - exp(1)^0*exp(exp(0)) + exp(1000)*0\n")
+    parse("state x\ndx/dt = -x + exp(exp(x)) - exp(1)^0*exp(exp(0)) + exp(1000)*0\n")
     _refused(
         tmp_path,
         "state x\ndx/dt = -x + exp(exp(exp(x)))\n",
@@ -139,11 +140,11 @@ def _claims(n: int) -> str:
 
 
 def test_number_of_claims_and_equilibria(tmp_path: Path, capsys) -> None:
-    assert len(parse_model(_claims(MAX_CLAIMS)).claims) == MAX_CLAIMS
+    assert len(parse(_claims(MAX_CLAIMS)).claims) == MAX_CLAIMS
     _refused(tmp_path, _claims(MAX_CLAIMS + 1), capsys, "104:1", "more than 100 claims")
     _refused(tmp_path, _claims(65_000), capsys, "104:1", "more than 100 claims")
     points = "".join(f"equilibrium e{i} at x = 0\n" for i in range(MAX_EQUILIBRIA))
-    assert len(parse_model("state x\ndx/dt = -x\n" + points).equilibria) == MAX_EQUILIBRIA
+    assert len(parse("state x\ndx/dt = -x\n" + points).equilibria) == MAX_EQUILIBRIA
     _refused(
         tmp_path,
         "state x\ndx/dt = -x\n" + points + "equilibrium e at x = 0\n",
@@ -164,7 +165,7 @@ def test_exact_equilibrium_check_has_a_time_limit(tmp_path: Path, capsys) -> Non
 
 
 def test_bare_carriage_returns(tmp_path: Path, capsys) -> None:
-    parse_model("state x\r\ndx/dt = -x\r\n")
+    parse("state x\r\ndx/dt = -x\r\n")
     _refused(tmp_path, "state x\rdx/dt = -x\r", capsys, "1:8", "bare carriage return (CR)")
     _refused(tmp_path, "state x\r\ndx/dt = -x\rclaim\n", capsys, "2:11", "LF (or CR LF)")
 
@@ -172,7 +173,7 @@ def test_bare_carriage_returns(tmp_path: Path, capsys) -> None:
 def test_a_megabyte_on_one_line_ends_quickly(tmp_path: Path, capsys) -> None:
     # 50 000 words and operators are allowed; 1 MiB of "x + " is about 400 000 of them
     at_limit = "state x\ndx/dt = -x + 0*(" + "x + " * 24_990 + "x)\n"
-    assert len(parse_model(at_limit).field) == 1
+    assert len(parse(at_limit).field) == 1
     line = "state x\ndx/dt = -x + 0*(" + "x + " * 260_000 + "x)\n"
     assert len(line) < MAX_FILE_BYTES
     # computed: token 50 001 is the '+' at column 19 + 4 * 24 994 = 99 995 of line 2

@@ -26,8 +26,8 @@ import sympy as sp
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from proofkit import load, parse
 from proofkit.audit import FormatError, audit_text
-from proofkit.lang import load_model, parse_model
 from proofkit.proofs import prove_model
 from proofkit.proofs._cycles_search import Planar, dulac_program
 
@@ -53,12 +53,12 @@ claim no cycle in x^2 + y^2 <= 16
 
 @pytest.fixture(scope="module")
 def duct() -> object:
-    return prove_model(load_model(WORKED))
+    return prove_model(load(WORKED))
 
 
 @pytest.fixture(scope="module")
 def vdp() -> object:
-    return prove_model(parse_model(VDP, "vdp.pk"))
+    return prove_model(parse(VDP, "vdp.pk"))
 
 
 def _status(text: str, k: int) -> str:
@@ -90,7 +90,7 @@ def test_van_der_pol_true_and_false_claims(vdp) -> None:
 @pytest.mark.parametrize(("mu", "disc"), [("1", "16"), ("2", "25")])
 def test_van_der_pol_annulus_proof(mu: str, disc: str) -> None:
     head = VDP.split("claim")[0].replace("(1 - x^2)*y", f"{mu}*(1 - x^2)*y")
-    model = parse_model(head + f"claim cycle in x^2 + y^2 <= {disc}\n", "vdp.pk")
+    model = parse(head + f"claim cycle in x^2 + y^2 <= {disc}\n", "vdp.pk")
     run = prove_model(model)
     assert run.outcomes[0].status == "proved" and run.outcomes[0].method == "annulus"
     assert run.audit.claims[0].status == "proved"
@@ -109,7 +109,7 @@ def test_dulac_function_derived_by_hand() -> None:
     for const in (1, -1):  # Bendixson's criterion: div f changes sign on the disc
         assert dulac_program(pl, 0, Fraction(1, 10**6), fixed=sp.Integer(const)).evidence is None
     # The hand-made B in a certificate: the audit accepts it.
-    run = prove_model(parse_model(STROGATZ, "strogatz.pk"))
+    run = prove_model(parse(STROGATZ, "strogatz.pk"))
     entry = copy.deepcopy(run.certificate["claims"][0])
     assert run.outcomes[0].status == "proved"  # the search finds a Dulac function too
     entry.update(method="dulac", theorem="bendixson-dulac", status="proved")
@@ -225,7 +225,7 @@ def test_no_cycle_never_proved_for_a_disc_holding_a_ring(a, b, r) -> None:
     """Invented two-ring demo: the periodic orbits are the circles of radius 1 and 2
     about the origin (computed by hand in polar form); a disc holds one of them iff
     |centre| + radius_of_ring <= r."""
-    model = parse_model(RINGS.format(a=a, b=b, r=r * r), "rings.pk")
+    model = parse(RINGS.format(a=a, b=b, r=r * r), "rings.pk")
     run = prove_model(model)
     centre = math.hypot(float(a), float(b))
     holds_ring = centre + 1 <= float(r) or centre + 2 <= float(r)

@@ -20,9 +20,9 @@ import math
 import numpy as np
 import pytest
 
+from proofkit import parse
 from proofkit.analysis.orbits import find_cycles, numeric_field
 from proofkit.cli import main
-from proofkit.lang import parse_model
 
 VDP = """system van_der_pol
 parameter mu = {mu}
@@ -50,7 +50,7 @@ dy/dt = x - x^3 - y
 
 
 def _vdp(mu: str) -> object:
-    return parse_model(VDP.format(mu=mu), "vdp.pk")
+    return parse(VDP.format(mu=mu), "vdp.pk")
 
 
 def _liouville(model: object, cycle: object) -> float:
@@ -114,7 +114,7 @@ def test_van_der_pol_mu_2_computed_by_shooting() -> None:
 
 
 def test_two_rings_both_found_with_their_stability() -> None:
-    search = find_cycles(parse_model(RINGS, "rings.pk"))
+    search = find_cycles(parse(RINGS, "rings.pk"))
     assert len(search.cycles) == 2
     inner, outer = search.cycles
     # computed by hand: dtheta/dt = 1 gives T = 2 pi; r = 1 and r = 2 are the circles;
@@ -129,7 +129,7 @@ def test_two_rings_both_found_with_their_stability() -> None:
 
 
 def test_no_periodic_orbit_anywhere() -> None:
-    search = find_cycles(parse_model(DUFFING, "duffing.pk"))
+    search = find_cycles(parse(DUFFING, "duffing.pk"))
     assert search.cycles == ()
 
 

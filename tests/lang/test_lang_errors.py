@@ -9,8 +9,8 @@ from __future__ import annotations
 import pytest
 import sympy as sp
 
+from proofkit import load, parse
 from proofkit.errors import InputError, LimitError
-from proofkit.lang import load_model, parse_model
 
 
 def fails(
@@ -25,7 +25,7 @@ def fails(
 ) -> InputError:
     """Assert that ``text`` fails at line:column with the message, caret and hint."""
     with pytest.raises(InputError) as info:
-        parse_model(text, file="m.pk")
+        parse(text, name="m.pk")
     err = info.value
     assert isinstance(err, LimitError) == limit, str(err)
     assert err.span is not None, str(err)
@@ -126,7 +126,7 @@ def test_bracket_hints_and_statement_start() -> None:
 
 def test_caret_lines_up_under_tabs() -> None:
     with pytest.raises(InputError) as info:
-        parse_model("state x\ndx/dt\t=\t2x\n", file="m.pk")
+        parse("state x\ndx/dt\t=\t2x\n", name="m.pk")
     lines = str(info.value).splitlines()
     assert lines[1] == "    dx/dt = 2x"
     assert lines[2] == "    " + " " * 9 + "^"
@@ -394,7 +394,7 @@ def test_exponent_must_be_a_rational_constant() -> None:
 def test_exponent_limit() -> None:
     fails("state x\ndx/dt = x^65\n", 2, 11, "exceeds the limit of 64", limit=True, width=2)
     fails("state x\ndx/dt = x^(-65)\n", 2, 12, "exceeds the limit of 64", limit=True)
-    parse_model("state x\ndx/dt = x^64 - x^(-64)\n")  # the limit itself is allowed
+    parse("state x\ndx/dt = x^64 - x^(-64)\n")  # the limit itself is allowed
 
 
 def test_term_count_limit_without_expanding() -> None:
@@ -416,7 +416,7 @@ def test_term_count_limit_without_expanding() -> None:
         limit=True,
     )
     # computed: (x + y)^64 has 65 terms, well within the limit
-    parse_model("state x, y\ndx/dt = (x + y)^64\ndy/dt = 0\n")
+    parse("state x, y\ndx/dt = (x + y)^64\ndy/dt = 0\n")
 
 
 def test_nesting_limit() -> None:
@@ -427,7 +427,7 @@ def test_nesting_limit() -> None:
     fails(
         "state x\ndx/dt = " + "-" * 150 + "x\n", 2, 110, "nested more than 100 levels", limit=True
     )
-    parse_model("state x\ndx/dt = " + "-(" * 40 + "x" + ")" * 40 + "\n")
+    parse("state x\ndx/dt = " + "-(" * 40 + "x" + ")" * 40 + "\n")
 
 
 def test_shorthands_that_double_the_expression_are_stopped() -> None:
@@ -456,32 +456,32 @@ def test_number_size_limits() -> None:
 def test_file_size_limit(tmp_path) -> None:
     big = "state x\ndx/dt = -x\n" + "# padding\n" * 120_000
     with pytest.raises(LimitError, match="limit is 1048576"):
-        parse_model(big)
+        parse(big)
     p = tmp_path / "big.pk"
     p.write_text(big)
     with pytest.raises(LimitError, match=r"big\.pk"):
-        load_model(p)
+        load(p)
 
 
 # --- files --------------------------------------------------------------------------------
 def test_file_errors_name_the_file(tmp_path) -> None:
     with pytest.raises(InputError, match=r"nope\.pk: no such file"):
-        load_model(tmp_path / "nope.pk")
+        load(tmp_path / "nope.pk")
     with pytest.raises(InputError, match="is a directory"):
-        load_model(tmp_path)
+        load(tmp_path)
     bad = tmp_path / "latin1.pk"
     bad.write_bytes(b"state x\ndx/dt = -x # caf\xe9\n")
     with pytest.raises(InputError, match=r"latin1\.pk:2: the file is not UTF-8"):
-        load_model(bad)
+        load(bad)
     good = tmp_path / "bom.pk"
     good.write_bytes(b"\xef\xbb\xbfstate x\ndx/dt = -x\n")
-    assert load_model(good).states == ("x",)
+    assert load(good).states == ("x",)
     with pytest.raises(LimitError, match="limit is 1048576"):
-        load_model("/dev/zero")  # an endless device is read only up to the limit
+        load("/dev/zero")  # an endless device is read only up to the limit
     wrong = tmp_path / "wrong.pk"
     wrong.write_text("state x\ndx/dt = 2x\n")
     with pytest.raises(InputError) as info:
-        load_model(wrong)
+        load(wrong)
     assert str(info.value).startswith(f"{wrong}:2:10: error:")
 
 
@@ -532,7 +532,7 @@ def test_const_keyword_is_answered_with_constant() -> None:
 
 
 def test_param_and_const_may_still_be_names() -> None:
-    m = parse_model("state param, const\ndparam/dt = -const\ndconst/dt = param\n")
+    m = parse("state param, const\ndparam/dt = -const\ndconst/dt = param\n")
     assert m.states == ("param", "const")
-    m = parse_model("state dt, x\nddt/dt = -x\ndx/dt = dt/2\n")
+    m = parse("state dt, x\nddt/dt = -x\ndx/dt = dt/2\n")
     assert m.field == (-sp.Symbol("x", real=True), sp.Symbol("dt", real=True) / 2)

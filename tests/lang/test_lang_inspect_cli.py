@@ -13,8 +13,9 @@ from pathlib import Path
 
 import pytest
 
+from proofkit import load, parse
 from proofkit.cli.inspect_cmd import inspect_report, inspect_text
-from proofkit.lang import format_expr, load_model, parse_model
+from proofkit.lang import format_expr
 
 WORKED = Path(__file__).resolve().parents[2] / "worked"
 WORKED_FILES = sorted(WORKED.glob("*.pk"))
@@ -38,7 +39,7 @@ def test_there_are_worked_models() -> None:
 
 @pytest.mark.parametrize("path", WORKED_FILES, ids=lambda p: p.name)
 def test_inspect_text_and_json_of_worked_models(path: Path) -> None:
-    model = load_model(path)
+    model = load(path)
     text = run(str(path))
     assert text.returncode == 0, text.stderr
     out = text.stdout
@@ -65,18 +66,18 @@ def test_inspect_text_and_json_of_worked_models(path: Path) -> None:
 
 def test_json_exact_numbers_and_ranges() -> None:
     # the values as written in worked/trailer_sway.pk and worked/valve_latch.pk
-    report = inspect_report(load_model(WORKED / "trailer_sway.pk"))["model"]
+    report = inspect_report(load(WORKED / "trailer_sway.pk"))["model"]
     assert report["parameters"] == [{"name": "k", "nominal": "1", "range": ["1/2", "2"]}]
     assert report["domain"] == ["s^2 <= 4", "w^2 <= 4"]
     assert report["equilibria"]["jackknife"] == {"s": "k", "w": "0"}
     assert report["equations"] == {"s": "w", "w": "s^2 - k*s - w"}
-    latch = inspect_report(load_model(WORKED / "valve_latch.pk"))["model"]
+    latch = inspect_report(load(WORKED / "valve_latch.pk"))["model"]
     assert latch["equilibria"]["open"] == {"x": "1", "y": "1/2"}
     assert latch["domain"] is None and latch["parameters"] == []
 
 
 def test_inspect_text_shows_ranges_and_the_domain() -> None:
-    out = inspect_text(load_model(WORKED / "trailer_sway.pk"))
+    out = inspect_text(load(WORKED / "trailer_sway.pk"))
     assert "k = 1  uncertain, in [1/2, 2]" in out
     assert "s^2 <= 4" in out
     assert "(for every parameter value in the ranges)" in out
@@ -125,7 +126,7 @@ def test_inspect_shows_moving_points_and_where_the_field_is_defined() -> None:
         "parameter k = 1 in [1/2, 2]\nstate x\nlet r = x^2/(x - 3)\n"
         "dx/dt = k - x + 0*log(x + 3) + 0*r\nequilibrium e at x = k\n"
     )
-    model = parse_model(text, file="m.pk")
+    model = parse(text, name="m.pk")
     report = inspect_report(model)["model"]
     assert report["moving_equilibria"] == ["e"]
     assert report["conditions"] == [

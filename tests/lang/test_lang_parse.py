@@ -8,7 +8,8 @@ from __future__ import annotations
 
 import sympy as sp
 
-from proofkit.lang import format_expr, parse_model
+from proofkit import parse
+from proofkit.lang import format_expr
 
 x, y = sp.Symbol("x", real=True), sp.Symbol("y", real=True)
 k = sp.Symbol("k", real=True)
@@ -16,12 +17,12 @@ k = sp.Symbol("k", real=True)
 
 def rhs(expr_text: str, extra: str = "") -> sp.Expr:
     """The right-hand side of dx/dt in a one-state model (with optional declarations)."""
-    m = parse_model(f"{extra}state x, y\ndx/dt = {expr_text}\ndy/dt = 0\n")
+    m = parse(f"{extra}state x, y\ndx/dt = {expr_text}\ndy/dt = 0\n")
     return m.equations[0].rhs
 
 
 def const(value_text: str) -> sp.Expr:
-    return parse_model(f"constant c = {value_text}\nstate x\ndx/dt = -x\n").constants[0].value
+    return parse(f"constant c = {value_text}\nstate x\ndx/dt = -x\n").constants[0].value
 
 
 # --- exact numbers (common practice: decimal literals are exact decimal fractions) ---
@@ -41,7 +42,7 @@ def test_decimals_are_exact_rationals() -> None:
 
 
 def test_no_float_enters_a_model() -> None:
-    m = parse_model(
+    m = parse(
         "constant g = 9.81\nparameter a = 0.4 in [0.25, 1e0]\nstate x\ndx/dt = -a*x + g*1e-2\n"
     )
     for c in m.constants:
@@ -103,7 +104,7 @@ def test_functions_and_pi() -> None:
 
 
 def test_symbols_are_real() -> None:
-    m = parse_model("parameter k = 1\nstate x\ndx/dt = -k*x\n")
+    m = parse("parameter k = 1\nstate x\ndx/dt = -k*x\n")
     for s in m.equations[0].rhs.free_symbols:
         assert s.is_real
 
@@ -129,7 +130,7 @@ claim O attracts x^2 + y^2 <= 1/2 at nominal
 claim no cycle in x^2 + y^2 <= 3
 claim cycle in 1 <= x^2 + y^2 <= 4
 """
-    m = parse_model(text, file="demo.pk")
+    m = parse(text, name="demo.pk")
     assert m.name == "demo_1"
     assert m.file == "demo.pk" and m.source == text
     assert m.states == ("x", "y")
@@ -166,27 +167,27 @@ claim cycle in 1 <= x^2 + y^2 <= 4
 
 
 def test_equations_are_stored_in_state_order() -> None:
-    m = parse_model("state a, b\ndb/dt = a\nda/dt = -b\n")
+    m = parse("state a, b\ndb/dt = a\nda/dt = -b\n")
     assert [e.state for e in m.equations] == ["a", "b"]
 
 
 def test_system_is_optional() -> None:
-    m = parse_model("state x\ndx/dt = -x\n")
+    m = parse("state x\ndx/dt = -x\n")
     assert m.name is None and m.claims == () and m.domain is None
 
 
 def test_let_substitutes_and_chains() -> None:
-    m = parse_model("state x\nlet a = x + 1\nlet b = a^2\ndx/dt = -b\n")
+    m = parse("state x\nlet a = x + 1\nlet b = a^2\ndx/dt = -b\n")
     assert m.equations[0].rhs == -((x + 1) ** 2)
 
 
 def test_constant_uses_earlier_constants() -> None:
-    m = parse_model("constant a = 2\nconstant b = a^2 + 1\nstate x\ndx/dt = -b*x\n")
+    m = parse("constant a = 2\nconstant b = a^2 + 1\nstate x\ndx/dt = -b*x\n")
     assert m.constants[1].value == 5 and m.equations[0].rhs == -5 * x
 
 
 def test_equilibrium_moving_with_a_parameter() -> None:
-    m = parse_model(
+    m = parse(
         "parameter k = 1 in [1/2, 2]\nstate s, w\nds/dt = w\ndw/dt = -k*s - w + s^2\n"
         "equilibrium J at s = k, w = 0\n"
     )
@@ -194,20 +195,20 @@ def test_equilibrium_moving_with_a_parameter() -> None:
 
 
 def test_equilibrium_with_exact_irrational_point() -> None:
-    m = parse_model("state x\ndx/dt = x - x^3/2\nequilibrium R at x = sqrt(2)\n")
+    m = parse("state x\ndx/dt = x - x^3/2\nequilibrium R at x = sqrt(2)\n")
     assert m.equilibria[0].as_dict() == {"x": sp.sqrt(2)}
 
 
 def test_param_range_may_be_a_single_point_and_use_constants() -> None:
-    m = parse_model("constant a = 2\nparameter k = a in [a, 2*a]\nstate x\ndx/dt = -k*x\n")
+    m = parse("constant a = 2\nparameter k = a in [a, 2*a]\nstate x\ndx/dt = -k*x\n")
     assert (m.params[0].nominal, m.params[0].low, m.params[0].high) == (2, 2, 4)
-    m = parse_model("parameter k = 1 in [1, 1]\nstate x\ndx/dt = -k*x\n")
+    m = parse("parameter k = 1 in [1, 1]\nstate x\ndx/dt = -k*x\n")
     assert m.params[0].low == m.params[0].high == 1
 
 
 # --- lexical rules ---------------------------------------------------------------------
 def test_line_continuation_inside_parentheses_and_after_operators() -> None:
-    m = parse_model(
+    m = parse(
         "parameter k = 2 in\n  [1,\n   3]\nstate x, y\n"
         "dx/dt = (y +\n  x)\n"
         "dy/dt = -x -   # a comment on a continued line\n   y*k\n"
@@ -220,17 +221,17 @@ def test_line_continuation_inside_parentheses_and_after_operators() -> None:
 
 
 def test_crlf_tabs_and_blank_lines() -> None:
-    m = parse_model("\r\n\tstate x\r\n\r\ndx/dt\t=\t-x # c\r\n\n\n")
+    m = parse("\r\n\tstate x\r\n\r\ndx/dt\t=\t-x # c\r\n\n\n")
     assert m.equations[0].rhs == -x
 
 
 def test_names_are_case_sensitive() -> None:
-    m = parse_model("state x, X\ndx/dt = X\ndX/dt = -x\n")
+    m = parse("state x, X\ndx/dt = X\ndX/dt = -x\n")
     assert m.states == ("x", "X")
 
 
 def test_claim_text_is_as_written_without_comments() -> None:
-    m = parse_model(
+    m = parse(
         "state x, y\ndx/dt = -x\ndy/dt = -y\nequilibrium O at x = 0, y = 0\n"
         "claim O attracts x^2 +   # keep going\n   y^2 <= 1\n"
     )
@@ -251,8 +252,8 @@ def test_format_expr_writes_language_syntax() -> None:
 
 def test_sympy_rewrites_print_back_to_the_same_value() -> None:
     # computed: sympy turns tan(x + pi/2) into -cot(x); the text must mean the same
-    m = parse_model("state x\ndx/dt = tan(x + pi/2) + tan(pi/2 - 2*x)\n")
+    m = parse("state x\ndx/dt = tan(x + pi/2) + tan(pi/2 - 2*x)\n")
     text = format_expr(m.equations[0].rhs)
     assert "cot" not in text
-    again = parse_model(f"state x\ndx/dt = {text}\n")
+    again = parse(f"state x\ndx/dt = {text}\n")
     assert again.equations[0].rhs == m.equations[0].rhs

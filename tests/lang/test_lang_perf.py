@@ -11,7 +11,8 @@ from pathlib import Path
 
 import pytest
 
-from proofkit.lang import format_model, parse_model
+from proofkit import parse
+from proofkit.lang import format_model
 
 WORKED = Path(__file__).resolve().parents[2] / "worked"
 
@@ -27,20 +28,20 @@ def timed(fn, repeat: int = 1) -> float:  # type: ignore[no-untyped-def]
 
 @pytest.mark.perf
 def test_parse_speed() -> None:
-    parse_model("state x\ndx/dt = -x\n")  # build the cached parser first
+    parse("state x\ndx/dt = -x\n")  # build the cached parser first
     for path in sorted(WORKED.glob("*.pk")):
         text = path.read_text()
-        t = timed(lambda text=text: parse_model(text), repeat=5)
-        r = timed(lambda text=text: parse_model(format_model(parse_model(text))), repeat=3)
+        t = timed(lambda text=text: parse(text), repeat=5)
+        r = timed(lambda text=text: parse(format_model(parse(text))), repeat=3)
         print(f"{path.name}: parse {t * 1e3:.1f} ms, round trip {r * 1e3:.1f} ms")
     small = "state x\ndx/dt = " + " + ".join(f"{i}*x^{i % 7}" for i in range(500)) + "\n"
     big = "state x\ndx/dt = " + " + ".join(f"{i}*x^{i % 7}" for i in range(5000)) + "\n"
-    ts, tb = timed(lambda: parse_model(small), 3), timed(lambda: parse_model(big), 3)
+    ts, tb = timed(lambda: parse(small), 3), timed(lambda: parse(big), 3)
     print(f"sum of 500 terms {ts * 1e3:.0f} ms, 5000 terms {tb * 1e3:.0f} ms, ratio {tb / ts:.1f}")
     assert tb / ts < 30  # linear would be 10; quadratic would be 100
     lines = "".join(f"# line {i} of padding to make the file long\n" for i in range(20000))
     full = "state x\ndx/dt = -x\n" + lines
-    t = timed(lambda: parse_model(full))
+    t = timed(lambda: parse(full))
     print(f"{len(full) / 2**20:.2f} MiB of comments: {t:.2f} s")
 
     def consts(n: int) -> str:
@@ -48,6 +49,6 @@ def test_parse_speed() -> None:
             f"constant c{i} = {i}/7 + 0.25\n" for i in range(n)
         )
 
-    t1, t5 = timed(lambda: parse_model(consts(1000))), timed(lambda: parse_model(consts(5000)))
+    t1, t5 = timed(lambda: parse(consts(1000))), timed(lambda: parse(consts(5000)))
     print(f"1000 constant statements {t1:.2f} s, 5000: {t5:.2f} s, ratio {t5 / t1:.1f}")
     assert t5 / t1 < 12  # linear would be 5

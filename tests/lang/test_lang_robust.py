@@ -15,8 +15,8 @@ import sympy
 from hypothesis import given
 from hypothesis import strategies as st
 
+from proofkit import load, parse
 from proofkit.errors import InputError
-from proofkit.lang import load_model, parse_model
 
 WORKED = Path(__file__).resolve().parents[2] / "worked"
 SEEDS = sorted(p.read_text() for p in WORKED.glob("*.pk")) or ["state x\ndx/dt = -x\n"]
@@ -81,7 +81,7 @@ PIECES = [
 
 def parses_or_input_error(text: str) -> None:
     try:
-        parse_model(text, file="fuzz.pk")
+        parse(text, name="fuzz.pk")
     except InputError as err:
         message = str(err)
         assert message.strip(), "an error must say something"
@@ -105,7 +105,7 @@ def test_random_bytes_from_a_file_give_only_input_errors(data: bytes) -> None:
         p = Path(d) / "bytes.pk"
         p.write_bytes(data)
         try:
-            load_model(p)
+            load(p)
         except InputError as err:
             assert "bytes.pk" in str(err)
 
@@ -147,12 +147,12 @@ def test_deeply_nested_input_is_a_limit_error_not_a_crash() -> None:
         "state x\ndx/dt = " + "sin(" * 3000 + "x" + ")" * 3000 + "\n",
     ):
         with pytest.raises(InputError, match="nested"):
-            parse_model(text)
+            parse(text)
 
 
 def test_long_flat_sums_are_fine() -> None:
     # a 5000-term sum is long but not deep: it must parse (and quickly)
-    m = parse_model("state x\ndx/dt = " + " + ".join(["x"] * 5000) + "\n")
+    m = parse("state x\ndx/dt = " + " + ".join(["x"] * 5000) + "\n")
     assert m.equations[0].rhs == 5000 * sympy.Symbol("x", real=True)
 
 
@@ -172,7 +172,7 @@ def test_nothing_in_a_model_is_evaluated(monkeypatch: pytest.MonkeyPatch) -> Non
         "dx/dt = sin(x)*exp(-y) + sqrt(2)*abs(y) - c*x^2\ndy/dt = -k*y + log(3)*tanh(x) + pi\n"
     )
     for text in [*SEEDS, extra]:  # warm up: let sympy import its lazy modules first
-        parse_model(text)
+        parse(text)
     monkeypatch.setattr(builtins, "eval", forbidden)
     monkeypatch.setattr(builtins, "exec", forbidden)
     monkeypatch.setattr(sympy, "sympify", no_text_sympify)
@@ -192,12 +192,12 @@ def test_nothing_in_a_model_is_evaluated(monkeypatch: pytest.MonkeyPatch) -> Non
         eval("1 + 1")
 
     for text in SEEDS:
-        parse_model(text)
-    m = parse_model(extra)
+        parse(text)
+    m = parse(extra)
     assert m.constants[0].value == sympy.Rational(1, 400)
     with pytest.raises(InputError, match="unknown name '__import__'"):
-        parse_model('state x\ndx/dt = __import__("os")\n')
+        parse('state x\ndx/dt = __import__("os")\n')
     with pytest.raises(InputError, match="unknown name 'open'"):
-        parse_model('state x\ndx/dt = open("/etc/passwd") + x\n')
+        parse('state x\ndx/dt = open("/etc/passwd") + x\n')
     with pytest.raises(InputError, match=r"unexpected character '\.'"):
-        parse_model('state x\ndx/dt = __import__("os").system("echo hacked")\n')
+        parse('state x\ndx/dt = __import__("os").system("echo hacked")\n')

@@ -3,7 +3,7 @@
 Each generated expression comes with the sympy value built directly by the
 test (computed: sympy arithmetic), so the parser's meaning is checked
 against an independent construction, not against itself. Then
-``parse_model(format_model(m)) == m`` and printing is idempotent.
+``parse(format_model(m)) == m`` and printing is idempotent.
 """
 
 from __future__ import annotations
@@ -14,7 +14,8 @@ import sympy as sp
 from hypothesis import given
 from hypothesis import strategies as st
 
-from proofkit.lang import format_expr, format_model, parse_model
+from proofkit import parse
+from proofkit.lang import format_expr, format_model
 
 STATE_POOL = ["x", "y", "z", "theta", "q_2", "Vel", "dt", "dx"]
 PARAM_POOL = ["a", "b", "k", "gain", "c1"]
@@ -154,11 +155,11 @@ def models(draw: st.DrawFn) -> tuple[str, dict[str, sp.Expr]]:
 @given(models())
 def test_random_models_mean_what_they_say_and_round_trip(case: tuple[str, dict]) -> None:
     text, expected = case
-    m = parse_model(text)
+    m = parse(text)
     for eq in m.equations:
         assert sp.cancel(eq.rhs - expected[eq.state]) == 0, (eq.state, text)
     printed = format_model(m)
-    again = parse_model(printed)
+    again = parse(printed)
     assert again == m, printed
     assert format_model(again) == printed
 
@@ -169,10 +170,10 @@ def test_random_models_mean_what_they_say_and_round_trip(case: tuple[str, dict])
     )
 )
 def test_expression_printer_round_trips(e: Ex) -> None:
-    m = parse_model(f"state x, y\ndx/dt = {e.text}\ndy/dt = 0\n")
+    m = parse(f"state x, y\ndx/dt = {e.text}\ndy/dt = 0\n")
     rhs = m.equations[0].rhs
     assert sp.expand(rhs - e.value) == 0
-    back = parse_model(f"state x, y\ndx/dt = {format_expr(rhs)}\ndy/dt = 0\n").equations[0].rhs
+    back = parse(f"state x, y\ndx/dt = {format_expr(rhs)}\ndy/dt = 0\n").equations[0].rhs
     assert back == rhs
     assert "**" not in format_expr(rhs)
 
@@ -229,13 +230,13 @@ def test_expressions_with_functions_round_trip(e: Ex) -> None:
     from proofkit.errors import InputError
 
     try:  # any exception but InputError propagates and fails the test
-        m = parse_model(text)
+        m = parse(text)
     except InputError:  # e.g. 0^(-1) or tan at a pole: a clean refusal is a correct outcome
         m = None
     if m is not None:
         rhs = m.equations[0].rhs
         assert rhs == e.value or sp.simplify(rhs - e.value) == 0
-        back = parse_model(f"state x, y\ndx/dt = {format_expr(rhs)}\ndy/dt = 0\n")
+        back = parse(f"state x, y\ndx/dt = {format_expr(rhs)}\ndy/dt = 0\n")
         assert back.equations[0].rhs == rhs, format_expr(rhs)
 
 
@@ -248,6 +249,6 @@ def test_worked_models_and_the_spec_example_round_trip() -> None:
     assert "system glider_pitch" in example
     texts = [p.read_text() for p in sorted((root / "worked").glob("*.pk"))] + [example]
     for text in texts:
-        m = parse_model(text)
+        m = parse(text)
         printed = format_model(m)
-        assert parse_model(printed) == m, printed
+        assert parse(printed) == m, printed

@@ -14,8 +14,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import proofkit
+from proofkit import parse
 from proofkit.errors import InputError
-from proofkit.lang import format_model, parse_model
+from proofkit.lang import format_model
 
 LOOP = """\
 parameter sigma = 10
@@ -33,7 +34,7 @@ MOVING = "x = sqrt(beta*(rho - 1)), y = sqrt(beta*(rho - 1)), z = rho - 1"
 
 def error(text: str) -> InputError:
     try:
-        parse_model(text, file="m.pk")
+        parse(text, name="m.pk")
     except InputError as err:
         return err
     raise AssertionError("the model was accepted")
@@ -45,7 +46,7 @@ def test_fixed_parameter_equilibrium_written_with_numbers_is_accepted_and_proved
         LOOP.format(rho="28", beta_range="", point="x = 6*sqrt(2), y = sqrt(72), z = 27")
         + "claim warm unstable\n"
     )
-    model = parse_model(text)
+    model = parse(text)
     warm = model.equilibrium("warm")
     assert not warm.moves_with_parameters
     assert warm.as_dict()["x"] == 6 * sp.sqrt(2)
@@ -66,7 +67,7 @@ def test_fixed_parameter_point_that_holds_only_at_another_value_is_refused() -> 
 
 
 def test_moving_equilibrium_with_a_radical_is_kept_symbolic() -> None:
-    model = parse_model(LOOP.format(rho="28 in [2, 30]", beta_range=" in [2, 3]", point=MOVING))
+    model = parse(LOOP.format(rho="28 in [2, 30]", beta_range=" in [2, 3]", point=MOVING))
     warm = model.equilibrium("warm")
     beta, rho = sp.Symbol("beta", real=True), sp.Symbol("rho", real=True)
     assert warm.moves_with_parameters and warm.parameter_symbols == {beta, rho}
@@ -75,7 +76,7 @@ def test_moving_equilibrium_with_a_radical_is_kept_symbolic() -> None:
     assert [p.name for p in model.uncertain_params] == ["rho", "beta"]
     assert [p.name for p in model.with_fixed().params] == ["rho", "beta"]
     assert not model.equilibrium("rest").moves_with_parameters
-    assert parse_model(format_model(model)) == model
+    assert parse(format_model(model)) == model
 
 
 def test_moving_equilibrium_refused_where_the_radicand_turns_negative() -> None:
@@ -97,7 +98,7 @@ def test_moving_point_that_fails_for_some_parameter_values_shows_one() -> None:
 
 
 def test_point_in_a_fixed_parameter_is_substituted() -> None:
-    model = parse_model("parameter k = 2\nstate x\ndx/dt = k - x\nequilibrium e at x = k\n")
+    model = parse("parameter k = 2\nstate x\ndx/dt = k - x\nequilibrium e at x = k\n")
     assert model.equilibrium("e").point == (("x", sp.Integer(2)),)
     assert not model.equilibrium("e").moves_with_parameters
 
@@ -121,7 +122,7 @@ def test_singularity_removed_by_simplification_is_still_refused() -> None:
 
 def test_model_keeps_where_the_field_is_defined() -> None:
     x = sp.Symbol("x", real=True)
-    model = parse_model("state x\nlet r = 1/(x - 1)\ndx/dt = -exp(log(x + 2)) + 2 + 0*r\n")
+    model = parse("state x\nlet r = 1/(x - 1)\ndx/dt = -exp(log(x + 2)) + 2 + 0*r\n")
     assert model.field == (-x,)  # sympy's value; the conditions keep the meaning
     kept = {(d.expr, d.relation) for d in model.definedness}
     assert kept == {(x + 2, ">"), (x - 1, "!=")}
@@ -135,7 +136,7 @@ def test_claim_set_and_domain_must_avoid_singular_points() -> None:
     assert "it is 0 at x = 1" in err.message and (err.span.line, err.span.column) == (4, 18)
     err = error(base + "domain x <= 2\n")
     assert "not defined everywhere in the domain" in err.message
-    parse_model(base + "domain x <= 1/2\nclaim o attracts x^2 <= 1/4\n")
+    parse(base + "domain x <= 1/2\nclaim o attracts x^2 <= 1/4\n")
 
 
 def test_equilibrium_outside_the_domain_is_refused() -> None:
@@ -152,7 +153,7 @@ def test_parameter_denominator_must_stay_nonzero_over_the_range() -> None:
     err = error("parameter k = 1 in [0, 2]\nstate x\ndx/dt = -x/k\n")
     assert "a denominator (k) must be != 0, but it is 0 at k = 0" in err.message
     assert (err.span.line, err.span.column) == (3, 12)
-    parse_model("parameter k = 1 in [1/2, 2]\nstate x\ndx/dt = -x/k\nequilibrium o at x = 0\n")
+    parse("parameter k = 1 in [1/2, 2]\nstate x\ndx/dt = -x/k\nequilibrium o at x = 0\n")
 
 
 @settings(max_examples=25, deadline=None)
@@ -176,6 +177,6 @@ def test_points_written_in_the_parameters(
     if offset != 0:
         assert "'e' is not an equilibrium" in error(text).message
     else:
-        model = parse_model(text)
+        model = parse(text)
         assert model.equilibrium("e").moves_with_parameters == uncertain
-        assert parse_model(format_model(model)) == model
+        assert parse(format_model(model)) == model

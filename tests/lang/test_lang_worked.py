@@ -15,7 +15,7 @@ import pytest
 import sympy as sp
 from scipy.integrate import solve_ivp
 
-from proofkit.lang import load_model
+from proofkit import load
 from proofkit.model import Claim, Model, Region
 
 WORKED = Path(__file__).resolve().parents[2] / "worked"
@@ -68,7 +68,7 @@ def point_of(model: Model, name: str, values: dict) -> np.ndarray:
 
 @pytest.mark.parametrize("path", FILES, ids=lambda p: p.name)
 def test_worked_claims_hold_numerically(path: Path) -> None:
-    model = load_model(path)
+    model = load(path)
     xs = model.state_symbols
     jac = sp.Matrix(model.field).jacobian(xs)
     assert model.claims, "a worked model states what should be proven"

@@ -14,15 +14,15 @@ import numpy as np
 import pytest
 import sympy as sp
 
+from proofkit import parse
 from proofkit.audit import audit_certificate
 from proofkit.certificate import model_section, new_certificate
-from proofkit.lang import parse_model
 from proofkit.proofs.lyapunov import attempt, check_evidence
 from tests.sos.helpers import gram_identity_holds, is_psd_exact
 
 
 def _model(body: str, claims: str):
-    return parse_model(body + claims)
+    return parse(body + claims)
 
 
 def _prove(model, k: int = 0):

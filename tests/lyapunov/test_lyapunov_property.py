@@ -8,9 +8,9 @@ import numpy as np
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
+from proofkit import parse
 from proofkit.audit import audit_certificate
 from proofkit.certificate import model_section, new_certificate
-from proofkit.lang import parse_model
 from proofkit.proofs.lyapunov import attempt
 
 NAMES = ("x", "y", "z")
@@ -55,7 +55,7 @@ def test_stable_linearization_with_small_terms_is_proved_locally(case) -> None:
     a, extra = case
     # outside judge (numpy): every eigenvalue of the linearization has negative real part
     assert np.linalg.eigvals(np.array(a, dtype=float)).real.max() < 0
-    model = parse_model(_text(a, extra))
+    model = parse(_text(a, extra))
     res = attempt(model, model.claims[0])
     assert res is not None and res.entry["status"] == "proved", res.entry.get("reason")
     report = audit_certificate(new_certificate(model_section(model), [res.entry]))
@@ -74,6 +74,6 @@ def test_unstable_linearization_is_never_proved(a, c) -> None:
     assume(np.linalg.eigvals(np.array(a, dtype=float)).real.max() > 1e-6)
     n = len(a)
     extra = [f"({Fraction(c, 4)})*{NAMES[i]}^3" if c else "" for i in range(n)]
-    model = parse_model(_text(a, extra))
+    model = parse(_text(a, extra))
     res = attempt(model, model.claims[0])
     assert res is not None and res.entry["status"] == "not proved"

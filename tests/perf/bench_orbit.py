@@ -18,8 +18,8 @@ from __future__ import annotations
 import argparse
 import time
 
+from proofkit import parse
 from proofkit.analysis import orbits
-from proofkit.lang import parse_model
 from proofkit.proofs import prove_model
 
 VDP = """system van_der_pol
@@ -38,7 +38,7 @@ dy/dt = x + y*(r2 - 1)*(4 - r2)/4
 
 
 def _orbit_run(text: str, expected: int) -> tuple[float, float, int]:
-    model = parse_model(text, "bench.pk")
+    model = parse(text, "bench.pk")
     spent = {"refine": 0.0}
     original = orbits.refine_cycle
 
@@ -80,7 +80,7 @@ def main() -> None:
     print("annulus proof, van der Pol mu = 1 (target: under 60 s)")
     for k in range(args.repeat):
         t0 = time.perf_counter()
-        run = prove_model(parse_model(VDP, "vdp.pk"))
+        run = prove_model(parse(VDP, "vdp.pk"))
         total = time.perf_counter() - t0
         outcome = run.outcomes[0]
         print(

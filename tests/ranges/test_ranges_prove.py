@@ -8,7 +8,7 @@ hand) sit at x = y = sqrt(8/3 * 24) = 8, z = 24.
 
 from __future__ import annotations
 
-from proofkit.lang import parse_model
+from proofkit import parse
 from proofkit.proofs import prove_model
 
 CONVECTION = """\
@@ -28,7 +28,7 @@ claim rest unstable
 
 
 def _run(nominal: int, lo: int, hi: int):
-    model = parse_model(CONVECTION.format(nominal=nominal, lo=lo, hi=hi), "convection.pk")
+    model = parse(CONVECTION.format(nominal=nominal, lo=lo, hi=hi), "convection.pk")
     return prove_model(model)
 
 
