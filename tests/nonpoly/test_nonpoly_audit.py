@@ -173,3 +173,14 @@ def test_exact_point_moved_is_rejected(swing_run) -> None:
     verdict = audit_certificate(cert).claims[1]
     assert verdict.status == "rejected" and verdict.failed_step == "box"
     assert not full_audit_ok(json.dumps(cert))
+
+
+def test_certificates_validate_against_the_json_schema(culture_run, swing_run) -> None:
+    from importlib import resources
+
+    import jsonschema
+
+    text = resources.files("proofkit").joinpath("certificate.schema.json").read_text()
+    validator = jsonschema.Draft202012Validator(json.loads(text))
+    for run in (culture_run, swing_run):
+        validator.validate(json.loads(run.text))
