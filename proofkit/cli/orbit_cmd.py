@@ -6,10 +6,11 @@ orbital-stability verdict; ``--json`` prints ``{"cycles": [...]}`` (each cycle:
 ``period``, ``amplitude`` and ``point`` per state, ``multipliers`` with the
 trivial one first and a complex one as ``[re, im]``, ``stable``, ``hyperbolic``,
 ``residual``), with ``search``, ``notes`` and ``numerical`` beside it;
-``--out DIR`` draws the orbits on the phase portrait (``orbits.png``) and the
-time series of one period (``period.png``) with matplotlib's Agg backend,
-imported only there. Every number is a floating-point finding, never a proof:
-``proofkit prove`` with ``claim cycle in SET`` certifies one.
+``--out DIR`` draws the orbits on the shared phase portrait
+(``report.figures``: ``orbits.png``) and the time series of one period
+(``period.png``) on matplotlib's Agg canvas without pyplot, imported only
+there. Every number is a floating-point finding, never a proof: ``proofkit
+prove`` with ``claim cycle in SET`` certifies one.
 
 Exit 0 when the search ran, 2 on bad input. Top-level imports are stdlib only.
 """
@@ -64,14 +65,14 @@ def register(subparsers: Any) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from proofkit.api import load
     from proofkit.errors import InputError, ModelError
-    from proofkit.lang import load_model
 
     if not (0 < args.box <= 1e6):
         raise InputError(f"--box {args.box}: expected a half-width in (0, 1e6]")
     if args.out == "":
         raise InputError("--out: expected a directory name, not an empty string")
-    model = load_model(args.file)
+    model = load(args.file)
     say = (lambda _m: None) if args.quiet else (lambda m: print(m, file=sys.stderr))
     from proofkit.analysis.orbits import find_cycles
 
@@ -127,56 +128,35 @@ def _text(search: Any, file: str) -> str:
     return "\n".join(out)
 
 
-def _streamlines(ax: Any, search: Any, model: Any) -> None:
-    """The planar phase portrait behind the orbits (light streamlines)."""
-    import numpy as np
-
-    from proofkit.analysis.orbits import numeric_field
-
-    nf = numeric_field(model)
-    lo = min([b[0] for b in search.box[:2]] + [float(c.orbit[:2].min()) for c in search.cycles])
-    hi = max([b[1] for b in search.box[:2]] + [float(c.orbit[:2].max()) for c in search.cycles])
-    ticks = np.linspace(lo, hi, 60)
-    gx, gy = np.meshgrid(ticks, ticks)
-    with np.errstate(all="ignore"):
-        u, v = nf.f(np.stack([gx.ravel(), gy.ravel()]))
-    ax.streamplot(gx, gy, u.reshape(gx.shape), v.reshape(gx.shape), color="0.75", density=1.0)
-
-
 def _draw(search: Any, model: Any, out: Path) -> list[Path]:
-    """The orbits on the first two states' plane, and one period of each as time series."""
-    import matplotlib
+    """The orbits on the shared phase portrait, and one period of each as time series."""
+    from dataclasses import replace
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    from proofkit.report.figures import save_portrait
+    from proofkit.results import _portrait_data
 
     out.mkdir(parents=True, exist_ok=True)
-    names = search.states
-    fig, ax = plt.subplots(figsize=(6, 5))
-    if len(names) == 2:
-        _streamlines(ax, search, model)
-    for k, c in enumerate(search.cycles, 1):
-        style = "-" if c.stable else "--"
-        label = f"cycle {k}: T = {c.period:.4g} ({'stable' if c.stable else 'unstable'})"
-        ax.plot(c.orbit[0], c.orbit[1], style, label=label)
-    ax.set_xlabel(names[0])
-    ax.set_ylabel(names[1])
-    ax.set_aspect("equal", adjustable="datalim")
-    ax.set_title("periodic orbits located numerically (not a proof)")
-    if search.cycles:
-        ax.legend(loc="best", fontsize=8)
     paths = [out / "orbits.png", out / "period.png"]
-    fig.savefig(paths[0], dpi=120)
-    plt.close(fig)
-    fig, axes = plt.subplots(
-        max(1, len(search.cycles)), 1, figsize=(6, 2.2 * max(1, len(search.cycles))), squeeze=False
-    )
+    data = _portrait_data(model, None, cycles=search.cycles)
+    title = f"periodic orbits of {model.name or 'the model'} located numerically (not a proof)"
+    save_portrait(replace(data, title=title), paths[0])
+    _draw_periods(search, paths[1])
+    return paths
+
+
+def _draw_periods(search: Any, path: Path) -> None:
+    """Each state over one period, one panel per cycle (Agg canvas, no pyplot)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    rows = max(1, len(search.cycles))
+    fig = Figure(figsize=(6, 2.2 * rows), dpi=120)
+    FigureCanvasAgg(fig)
+    axes = fig.subplots(rows, 1, squeeze=False)
     for ax, c in zip(axes[:, 0], search.cycles, strict=False):
-        for i, name in enumerate(names):
+        for i, name in enumerate(search.states):
             ax.plot(c.times, c.orbit[i], label=name)
         ax.set_xlabel("t over one period")
         ax.legend(loc="best", fontsize=8)
     fig.tight_layout()
-    fig.savefig(paths[1], dpi=120)
-    plt.close(fig)
-    return paths
+    fig.savefig(path)

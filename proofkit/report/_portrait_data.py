@@ -184,7 +184,7 @@ def model_portrait_data(
         drawn = certificate_data(dict(certificate))
         regions = drawn.regions if drawn is not None else ()
     domain = _domain_fn(m, names, fixed)
-    box = _box(points, domain)
+    box = _box(points, domain, cycles)
     where = ", ".join(f"{s} = {v:g}" for s, v in fixed.items())
     note = "streamlines and curves: floating-point integration, for illustration"
     if where:

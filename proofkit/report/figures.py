@@ -457,12 +457,21 @@ def portrait_bytes(data: PortraitData, fmt: str = "png") -> bytes:
     return buf.getvalue()
 
 
-def _box(points: Sequence[PortraitPoint], inside: Scalar | None) -> tuple[float, ...]:
-    """Axes: the bounded domain when there is one, else a margin around the equilibria."""
+def _box(
+    points: Sequence[PortraitPoint], inside: Scalar | None, curves: Sequence[Any] = ()
+) -> tuple[float, ...]:
+    """Axes: the bounded domain when there is one, else a margin around the equilibria
+    and the located cycles (``curves``: polylines of shape (n, 2))."""
     import numpy as np
 
-    xs = [p.xy[0] for p in points] or [0.0]
-    ys = [p.xy[1] for p in points] or [0.0]
+    xs = [p.xy[0] for p in points]
+    ys = [p.xy[1] for p in points]
+    for c in curves:
+        arr = np.asarray(c, dtype=float).reshape(-1, 2)
+        if len(arr) and np.isfinite(arr).all():
+            xs += [float(arr[:, 0].min()), float(arr[:, 0].max())]
+            ys += [float(arr[:, 1].min()), float(arr[:, 1].max())]
+    xs, ys = xs or [0.0], ys or [0.0]
     half = max(2.0, 0.75 * max(max(xs) - min(xs), max(ys) - min(ys)) + 1.0)
     cx, cy = (max(xs) + min(xs)) / 2, (max(ys) + min(ys)) / 2
     if inside is not None:
