@@ -211,3 +211,17 @@ def test_document_portrait_of_the_worked_whistle(tmp_path: Path) -> None:
         "certified free of periodic orbits",
         "certified trapping annulus (holds a periodic orbit)",
     ]
+
+
+def test_a_certificate_portrait_does_not_load_sympy(tmp_path: Path) -> None:
+    """``proofkit.report`` builds documents lazily: drawing alone needs no sympy."""
+    cert = Path(__file__).resolve().parents[2] / "worked" / "valve_latch.certificate.json"
+    out = tmp_path / "p.png"
+    code = (
+        "import json, sys\nfrom proofkit.report import phase_portrait\n"
+        f"ok = phase_portrait(json.loads(open({str(cert)!r}).read()), {str(out)!r})\n"
+        "print(ok, 'sympy' in sys.modules)\n"
+    )
+    done = subprocess.run([PY, "-c", code], capture_output=True, text=True, check=True)
+    assert done.stdout.split() == ["True", "False"]
+    assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
