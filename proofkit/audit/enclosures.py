@@ -424,3 +424,7 @@ def enclosure_unstable(model: ModelData, claim: ClaimData, checks: Checks) -> No
         f"{changes} sign change(s): that many eigenvalues with positive real part at the "
         "equilibrium in X"
     )
+
+
+# The region of attraction of rational fields registers its schema on import.
+from proofkit.audit import _rational_basin  # noqa: E402, F401
