@@ -11,19 +11,7 @@ import proofkit
 from proofkit.audit import FormatError, audit_text
 from proofkit.proofs import ProveRun, prove_model
 from proofkit.provenance import check_provenance
-
-# A planar system with a stable origin and two saddles (x = +-1): computed by hand,
-# J(0) = [[0, 1], [-1, -1]] (stable focus), J(+-1) = [[0, 1], [2, -1]] (saddle).
-BISTABLE_TEXT = """\
-system duffing_like
-state x, y
-dx/dt = y
-dy/dt = -x + x^3 - y
-equilibrium origin at x = 0, y = 0
-equilibrium right at x = 1, y = 0
-claim origin stable
-claim right unstable
-"""
+from tests.models import DUFFING
 
 # dx/dt = x^2 - 2, dy/dt = -y: equilibria (+-sqrt 2, 0) (computed by hand):
 # J = diag(+-2 sqrt 2, -1).
@@ -79,7 +67,7 @@ def full_audit_ok(text: str) -> bool:
 
 @pytest.fixture(scope="session")
 def bistable_run() -> ProveRun:
-    return prove_text(BISTABLE_TEXT)
+    return prove_text(DUFFING)
 
 
 @pytest.fixture(scope="session")

@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 
-from .conftest import BISTABLE_TEXT
+from tests.models import DUFFING
 
 FORBIDDEN = (
     "lark",
@@ -38,9 +38,9 @@ def pk(*args: str, cwd: Path) -> subprocess.CompletedProcess[str]:
 @pytest.fixture(scope="module")
 def workdir(tmp_path_factory) -> Path:
     d = tmp_path_factory.mktemp("cli")
-    (d / "bistable.pk").write_text(BISTABLE_TEXT)
+    (d / "bistable.pk").write_text(DUFFING)
     # false (the saddles are equilibria too), so no method can prove it
-    (d / "mixed.pk").write_text(BISTABLE_TEXT + "claim origin globally stable\n")
+    (d / "mixed.pk").write_text(DUFFING + "claim origin globally stable\n")
     (d / "broken.pk").write_text("state x\ndx/dt = 2x\n")
     r = pk("prove", "bistable.pk", "--out", "out_bistable", cwd=d)
     assert r.returncode == 0, r.stderr  # every claim proved: exit 0

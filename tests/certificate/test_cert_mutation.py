@@ -16,9 +16,9 @@ from hypothesis import assume, given
 from hypothesis import strategies as st
 
 from proofkit.certificate import dumps
+from tests.models import DUFFING
 
 from .conftest import (
-    BISTABLE_TEXT,
     companion_text,
     full_audit_ok,
     get_in,
@@ -57,7 +57,7 @@ def certificates():
     from .conftest import SQRT_TEXT
 
     return {
-        "bistable": prove_text(BISTABLE_TEXT).certificate,
+        "bistable": prove_text(DUFFING).certificate,
         "sqrt": prove_text(SQRT_TEXT).certificate,
         "shifted": shifted.certificate,
         "sos": parrilo_lecture_certificate(),

@@ -10,8 +10,7 @@ import proofkit.proofs
 from proofkit.certificate import read
 from proofkit.provenance import check_provenance
 from proofkit.report import DocumentMeta, render_markdown
-
-from .conftest import BISTABLE_TEXT
+from tests.models import DUFFING
 
 
 def test_views_give_the_structure_read_only(bistable_run) -> None:
@@ -40,7 +39,7 @@ def test_prove_audits_once_and_documents_never_again(monkeypatch) -> None:
         return real(text, *args)
 
     monkeypatch.setattr(proofkit.proofs, "audit_text", counting)
-    run = proofkit.proofs.prove_model(proofkit.parse(BISTABLE_TEXT, "b.pk"))
+    run = proofkit.proofs.prove_model(proofkit.parse(DUFFING, "b.pk"))
     assert calls == [run.text]
 
     def no_audit(*_args: object) -> object:
@@ -52,7 +51,7 @@ def test_prove_audits_once_and_documents_never_again(monkeypatch) -> None:
 
 
 def test_provenance_reuses_a_model_parsed_from_the_same_text(monkeypatch, bistable_run) -> None:
-    model = proofkit.parse(BISTABLE_TEXT, "b.pk")
+    model = proofkit.parse(DUFFING, "b.pk")
 
     def no_parse(*_args: object) -> object:
         raise AssertionError("parsed again")

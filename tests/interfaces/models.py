@@ -2,18 +2,19 @@
 
 from __future__ import annotations
 
-# A planar system with a stable origin and two saddles at x = +-1 (computed by hand:
-# J(0) = [[0, 1], [-1, -1]], a stable focus; J(+-1) = [[0, 1], [2, -1]], det -2 < 0, saddles).
-DUFFING = """\
-system duffing_like
-state x, y
-dx/dt = y
-dy/dt = -x + x^3 - y
-equilibrium origin at x = 0, y = 0
-equilibrium right at x = 1, y = 0
-claim origin stable
-claim right unstable
-"""
+from tests.models import DUFFING
+
+__all__ = [
+    "CONVECTION",
+    "DUFFING",
+    "DUFFING_POINTS",
+    "PENDULUM",
+    "STRIP",
+    "VAN_DER_POL",
+    "VDP_PERIOD",
+]
+
+# The equilibria of DUFFING (tests/models.py) and their types, computed by hand there.
 DUFFING_POINTS = {(-1.0, 0.0): "saddle", (0.0, 0.0): "stable", (1.0, 0.0): "saddle"}
 
 # The van der Pol oscillator, mu = 1 (REFERENCES.md): period 6.6632868593231301897

@@ -32,17 +32,10 @@ import tempfile
 import time
 from pathlib import Path
 
+sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+from tests.models import DUFFING
+
 HEAVY = ("sympy", "numpy", "cvxpy", "lark", "matplotlib", "prompt_toolkit")
-MODEL = """\
-system duffing_like
-state x, y
-dx/dt = y
-dy/dt = -x + x^3 - y
-equilibrium origin at x = 0, y = 0
-equilibrium right at x = 1, y = 0
-claim origin stable
-claim right unstable
-"""
 PROBE = (
     "import sys\nfrom proofkit.cli import main\nimport contextlib, io\n"
     "with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):\n"
@@ -92,7 +85,7 @@ def main() -> None:
     py = [sys.executable]
     with tempfile.TemporaryDirectory() as tmp:
         model = Path(tmp) / "m.pk"
-        model.write_text(MODEL, encoding="utf-8")
+        model.write_text(DUFFING, encoding="utf-8")
         out = Path(tmp) / "out"
         subprocess.run(
             [*py, "-m", "proofkit", "prove", str(model), "--out", str(out)],
