@@ -18,6 +18,7 @@ from lark import Lark, Token, Tree
 from lark.exceptions import LarkError, UnexpectedCharacters, UnexpectedEOF, UnexpectedToken
 
 from proofkit.errors import InputError
+from proofkit.keywords import KEYWORDS, STATEMENT_WORDS
 from proofkit.lang._diagnostics import (
     Located,
     closest,
@@ -32,28 +33,6 @@ __all__ = ["KEYWORDS", "MAX_DEPTH", "MAX_FILE_CHARS", "parse_tree"]
 MAX_FILE_CHARS = 1 << 20  # 1 MiB of text
 MAX_DEPTH = 100  # nesting levels of an expression tree
 
-KEYWORDS = frozenset(
-    {
-        "system",
-        "constant",
-        "parameter",
-        "state",
-        "let",
-        "domain",
-        "equilibrium",
-        "at",
-        "claim",
-        "stable",
-        "unstable",
-        "globally",
-        "attracts",
-        "no",
-        "cycle",
-        "in",
-        "nominal",
-        "and",
-    }
-)
 # A newline right after one of these tokens continues the statement.
 _CONTINUE_AFTER = frozenset(
     {"ADDOP", "MULOP", "POW", "REL", "COMMA", "EQUAL", "AND", "LPAR", "LSQB", "IN"}
@@ -61,16 +40,6 @@ _CONTINUE_AFTER = frozenset(
 _OPEN = {"LPAR", "LSQB"}
 _CLOSE = {"RPAR", "RSQB"}
 _ALLOWED_CONTROL = {"\n", "\t", "\r", "\f"}
-_STATEMENT_WORDS = (
-    "system",
-    "constant",
-    "parameter",
-    "state",
-    "let",
-    "domain",
-    "equilibrium",
-    "claim",
-)
 
 _OLD_WORDS = {"param": "parameter", "const": "constant"}
 _PRIME_LINE = re.compile(r"(\s*)([A-Za-z_][A-Za-z0-9_]*)\s*('+)\s*=")
@@ -268,7 +237,7 @@ def _token_error(where: Located, tok: Token, prev: Token | None, expected: set[s
 
 def _statement_start_hint(where: Located, tok: Token) -> str:
     """The hint for a name where a statement should start."""
-    guess = closest(str(tok), _STATEMENT_WORDS)
+    guess = closest(str(tok), STATEMENT_WORDS)
     rest = (where.line_text(tok.line) or "")[tok.end_column - 1 :].lstrip()
     if rest.startswith("/") and str(tok).startswith("d"):
         state = str(tok)[1:] or "x"

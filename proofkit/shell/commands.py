@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from proofkit.errors import InputError
+from proofkit.keywords import STATEMENT_WORDS
 from proofkit.shell.model_text import Statement, StatementSet, key_of, split_statements
 from proofkit.shell.session import Session
 
@@ -44,17 +45,7 @@ def command(name: str, usage: str, help: str) -> Callable[[Callable[..., Any]], 
 
 def unknown(word: str, text: str) -> InputError:
     """The error for a line that is neither a statement nor a command."""
-    words = [
-        *COMMANDS,
-        "system",
-        "constant",
-        "parameter",
-        "state",
-        "let",
-        "domain",
-        "equilibrium",
-        "claim",
-    ]
+    words = [*COMMANDS, *STATEMENT_WORDS]
     near = difflib.get_close_matches(word, words, n=1)
     hint = (
         f"did you mean '{near[0]}'?"

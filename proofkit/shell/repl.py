@@ -16,6 +16,7 @@ from collections.abc import Iterable, Iterator
 from pathlib import Path
 from typing import Any, TextIO
 
+from proofkit.keywords import CLAIM_WORDS, STATEMENT_WORDS
 from proofkit.shell.model_text import unfinished
 from proofkit.shell.session import Session
 
@@ -25,19 +26,6 @@ PROMPT, MORE = "proofkit> ", "     ...> "
 BANNER = (
     "proofkit shell: type model statements (state x, y / dx/dt = ... / claim ...) or commands;\n"
     "'help' lists the commands, 'quit' or Ctrl-D leaves."
-)
-KEYWORDS = ("system", "constant", "parameter", "state", "let", "domain", "equilibrium", "claim")
-CLAIM_WORDS = (
-    "stable",
-    "unstable",
-    "globally",
-    "attracts",
-    "no",
-    "cycle",
-    "in",
-    "at",
-    "nominal",
-    "and",
 )
 FUNCTIONS = ("sin", "cos", "tan", "exp", "log", "sqrt", "tanh", "abs", "pi")
 FILE_COMMANDS = ("load", "save", "write", "portrait")
@@ -70,7 +58,7 @@ def candidates(session: Session, before: str) -> list[str]:
     word = "" if before.endswith(" ") or not words else words[-1]
     equations = [f"d{x}/dt = " for x in _states(session)]
     if len(words) == 0 or (len(words) == 1 and word):
-        pool: Iterable[str] = [*KEYWORDS, *COMMANDS, *equations]
+        pool: Iterable[str] = [*STATEMENT_WORDS, *COMMANDS, *equations]
     elif words[0] in ("edit", "drop", "linearize", "basin"):
         pool = [*_names(session), *(e.rstrip(" =") for e in equations), "claim", "domain"]
     else:
