@@ -40,7 +40,7 @@ def test_cubic_root_as_crootof() -> None:
     assert isinstance(e.point["x"], sp.CRootOf)
     t = sp.Symbol("t")
     assert sp.minimal_polynomial(e.point["x"], t) == t**3 - t - 1
-    assert e.numeric["x"] == pytest.approx(1.324717957244746)
+    assert e.numeric["x"] == pytest.approx(1.324717957244746)  # computed: numpy.roots, sympy
     assert e.verdict == "unstable" and e.type == "saddle"
 
 

@@ -38,8 +38,8 @@ def test_zero_in_first_column_epsilon_method() -> None:
 
 
 def test_row_of_zeros_auxiliary_polynomial() -> None:
-    # computed: sympy.roots gives 2, -2, -1, -4 (one root in the right half plane); the
-    # polynomial is a course exercise recalled from memory
+    # memory: a course exercise (source not confirmed); computed: sympy.roots gives 2, -2,
+    # -1, -4 (one root in the right half plane)
     r = routh_array([1, 5, 0, -20, -16])
     assert sp.roots(sp.Poly([1, 5, 0, -20, -16], S)) == {2: 1, -2: 1, -1: 1, -4: 1}
     assert r.auxiliary == ((2, 4 * S**2 - 16),)

@@ -51,8 +51,9 @@ def test_sum_of_squares_document_shows_basis_gram_and_squares() -> None:
     cert = parrilo_lecture_certificate()
     md = render_markdown(cert, audit_certificate(cert), META)
     assert "Gram matrix p with basis" in md and "LDL'" in md
-    # computed by hand: the LDL' form of the Gram matrix of the MIT 6.972 example (published:
-    # Parrilo's lecture notes) is x1^2 - x1 x2^2 + x2^4 = (x1 - x2^2/2)^2 + 3/4 x2^4
+    # published: the polynomial p = x1^2 - x1 x2^2 + x2^4 + 1 (MIT 6.972 lecture notes,
+    # Parrilo); computed by hand: the LDL' form of its Gram matrix [[1, 0, 0], [0, 1, -1/2],
+    # [0, -1/2, 1]] in the basis (1, x1, x2^2) is p = 1 + (x1 - x2^2/2)^2 + 3/4 (x2^2)^2
     assert "\\left(-\\frac{1}{2} x_{2}^{2} + x_{1}\\right)^2" in md
     assert "\\frac{3}{4}\\left(x_{2}^{2}\\right)^2" in md
     big = motzkin_times_certificate()

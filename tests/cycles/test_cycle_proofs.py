@@ -4,8 +4,8 @@ Sources of the facts checked here:
 - duct whistle (worked/duct_whistle.pk, an invented demo): by hand, W = p^2 + 2 v^2
   has lie(W) = 2 g (p^2 + v^2) with g = 1 - W, and div f = 3/2 - 7/2 p^2 - 5 v^2;
 - the system dx/dt = y, dy/dt = -x - y + x^2 + y^2 has the Dulac function exp(-2x) with
-  div(B f) = -exp(-2x) (Strogatz, Nonlinear Dynamics and Chaos, section 7.2; the
-  exercise number: memory). Derived by hand here: its truncation
+  div(B f) = -exp(-2x) (published: Strogatz, Nonlinear Dynamics and Chaos, section 7.2; the
+  exercise number: memory). Computed by hand here: its truncation
   B = -(1 - 2x + 2x^2) gives div(B f) = 1 - 2x + 2x^2 - 4x^2 y (checked with sympy
   below), positive on the disc x^2 + y^2 <= 9/25, while div f = -1 + 2y changes sign
   there, so Bendixson's criterion (B constant) cannot work;
