@@ -26,7 +26,7 @@ claim plus unstable
 claim minus stable
 """
 
-# The reversed-time oscillator (REFERENCES.md; Khalil, Nonlinear Systems, sec. 8.2).
+# The reversed-time oscillator (published: Khalil, Nonlinear Systems, sec. 8.2; REFERENCES.md).
 REVERSED_TEXT = """\
 system reversed_oscillator
 state x1, x2
