@@ -117,7 +117,8 @@ A, B, C = SYMS[:3]
 # computed: each p below was built as the weighted sum of squares in its comment; all
 # failed before iterated facial reduction (kept as named regressions).
 REGRESSIONS = {
-    # reported: a^4/4 + 24a^2 + 10ab^2 + b^4 + 1 = (b^2 + 5a)^2 + (a^2/2 - 1)^2, real zeros
+    # a reported failure; computed by hand: a^4/4 + 24a^2 + 10ab^2 + b^4 + 1 =
+    # (b^2 + 5a)^2 + (a^2/2 - 1)^2, real zeros
     # at a = -sqrt(2), b^2 = 5 sqrt(2).
     "irrational_zeros_two_squares": (
         A**4 / 4 + 24 * A**2 + 10 * A * B**2 + B**4 + 1,
