@@ -49,9 +49,9 @@ def register(subparsers: Any) -> None:
     p.add_argument(
         "--budget",
         type=float,
-        default=50.0,
+        default=40.0,
         metavar="SECONDS",
-        help="search time per degree before the best set is made exact (50)",
+        help="search time per degree before the best set is made exact (40)",
     )
     p.add_argument("--json", action="store_true", help="print the result as JSON")
     p.add_argument("--out", metavar="DIR", help="write certificate, documents and picture to DIR")

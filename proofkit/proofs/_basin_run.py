@@ -26,7 +26,7 @@ from proofkit.model import Model
 __all__ = ["BasinRun", "estimate_basin"]
 
 Say = Callable[[str], None]
-SECONDS_PER_DEGREE = 50.0
+SECONDS_PER_DEGREE = 40.0
 NOT_ATTEMPTED = "not attempted: 'proofkit basin' certifies only the region of attraction"
 
 

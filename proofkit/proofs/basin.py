@@ -396,10 +396,16 @@ def attempt(model: Model, claim: Claim, progress: Say | None = None) -> ProofAtt
     setup = setup_basin(model, claim.target or "", claim.region, say)
     if isinstance(setup, str):
         return _not_proved(model, claim, setup)
-    from proofkit.proofs._basin_refute import refute
+    from proofkit.proofs._basin_refute import DisagreementError, refute
 
-    refuted = refute(model, claim, setup)  # cheap, and a false claim needs no search
+    refuted = refute(model, claim, setup)  # cheap, and a false claim needs no long search
     if refuted is not None:
+        for search, it in run_search(setup, (), say, 1.0, first=True):  # the quick proof only
+            if isinstance(certify(setup, search, it), BasinCertificate):
+                raise DisagreementError(
+                    f"internal error: {claim.text!r} has a certificate and a simulated "
+                    f"counterexample ({refuted.detail}); please report this bug"
+                )
         return refuted
     t0 = time.perf_counter()
     why = "no sublevel set was found"

@@ -63,7 +63,7 @@ class AscentSettings:
     eps: float = 1e-5
     directions: int = 256
     solver: str = "CLARABEL"
-    s0_relative: int | None = None  # s0 of degree at least deg V + this, when set
+    s0_relative: int | None = -2  # s0 of degree at least deg V + this (None: s0_degree only)
     max_gram: int = 40  # s0's degree is lowered (not below 2) while the decrease Gram exceeds this
     ring_margin: float = 0.5  # shape step keeps this share of the level probe's margin
     steps: tuple[float, ...] = (1.0, 0.5, 0.25, 0.125)  # line search on the shape step

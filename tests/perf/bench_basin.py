@@ -119,7 +119,7 @@ def run(text: str, degrees: list[int], budget: float, true_size: float | None) -
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("--degrees", default="2,4,6,8")
-    ap.add_argument("--budget", type=float, default=50.0, help="search seconds per degree")
+    ap.add_argument("--budget", type=float, default=40.0, help="search seconds per degree")
     ap.add_argument("--skip-four", action="store_true", help="skip the 4-state model")
     args = ap.parse_args()
     degrees = [int(d) for d in args.degrees.split(",")]
