@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import copy
+import itertools
 import json
 from fractions import Fraction
 
@@ -184,3 +185,30 @@ def test_certificates_validate_against_the_json_schema(culture_run, swing_run) -
     validator = jsonschema.Draft202012Validator(json.loads(text))
     for run in (culture_run, swing_run):
         validator.validate(json.loads(run.text))
+
+
+@given(
+    st.integers(1, 5).flatmap(
+        lambda n: st.lists(
+            st.lists(st.fractions(-9, 9, max_denominator=4), min_size=n, max_size=n),
+            min_size=n,
+            max_size=n,
+        )
+    )
+)
+def test_interval_routh_counts_match_numpy(a: list[list[Fraction]]) -> None:
+    # computed (numpy): on point intervals the audit's characteristic polynomial equals
+    # numpy.poly and a decided Routh column counts the eigenvalues with positive real part
+    import numpy as np
+
+    from proofkit.audit.enclosures import _interval_char_poly, _interval_routh
+
+    cp = _interval_char_poly([[(v, v) for v in row] for row in a])
+    m = np.array(a, dtype=float)
+    assert np.allclose([float(lo) for lo, _ in cp], np.poly(m))
+    signs = _interval_routh(cp)
+    assume(0 not in signs)
+    eig = np.linalg.eigvals(m)
+    assume(min(abs(z.real) for z in eig) > 1e-9)
+    changes = sum(1 for x, y in itertools.pairwise(signs) if x != y)
+    assert changes == sum(1 for z in eig if z.real > 0)
