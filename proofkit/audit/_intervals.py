@@ -51,8 +51,13 @@ def _up(x: Fraction, bits: int) -> Fraction:
     return Fraction(math.ceil(x * 2**bits), 2**bits)
 
 
+MAX_VALUE = Fraction(2**4096)  # a larger intermediate value is refused (bounded work)
+
+
 def rounded(a: Interval, bits: int) -> Interval:
-    """``a`` widened outward to the grid ``2^-bits``."""
+    """``a`` widened outward to the grid ``2^-bits``; refused when beyond ``2^4096``."""
+    if max(abs(a[0]), abs(a[1])) > MAX_VALUE:
+        raise Undefined("an intermediate value exceeds 2^4096")
     return _down(a[0], bits), _up(a[1], bits)
 
 

@@ -192,7 +192,7 @@ def jacobian_enclosure(
     try:
         duals = [evaluate(e, _inputs(box, model), bits) for e in exprs]
     except Undefined as exc:
-        raise Rejected("definedness", f"the field may be undefined in the box: {exc}") from None
+        raise Rejected("definedness", f"the field cannot be enclosed on the box: {exc}") from None
     return [d.v for d in duals], [list(d.d) for d in duals]
 
 

@@ -212,3 +212,21 @@ def test_interval_routh_counts_match_numpy(a: list[list[Fraction]]) -> None:
     assume(min(abs(z.real) for z in eig) > 1e-9)
     changes = sum(1 for x, y in itertools.pairwise(signs) if x != y)
     assert changes == sum(1 for z in eig if z.real > 0)
+
+
+def test_hostile_expression_trees_end_quickly(swing_run) -> None:
+    # nested 64th powers would grow to millions of digits: refused past 2^4096, fast
+    import time
+
+    cert = json.loads(swing_run.text)
+    tree: list = ["var", 0]
+    for _ in range(6):
+        tree = ["^", ["+", tree, "123456789/7"], 64]
+    cert["model"]["expressions"]["components"][0] = tree
+    t0 = time.monotonic()
+    verdicts = audit_certificate(cert).claims
+    assert all(v.status == "rejected" for v in verdicts)
+    assert time.monotonic() - t0 < 5
+    for bad in (["sin"], ["var", 7], ["^", ["var", 0], 65], ["frobnicate", "1"], 3):
+        cert["model"]["expressions"]["components"][0] = bad
+        assert _status(cert) == "format error"
