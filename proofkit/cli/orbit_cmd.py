@@ -23,6 +23,8 @@ import sys
 from pathlib import Path
 from typing import Any
 
+from proofkit.cli._common import add_command, progress_printer
+
 __all__ = ["register", "run"]
 
 EXAMPLE = """example:
@@ -40,18 +42,18 @@ NOT_PROOF = "numerical findings in floating point, not proofs"
 
 
 def register(subparsers: Any) -> None:
-    p = subparsers.add_parser(
+    p = add_command(
+        subparsers,
         "orbit",
-        help="locate periodic orbits numerically (period, amplitude, Floquet multipliers)",
+        summary="locate periodic orbits numerically (period, amplitude, Floquet multipliers)",
         description="Locate the periodic orbits of a model numerically: simulations from a grid "
         "of starts (forward and backward in time), then Newton's method on the Poincare return "
         "map. Reports period, amplitudes, Floquet multipliers and orbital stability. "
         "Numerical findings, not proofs.",
         epilog=EXAMPLE,
-        formatter_class=argparse.RawDescriptionHelpFormatter,
+        func=run,
+        json_help='print {"cycles": [...]} as JSON',
     )
-    p.add_argument("file", metavar="FILE", help="model file (.pk)")
-    p.add_argument("--json", action="store_true", help='print {"cycles": [...]} as JSON')
     p.add_argument("--out", metavar="DIR", help="write orbits.png and period.png into DIR")
     p.add_argument(
         "--box",
@@ -60,8 +62,6 @@ def register(subparsers: Any) -> None:
         default=3.0,
         help="starts fill the box [-W, W] in every state (default 3, at most 1e6)",
     )
-    p.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
-    p.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -73,7 +73,7 @@ def run(args: argparse.Namespace) -> int:
     if args.out == "":
         raise InputError("--out: expected a directory name, not an empty string")
     model = load(args.file)
-    say = (lambda _m: None) if args.quiet else (lambda m: print(m, file=sys.stderr))
+    say = progress_printer(args.quiet)
     from proofkit.analysis.orbits import find_cycles
 
     box = tuple((-args.box, args.box) for _ in model.states)

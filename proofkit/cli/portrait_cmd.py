@@ -20,6 +20,8 @@ from fractions import Fraction
 from pathlib import Path
 from typing import Any
 
+from proofkit.cli._common import add_command, progress_printer
+
 __all__ = ["register", "run"]
 
 EXAMPLE = """example:
@@ -30,16 +32,17 @@ EXAMPLE = """example:
 
 
 def register(subparsers: Any) -> None:
-    p = subparsers.add_parser(
+    p = add_command(
+        subparsers,
         "portrait",
-        help="draw a phase portrait (PNG, SVG or PDF)",
+        summary="draw a phase portrait (PNG, SVG or PDF)",
         description="Draw the phase portrait of a model: streamlines, equilibria marked by "
         "verdict, saddle separatrices, sample trajectories, certified regions from an audited "
         "certificate and, with --cycles, located periodic orbits. An illustration, not evidence.",
         epilog=EXAMPLE,
-        formatter_class=argparse.RawDescriptionHelpFormatter,
+        func=run,
+        json_help="print what was drawn as JSON",
     )
-    p.add_argument("file", metavar="FILE", help="model file (.pk)")
     p.add_argument(
         "-o",
         "--output",
@@ -60,9 +63,6 @@ def register(subparsers: Any) -> None:
         help="value of a state held fixed off the plane (repeatable; exact numbers like 1/2)",
     )
     p.add_argument("--cycles", action="store_true", help="locate periodic orbits and draw them")
-    p.add_argument("--json", action="store_true", help="print what was drawn as JSON")
-    p.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
-    p.set_defaults(func=run)
 
 
 def _fixed(items: list[str]) -> dict[str, float]:
@@ -98,9 +98,7 @@ def _output(args: argparse.Namespace) -> Path:
 def run(args: argparse.Namespace) -> int:
     from proofkit.api import portrait
 
-    def say(msg: str) -> None:
-        if not args.quiet:
-            print(f"proofkit: {msg}", file=sys.stderr)
+    say = progress_printer(args.quiet)
 
     out = _output(args)
     plane = [s.strip() for s in args.plane.split(",")] if args.plane else None

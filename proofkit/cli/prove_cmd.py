@@ -26,6 +26,8 @@ import sys
 from pathlib import Path
 from typing import Any
 
+from proofkit.cli._common import add_command, clean, progress_printer
+
 __all__ = ["STATUS_WORDS", "register", "run", "status_word", "write_outputs"]
 
 STATUS_WORDS = ("proved", "refuted", "not proved")
@@ -41,25 +43,24 @@ exit codes: 0 all claims proved, 1 some claim refuted or not proved,
 
 
 def register(subparsers: Any) -> None:
-    p = subparsers.add_parser(
+    p = add_command(
+        subparsers,
         "prove",
-        help="prove the claims of a model and write an audited certificate",
+        summary="prove the claims of a model and write an audited certificate",
         description="Prove each claim of a model with the methods available; a claim counts "
         "as proved only after the audit accepted the certificate. Each claim ends as "
         "'proved', 'refuted' (with the evidence or counterexample) or 'not proved' (with "
         "the reason).",
         epilog=_EXAMPLE,
-        formatter_class=argparse.RawDescriptionHelpFormatter,
+        func=run,
+        json_help="print the claim results as JSON",
+        quiet_help="no progress messages on stderr",
     )
-    p.add_argument("file", metavar="FILE", help="model file (.pk)")
-    p.add_argument("--json", action="store_true", help="print the claim results as JSON")
     p.add_argument(
         "--out",
         metavar="DIR",
         help="write certificate.json, proof.md, proof.tex (and figures) into DIR",
     )
-    p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
-    p.set_defaults(func=run)
 
 
 def status_word(status: str) -> str:
@@ -126,25 +127,20 @@ def _summary(outcomes: Any) -> dict[str, int]:
     return counts
 
 
-def _clean(text: str) -> str:
-    """Printable text only: control characters could rewrite the terminal line."""
-    return "".join(c if c.isprintable() else f"\\x{ord(c):02x}" for c in text)
-
-
 def summary_text(result: Any, sha256: str) -> str:
     """The text report of a run: one line per claim, then the counts and the audit."""
     lines = []
     for o in result.outcomes:
         word = status_word(o.status)
         method = f" [{o.method}]" if o.method and word != "not proved" else ""
-        lines.append(f"{word:<10}  {_clean(o.claim)}{method}: {_clean(o.detail)}")
+        lines.append(f"{word:<10}  {clean(o.claim)}{method}: {clean(o.detail)}")
     c = _summary(result.outcomes)
     lines.append(
         f"{c['proved']} of {len(result.outcomes)} claim(s) proved, {c['refuted']} refuted, "
         f"{c['not proved']} not proved; certificate audited exactly once (sha256 {sha256[:16]})"
     )
     if not result.provenance.ok:
-        lines.append("provenance problems: " + _clean("; ".join(result.provenance.problems)))
+        lines.append("provenance problems: " + clean("; ".join(result.provenance.problems)))
     return "\n".join(lines)
 
 
@@ -168,11 +164,7 @@ def run(args: argparse.Namespace) -> int:
     from proofkit import load
     from proofkit.proofs import prove_model
 
-    quiet = getattr(args, "quiet", False)
-
-    def progress(msg: str) -> None:
-        if not quiet:
-            print(f"proofkit: {_clean(msg)}", file=sys.stderr)
+    progress = progress_printer(getattr(args, "quiet", False))
 
     model = load(args.file)
     result = prove_model(model, progress)

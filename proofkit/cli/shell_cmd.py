@@ -11,6 +11,8 @@ from __future__ import annotations
 import argparse
 from typing import Any
 
+from proofkit.cli._common import add_command
+
 __all__ = ["register", "run"]
 
 EXAMPLE = """example:
@@ -31,25 +33,20 @@ inside the shell:
 
 
 def register(subparsers: Any) -> None:
-    p = subparsers.add_parser(
+    add_command(
+        subparsers,
         "shell",
-        help="type a model line by line and ask questions interactively",
+        summary="type a model line by line and ask questions interactively",
         description="An interactive session: type model statements line by line (re-typing "
         "one with the same name replaces it) and ask questions with commands (show, "
         "equilibria, linearize, try, prove, basin, cycles, write, portrait, load, save, edit, "
         "drop, undo, help). "
         "Errors are shown with a caret and the session goes on.",
         epilog=EXAMPLE,
-        formatter_class=argparse.RawDescriptionHelpFormatter,
+        func=run,
+        json_help="answer each input line with one JSON object (input, ok, output lines, results)",
+        file_optional=True,
     )
-    p.add_argument("file", metavar="FILE", nargs="?", help="model file (.pk) to start from")
-    p.add_argument("--quiet", action="store_true", help="no progress lines on stderr")
-    p.add_argument(
-        "--json",
-        action="store_true",
-        help="answer each input line with one JSON object (input, ok, output lines, results)",
-    )
-    p.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
