@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import math
 import time
+import warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
@@ -182,7 +183,9 @@ class BasinSearch:
     def _solve(self, prob: cp.Problem) -> bool:
         t0 = time.perf_counter()
         try:
-            prob.solve(solver=self.cfg.solver)
+            with warnings.catch_warnings():  # "inaccurate" is in prob.status already
+                warnings.simplefilter("ignore", UserWarning)
+                prob.solve(solver=self.cfg.solver)
         except cp.error.SolverError:
             return False
         finally:
@@ -412,7 +415,9 @@ def fit_squares(
     cons += [lhs == index.vector(p0), qv - lam * np.eye(basis.shape[0]) >> 0, lam <= 1]
     prob = cp.Problem(cp.Maximize(lam), cons)
     try:
-        prob.solve(solver=solver)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", UserWarning)
+            prob.solve(solver=solver)
     except cp.error.SolverError:
         return None
     if prob.status not in ("optimal", "optimal_inaccurate") or lam.value is None:
