@@ -1,7 +1,7 @@
 """The reserved words of the model language, in one place (standard library only).
 
-The parser (``proofkit.lang._syntax``: reserved names, "did you mean" hints)
-and the interactive shell (``proofkit.shell``: completion, unknown-line hints)
+The parser (``proofkit.lang``: reserved names, function names, "did you mean"
+hints) and the interactive shell (``proofkit.shell``: completion, unknown-line hints)
 both read these tuples, so the two never disagree about what starts a
 statement. This module must never import anything heavy (the shell starts
 without lark or sympy) and holds no grammar rules: ``grammar/model.lark`` is
@@ -10,7 +10,7 @@ the language; change both together.
 
 from __future__ import annotations
 
-__all__ = ["CLAIM_WORDS", "KEYWORDS", "STATEMENT_WORDS"]
+__all__ = ["CLAIM_WORDS", "FUNCTION_NAMES", "KEYWORDS", "STATEMENT_WORDS"]
 
 # Words that start a statement (besides a time derivative ``dx/dt = ...``).
 STATEMENT_WORDS = (
@@ -37,3 +37,5 @@ CLAIM_WORDS = (
     "and",
 )
 KEYWORDS = frozenset(STATEMENT_WORDS + CLAIM_WORDS)
+# The functions an expression may call (``proofkit.model.ELEMENTARY`` maps sympy's to these).
+FUNCTION_NAMES = ("sin", "cos", "tan", "exp", "log", "sqrt", "tanh", "abs")

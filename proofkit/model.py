@@ -26,6 +26,7 @@ import sympy as sp
 from proofkit.errors import ModelError, SourceSpan
 
 __all__ = [
+    "ELEMENTARY",
     "Claim",
     "ClaimKind",
     "Condition",
@@ -38,6 +39,18 @@ __all__ = [
     "Param",
     "Region",
 ]
+
+# The elementary functions a field may contain (sympy's classes), with their names in the
+# language; ``sqrt`` is a power in sympy and so is not listed.
+ELEMENTARY: dict[type, str] = {
+    sp.sin: "sin",
+    sp.cos: "cos",
+    sp.tan: "tan",
+    sp.exp: "exp",
+    sp.log: "log",
+    sp.tanh: "tanh",
+    sp.Abs: "abs",
+}
 
 ClaimKind = Literal["stable", "unstable", "globally stable", "attracts", "no cycle", "cycle"]
 Relation = Literal["<=", "<", ">=", ">"]

@@ -20,6 +20,7 @@ import flint
 import sympy as sp
 
 from proofkit.errors import ModelError
+from proofkit.model import ELEMENTARY
 
 __all__ = ["ArbFunction", "arb_value", "compile_arb", "from_rational_interval"]
 
@@ -45,14 +46,7 @@ def _crootof_ball(r: sp.CRootOf, prec: int) -> flint.arb:
     return from_rational_interval(lo, hi)
 
 
-_UNARY = {
-    sp.sin: "sin",
-    sp.cos: "cos",
-    sp.tan: "tan",
-    sp.exp: "exp",
-    sp.log: "log",
-    sp.tanh: "tanh",
-}
+_UNARY = {f: name for f, name in ELEMENTARY.items() if f is not sp.Abs}  # arb methods
 
 
 def _fold(parts: list[ArbFunction], add: bool) -> ArbFunction:

@@ -24,6 +24,8 @@ from typing import Literal
 import flint
 import sympy as sp
 
+from proofkit.model import ELEMENTARY
+
 __all__ = ["Box", "Budget", "Decision", "ball_of", "holds_on", "qinterval", "zero_test"]
 
 Box = Mapping[sp.Symbol, tuple[Fraction, Fraction]]
@@ -110,14 +112,7 @@ def qinterval(e: sp.Expr, box: Box) -> QI | None:
 
 
 # --- balls ------------------------------------------------------------------------------
-_FUNCS = {
-    sp.sin: "sin",
-    sp.cos: "cos",
-    sp.tan: "tan",
-    sp.exp: "exp",
-    sp.log: "log",
-    sp.tanh: "tanh",
-}
+_FUNCS = {f: name for f, name in ELEMENTARY.items() if f is not sp.Abs}  # ball methods
 
 
 def _arb_q(v: Fraction) -> flint.arb:

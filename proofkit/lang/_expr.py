@@ -22,6 +22,7 @@ from lark import Token, Transformer, Tree, v_args
 from lark.exceptions import VisitError
 
 from proofkit.errors import InputError
+from proofkit.keywords import FUNCTION_NAMES
 from proofkit.lang._diagnostics import Located, closest, make_error
 from proofkit.lang._exact import ball_of
 from proofkit.lang._limits import (
@@ -32,7 +33,7 @@ from proofkit.lang._limits import (
     NumberSizes,
     digits_of_bits,
 )
-from proofkit.model import Definedness
+from proofkit.model import ELEMENTARY, Definedness
 
 __all__ = [
     "FUNCTIONS",
@@ -57,15 +58,9 @@ MAX_LITERAL_EXPONENT = 300  # |e| in a literal like 1e-3
 MAX_NODES = 100_000  # operations in one expression once shorthands are substituted
 MAX_EXPR_DEPTH = 200  # depth of one expression once shorthands are substituted
 
+_BY_NAME: dict[str, Callable[[sp.Expr], sp.Expr]] = {n: f for f, n in ELEMENTARY.items()}
 FUNCTIONS: dict[str, Callable[[sp.Expr], sp.Expr]] = {
-    "sin": sp.sin,
-    "cos": sp.cos,
-    "tan": sp.tan,
-    "exp": sp.exp,
-    "log": sp.log,
-    "sqrt": sp.sqrt,
-    "tanh": sp.tanh,
-    "abs": sp.Abs,
+    n: sp.sqrt if n == "sqrt" else _BY_NAME[n] for n in FUNCTION_NAMES
 }
 _NUMBER_RE = re.compile(r"([0-9]*)(?:\.([0-9]*))?(?:[eE]([+-]?[0-9]+))?")
 _NOT_REAL = (sp.I, sp.zoo, sp.nan, sp.oo, sp.S.NegativeInfinity)

@@ -14,20 +14,12 @@ from __future__ import annotations
 
 import sympy as sp
 
-from proofkit.model import Condition, Model, Region
+from proofkit.model import ELEMENTARY, Condition, Model, Region
 
 __all__ = ["format_condition", "format_expr", "format_model", "format_region"]
 
 _ADD, _NEG, _MUL, _POW, _ATOM = 1, 2, 3, 4, 5
-_FUNCS: dict[type, str] = {
-    sp.sin: "sin",
-    sp.cos: "cos",
-    sp.tan: "tan",
-    sp.exp: "exp",
-    sp.log: "log",
-    sp.tanh: "tanh",
-    sp.Abs: "abs",
-}
+_FUNCS = ELEMENTARY
 # Functions sympy may produce on its own, written with the language's functions.
 _RECIPROCAL: dict[type, str] = {sp.sec: "cos", sp.csc: "sin", sp.coth: "tanh"}
 

@@ -6,6 +6,9 @@ command it interrupts the work and the session goes on; Ctrl-D or end of
 input leaves with exit code 0. History is kept in ``$PROOFKIT_HISTORY``
 (default ``~/.local/state/proofkit/shell_history``; an empty value keeps it
 in memory only).
+
+It must never evaluate typed text as Python; prompt_toolkit is imported only on a
+terminal.
 """
 
 from __future__ import annotations
@@ -16,7 +19,7 @@ from collections.abc import Iterable, Iterator
 from pathlib import Path
 from typing import Any, TextIO
 
-from proofkit.keywords import CLAIM_WORDS, STATEMENT_WORDS
+from proofkit.keywords import CLAIM_WORDS, FUNCTION_NAMES, STATEMENT_WORDS
 from proofkit.shell.model_text import unfinished
 from proofkit.shell.session import Session
 
@@ -27,7 +30,7 @@ BANNER = (
     "proofkit shell: type model statements (state x, y / dx/dt = ... / claim ...) or commands;\n"
     "'help' lists the commands, 'quit' or Ctrl-D leaves."
 )
-FUNCTIONS = ("sin", "cos", "tan", "exp", "log", "sqrt", "tanh", "abs", "pi")
+FUNCTIONS = (*FUNCTION_NAMES, "pi")
 FILE_COMMANDS = ("load", "save", "write", "portrait")
 
 
