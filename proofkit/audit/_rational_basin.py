@@ -93,10 +93,22 @@ def reparametrized(model: ModelData, point: list[Num]) -> tuple[ModelData, Poly]
     for num, den in zip(nums, dens, strict=True):
         others = [d for d in distinct if d != den]
         g.append(poly_scale(poly_mul(num, _product(others, n)), sign))
+    for k, (c, strict) in enumerate(model.conditions):
+        c = _nominal(c, model)
+        implied = strict and any(_proportional(c, poly_mul(d, d)) for d in distinct)
+        require(implied, "definedness", f"condition {k + 1} is not a nonzero denominator")
     view = ModelData(
         model.states, (), model.states, tuple(g), None, (), model.domain, model.equilibria
     )
     return view, q
+
+
+def _proportional(p: Poly, q: Poly) -> bool:
+    """``p = c q`` for a rational ``c > 0``."""
+    if not p or set(p) != set(q):
+        return False
+    ratios = {p[e].a / q[e].a for e in p}
+    return len(ratios) == 1 and next(iter(ratios)) > 0
 
 
 @schema("attracts", "sublevel-set-rational", "region-of-attraction-rational-field")

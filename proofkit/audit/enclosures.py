@@ -49,6 +49,7 @@ from proofkit.audit._intervals import (
     iv_div,
     iv_mul,
     iv_neg,
+    iv_pow,
     pi_interval,
     point,
 )
@@ -215,6 +216,7 @@ def _polynomial_view(model: ModelData, claim: ClaimData, checks: Checks) -> Mode
     values += [poly_constant(Num.of(p.nominal or 0), n) for p in model.uncertain]
     x = list(claim.point or ())
     nums: list[Poly] = []
+    conditions = tuple((poly_substitute(g, values, n), s) for g, s in model.conditions)
     for i, (num, den) in enumerate(
         zip(model.numerators or (), model.denominators or (), strict=True)
     ):
@@ -222,9 +224,10 @@ def _polynomial_view(model: ModelData, claim: ClaimData, checks: Checks) -> Mode
         require(not dval.is_zero(), "definedness", f"denominator {i + 1} is 0 at the point")
         nums.append(poly_scale(poly_substitute(num, values, n), Num.of(1) / dval))
     checks.ok("every denominator is nonzero at the point (exact), so the field is defined near it")
-    return ModelData(
-        model.states, (), model.states, tuple(nums), None, (), model.domain, model.equilibria
-    )
+    return ModelData(  # the linear schema checks the conditions strictly at the point
+        model.states, (), model.states, tuple(nums), None, conditions, model.domain,
+        model.equilibria,
+    )  # fmt: skip
 
 
 @schema("stable", "linearization-rational", "indirect-method-stability")
@@ -307,6 +310,25 @@ def _read_interval(data: Any, grid: int | None, where: str) -> Interval:
     return lo, hi
 
 
+def _conditions_on_box(model: ModelData, box: list[Interval]) -> None:
+    """Every condition where the field is defined holds on all of the box (interval bound)."""
+    n = len(box)
+    values = [{tuple(int(i == j) for j in range(n)): Num.of(1)} for i in range(n)]
+    values += [poly_constant(Num.of(p.nominal or 0), n) for p in model.uncertain]
+    for k, (g, strict) in enumerate(model.conditions):
+        acc = point(Fraction(0))
+        if len(model.variables) != len(values):  # no field variables: constant conditions
+            require(all(not any(e) for e in g), "definedness", "a condition has no variables")
+            g = {tuple(0 for _ in range(len(values))): c for c in g.values()}
+        for e, c in poly_substitute(g, values, n).items():
+            term = point(c.a)
+            for x, power in zip(box, e, strict=True):
+                term = iv_mul(term, iv_pow(x, power)) if power else term
+            acc = iv_add(acc, term)
+        ok = acc[0] > 0 if strict else acc[0] >= 0
+        require(ok, "definedness", f"condition {k + 1} where the field is defined may fail in X")
+
+
 def _krawczyk(model: ModelData, box: list[Interval], y: list[list[Fraction]], bits: int) -> None:
     """K(X) strictly inside X: exactly one zero of f in X (Krawczyk 1969, Moore 1977)."""
     n = len(box)
@@ -346,6 +368,7 @@ def _enclosure_signs(model: ModelData, claim: ClaimData, checks: Checks) -> list
         f"expected {n} rows of {n} numbers",
     )
     y = [[read_number(v, 0, f"{w}.preconditioner").a for v in r] for r in raw_y]
+    _conditions_on_box(model, box)
     _krawczyk(model, box, y, bits)
     checks.ok(
         "the field is defined on the box X and K(X) lies strictly inside X (Krawczyk): "

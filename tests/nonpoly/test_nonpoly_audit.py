@@ -230,3 +230,16 @@ def test_hostile_expression_trees_end_quickly(swing_run) -> None:
     for bad in (["sin"], ["var", 7], ["^", ["var", 0], 65], ["frobnicate", "1"], 3):
         cert["model"]["expressions"]["components"][0] = bad
         assert _status(cert) == "format error"
+
+
+def test_conditions_where_the_field_is_defined_are_checked(culture_run, swing_run) -> None:
+    # a condition that fails at the point (culture: -s > 0 at s = 1) or somewhere in the
+    # Krawczyk box (swing: x1 - 1 > 0 near 0) rejects the linearization, core only
+    cert = json.loads(culture_run.text)
+    cert["model"]["conditions"].append({"g": [[[1, 0], "-1"]], "strict": True})
+    assert audit_certificate(cert).claims[0].status == "rejected"
+    # a field without polynomial form states its conditions over no variables: constants
+    cert = json.loads(swing_run.text)
+    cert["model"]["conditions"].append({"g": [[[], "-1"]], "strict": True})
+    verdict = audit_certificate(cert).claims[0]
+    assert verdict.status == "rejected" and verdict.failed_step == "definedness"

@@ -61,3 +61,10 @@ def test_claim_set_through_a_pole_never_proved() -> None:
     run = prove_text(pole + "claim o attracts x^2 + y^2 <= 1/4\n")
     assert run.outcomes[0].status != "proved"
     assert full_audit_ok(run.text)
+
+
+def test_condition_other_than_a_denominator_rejected(basin_run) -> None:
+    cert = json.loads(basin_run.text)
+    cert["model"]["conditions"].append({"g": [[[1, 0], "1"]], "strict": False})  # s >= 0
+    verdict = audit_certificate(cert).claims[0]
+    assert verdict.status == "rejected" and verdict.failed_step == "definedness"
