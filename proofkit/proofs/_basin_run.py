@@ -157,7 +157,7 @@ def estimate_basin(
     """The largest audited ``{V <= level}`` of this degree around ``equilibrium``."""
     from proofkit.proofs._basin_sim import numeric
     from proofkit.proofs._basin_size import size_of
-    from proofkit.proofs.basin import MAX_GRAM, run_search, setup_basin
+    from proofkit.proofs.basin import MAX_GRAM, _lyapunov_start, run_search, setup_basin
 
     say = progress or (lambda _m: None)
     t0 = time.perf_counter()
@@ -165,6 +165,12 @@ def estimate_basin(
     setup = setup_basin(model, name, None, say)
     if isinstance(setup, str):
         return BasinRun(name, degree, "not proved", reason=setup)
+    if _lyapunov_start(setup) is None:
+        reason = (
+            f"the linearization at {name} has an eigenvalue with real part >= 0 (numerically): "
+            "no quadratic Lyapunov function to start from, no region of attraction searched"
+        )
+        return BasinRun(name, degree, "not proved", reason=reason, seconds=time.perf_counter() - t0)
     degrees = tuple(range(2, degree + 1, 2))
     found, solver = [], 0.0
     for search, it in run_search(setup, degrees, say, seconds_per_degree):
