@@ -73,9 +73,50 @@ def _rational(model: Model, claim: Claim) -> tuple[str | None, dict[str, Any], s
     return _evidence(model, claim, 0)
 
 
+def _visible(field: tuple[sp.Expr, ...]) -> list[sp.Expr]:
+    """Expressions whose sign the written field itself constrains (arguments, denominators)."""
+    out = []
+    for f in field:
+        for e in sp.preorder_traversal(f):
+            if isinstance(e, sp.log):
+                out.append(e.args[0])
+            elif isinstance(e, sp.tan):
+                out.append(sp.cos(e.args[0]))
+            elif isinstance(e, sp.Pow) and e.exp.is_Rational and (e.exp < 0 or e.exp.q != 1):
+                out.append(e.base)
+    return out
+
+
+def _hidden_condition(model: Model) -> str | None:
+    """A condition where the field is defined that simplification removed from the field.
+
+    The certificate carries the written field only (its trees constrain log and sqrt
+    arguments and denominators); such a condition would go unchecked, so no proof.
+    """
+    nominal = model.at_nominal()
+    visible = _visible(nominal.field)
+    for d in nominal.definedness:
+        found = False
+        for v in visible:
+            ratio = sp.cancel(d.expr / v)
+            if not ratio.free_symbols and ratio != 0:
+                found = True
+                break
+        if not found:
+            return f"{d.expr} {d.relation} 0 ({d.origin})"
+    return None
+
+
 def _enclosure(model: Model, point: list[Any]) -> tuple[str | None, dict[str, Any], str]:
     from proofkit.analysis.enclosure import linearization_enclosure
 
+    hidden = _hidden_condition(model)
+    if hidden is not None:
+        why = (
+            f"the field is defined only where {hidden}, a condition that simplification "
+            "removed from the written field; the certificate cannot carry it yet"
+        )
+        return None, {}, why
     nominal = model.at_nominal()
     enc = linearization_enclosure(nominal.field, nominal.state_symbols, point)
     if not enc.decided:

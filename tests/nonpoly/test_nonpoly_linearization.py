@@ -113,3 +113,14 @@ def test_other_functions_exp_log_sqrt_tanh_tan() -> None:
 def test_pendulum_with_friction_stable(pendulum_run) -> None:
     assert pendulum_run.outcomes[0].status == "proved"
     assert full_audit_ok(pendulum_run.text)
+
+
+def test_condition_lost_by_simplification_blocks_the_proof() -> None:
+    # exp(log(x)) is written x by the algebra, yet the model is defined only for x > 0;
+    # the certificate's trees would not show it, so the claim is not proved (not unsound)
+    run = prove_text(
+        "state x, y\ndx/dt = -sin(exp(log(x)) - 1)\ndy/dt = -y\n"
+        "equilibrium o at x = 1, y = 0\nclaim o stable\n"
+    )
+    assert run.outcomes[0].status == "not proved"
+    assert "x > 0" in run.outcomes[0].detail
