@@ -124,14 +124,21 @@ def _set_multipliers(
     return mults, degree
 
 
+def _on_the_set(prog: SearchProgram, pl: Planar, target: Any, degree: int, name: str) -> list:
+    """Require ``target - sum_i s_i g_i`` to be a sum of squares (S-procedure over the set's
+    conditions ``g_i >= 0``, multipliers ``s_i`` sums of squares); the multipliers."""
+    mults, _deg = _set_multipliers(prog, pl, degree)
+    for s, (g, _strict) in zip(mults, pl.conditions, strict=True):
+        target = target - s * g
+    prog.require_sos(target, name)
+    return mults
+
+
 def index_program(pl: Planar, eps: Fraction) -> Found:
     """``apart``: |f|^2 - eps - sum s_i g_i is a sum of squares, s_i too."""
     prog = SearchProgram(pl.xs)
-    mults, _deg = _set_multipliers(prog, pl, pl.degree(pl.norm2))
-    expr = prog.poly(pl.norm2) - sp.Rational(eps.numerator, eps.denominator)
-    for s, (g, _strict) in zip(mults, pl.conditions, strict=True):
-        expr = expr - s * g
-    prog.require_sos(expr, "apart")
+    target = prog.poly(pl.norm2) - sp.Rational(eps.numerator, eps.denominator)
+    mults = _on_the_set(prog, pl, target, pl.degree(pl.norm2), "apart")
     exact, why = _exact(prog)
     if exact is None:
         return Found(None, why)
@@ -155,11 +162,8 @@ def dulac_program(
         b = prog.free("B", full_basis(2, degree))
     div = (b * pl.f[0]).diff(0) + (b * pl.f[1]).diff(1)
     fdeg = max(pl.degree(fi) for fi in pl.f)
-    mults, _deg = _set_multipliers(prog, pl, degree + fdeg - 1)
-    expr = div - sp.Rational(eps.numerator, eps.denominator)
-    for s, (g, _strict) in zip(mults, pl.conditions, strict=True):
-        expr = expr - s * g
-    prog.require_sos(expr, "divergence")
+    target = div - sp.Rational(eps.numerator, eps.denominator)
+    mults = _on_the_set(prog, pl, target, degree + fdeg - 1, "divergence")
     exact, why = _exact(prog)
     if exact is None:
         return Found(None, why)

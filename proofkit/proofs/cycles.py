@@ -126,6 +126,28 @@ def _convex(pl: Planar) -> str | None:
     return None
 
 
+_THEOREMS = {
+    "no-equilibrium": "index-no-equilibrium",
+    "dulac": "bendixson-dulac",
+    "annulus": "poincare-bendixson",
+}
+
+
+def _found(
+    model: Model,
+    claim: Claim,
+    method: str,
+    evidence: dict[str, Any],
+    detail: str,
+    trace: dict[str, Any] | None = None,
+) -> ProofAttempt:
+    """The entry for evidence found by ``method`` (the audit decides whether it proves)."""
+    entry = claim_entry(
+        model, claim, "proved", method=method, theorem=_THEOREMS[method], evidence=evidence
+    )
+    return ProofAttempt(entry, detail, trace=trace)
+
+
 def _no_cycle(model: Model, claim: Claim, pl: Planar, say: Progress) -> ProofAttempt:
     why = _convex(pl)
     if why is not None:
@@ -135,29 +157,15 @@ def _no_cycle(model: Model, claim: Claim, pl: Planar, say: Progress) -> ProofAtt
         say(f"no cycle: |f|^2 >= {eps} on the set (index argument)")
         found = index_program(pl, eps)
         if found.evidence is not None:
-            entry = claim_entry(
-                model,
-                claim,
-                "proved",
-                method="no-equilibrium",
-                theorem="index-no-equilibrium",
-                evidence=found.evidence,
-            )
-            return ProofAttempt(entry, f"no equilibrium in the set: |f|^2 >= {eps} there")
+            detail = f"no equilibrium in the set: |f|^2 >= {eps} there"
+            return _found(model, claim, "no-equilibrium", found.evidence, detail)
         notes.append(f"index argument (eps {eps}): {found.reason}")
     for degree in DULAC_DEGREES:
         say(f"no cycle: Dulac function of degree {degree}")
         found = dulac_program(pl, degree)
         if found.evidence is not None:
-            entry = claim_entry(
-                model,
-                claim,
-                "proved",
-                method="dulac",
-                theorem="bendixson-dulac",
-                evidence=found.evidence,
-            )
-            return ProofAttempt(entry, f"Dulac function B of degree {degree}: div(B f) >= 1")
+            detail = f"Dulac function B of degree {degree}: div(B f) >= 1"
+            return _found(model, claim, "dulac", found.evidence, detail)
     notes.append(f"no Dulac function of degree <= {DULAC_DEGREES[-1]} found")
     reason = "; ".join(notes[-2:])
     hint = _cycle_hint(model, pl)
@@ -216,19 +224,11 @@ def _cycle(model: Model, claim: Claim, pl: Planar, say: Progress) -> ProofAttemp
                 break
             result = _annulus_for(pl, nf, cyc, degree, say)
             if isinstance(result, dict):
-                entry = claim_entry(
-                    model,
-                    claim,
-                    "proved",
-                    method="annulus",
-                    theorem="poincare-bendixson",
-                    evidence=result,
-                )
                 detail = (
                     f"annulus {result['numbers']['inner']} <= W <= {result['numbers']['outer']} "
                     f"around the cycle of period {cyc.period:.6g} (W of degree {degree})"
                 )
-                return ProofAttempt(entry, detail, trace={"cycle": cyc})
+                return _found(model, claim, "annulus", result, detail, trace={"cycle": cyc})
             notes.append(result)
     reason = (
         "no annulus certified (the annulus around the cycle must lie in the set; a set with "
