@@ -150,54 +150,56 @@ def _exact_gram(exact: Any, u: Any) -> tuple[np.ndarray, list[list[flint.fmpq]]]
     return u.basis.copy(), exact.values[u.name]
 
 
-def _global(setup: SearchSetup, degree: int, m: int) -> LyapunovCertificate | None:
-    """V with ``V - eps|y|^2`` and ``-lie(V) - eps (|y|^2)^m`` sums of squares."""
+def _exact_v(
+    prog: Any, setup: SearchSetup, v: Any, m: int, degree: int, squares: dict[str, Any]
+) -> LyapunovCertificate | None:
+    """Solve ``prog`` exactly; ``V`` and the exact Gram matrices of ``squares``, or None."""
     from proofkit.exact import solve_exactly
     from proofkit.exact.rounding import unknown_poly
+
+    res = solve_exactly(prog)
+    if not res.found:
+        return None
+    ex = res.exact
+    cert = LyapunovCertificate(unknown_poly(setup.space, v, ex.values["V"]), m, degree=degree)
+    cert.squares = {name: _exact_gram(ex, u) for name, u in squares.items()}
+    return cert
+
+
+def _positive_v(setup: SearchSetup, degree: int) -> tuple[Any, Any, Any, Any]:
+    """A program with free ``V`` (terms of degree 2..degree) and ``positive``: V - eps|y|^2."""
     from proofkit.sos import SearchProgram, full_basis
 
     space = setup.space
     prog = SearchProgram(space.variables)
     v = prog.free("V", full_basis(space.nvars, degree, 2))
     eps = space.const(EPS)
-    pos = prog.require_sos(v - setup.norm * eps, "positive")
+    return prog, v, eps, prog.require_sos(v - setup.norm * eps, "positive")
+
+
+def _global(setup: SearchSetup, degree: int, m: int) -> LyapunovCertificate | None:
+    """V with ``V - eps|y|^2`` and ``-lie(V) - eps (|y|^2)^m`` sums of squares."""
+    prog, v, eps, pos = _positive_v(setup, degree)
     dec = prog.require_sos(-v.lie(setup.g) - setup.norm**m * eps, "decrease")
     if max(pos.size, dec.size) > MAX_GRAM:
         return None
-    res = solve_exactly(prog)
-    if not res.found:
-        return None
-    ex = res.exact
-    cert = LyapunovCertificate(unknown_poly(space, v, ex.values["V"]), m, degree=degree)
-    cert.squares = {"positive": _exact_gram(ex, pos), "decrease": _exact_gram(ex, dec)}
-    return cert
+    return _exact_v(prog, setup, v, m, degree, {"positive": pos, "decrease": dec})
 
 
 def _ball(setup: SearchSetup, degree: int, m: int, r2: Fraction) -> LyapunovCertificate | None:
     """V positive, and decreasing on ``{|y|^2 <= r2}`` (multiplier s1); exact ``V``."""
-    from proofkit.exact import solve_exactly
-    from proofkit.exact.rounding import unknown_poly
-    from proofkit.sos import SearchProgram, full_basis
+    from proofkit.sos import full_basis
 
     space = setup.space
-    prog = SearchProgram(space.variables)
-    v = prog.free("V", full_basis(space.nvars, degree, 2))
-    eps = space.const(EPS)
+    prog, v, eps, pos = _positive_v(setup, degree)
     top = max(_lie_degree(setup, degree), 2 * m)
     # a multiplier of (r2 - |y|^2) must vanish to the order of the margin term
     s1 = prog.sos("s1", full_basis(space.nvars, max(m, (top - 2) // 2), m))
-    pos = prog.require_sos(v - setup.norm * eps, "positive")
     gap = space.const(r2) - setup.norm
     dec = prog.require_sos(-v.lie(setup.g) - setup.norm**m * eps - s1 * gap, "ball")
     if max(pos.size, dec.size, s1.size) > MAX_GRAM:
         return None
-    res = solve_exactly(prog)
-    if not res.found:
-        return None
-    ex = res.exact
-    cert = LyapunovCertificate(unknown_poly(space, v, ex.values["V"]), m, degree=degree)
-    cert.squares = {"positive": _exact_gram(ex, pos)}
-    return cert
+    return _exact_v(prog, setup, v, m, degree, {"positive": pos})
 
 
 def _lie_degree(setup: SearchSetup, degree: int) -> int:
