@@ -232,6 +232,27 @@ def _separatrices(f: Field, saddles: Sequence[PortraitPoint], box: Sequence[floa
 
 
 # --- drawing ------------------------------------------------------------------
+def _grid(box: Sequence[float], n: int) -> tuple[Any, Any]:
+    """An ``n`` by ``n`` mesh over ``box = (xmin, xmax, ymin, ymax)``."""
+    import numpy as np
+
+    xmin, xmax, ymin, ymax = box
+    return np.meshgrid(np.linspace(xmin, xmax, n), np.linspace(ymin, ymax, n))
+
+
+def _on_grid(fn: Scalar, gx: Any, gy: Any, dtype: type = float) -> Any:
+    """``fn`` on the mesh, broadcast to its shape (constants too), floating errors silenced."""
+    import numpy as np
+
+    with np.errstate(all="ignore"):
+        return np.broadcast_to(np.asarray(fn(gx, gy), dtype=dtype), gx.shape)
+
+
+def _polyline(ax: Any, path: Any, **style: Any) -> None:
+    """One curve of shape (n, 2)."""
+    ax.plot(path[:, 0], path[:, 1], **style)
+
+
 def _draw_flow(ax: Any, data: PortraitData) -> None:
     import numpy as np
     from matplotlib.collections import LineCollection
@@ -264,15 +285,12 @@ def _draw_flow(ax: Any, data: PortraitData) -> None:
 
 
 def _draw_domain(ax: Any, data: PortraitData) -> list[Any]:
-    import numpy as np
     from matplotlib.lines import Line2D
 
     if data.domain is None:
         return []
-    xmin, xmax, ymin, ymax = data.box
-    gx, gy = np.meshgrid(np.linspace(xmin, xmax, 200), np.linspace(ymin, ymax, 200))
-    with np.errstate(all="ignore"):
-        inside = np.broadcast_to(np.asarray(data.domain(gx, gy), dtype=float), gx.shape)
+    gx, gy = _grid(data.box, 200)
+    inside = _on_grid(data.domain, gx, gy)
     if inside.min() == inside.max():
         return []
     ax.contour(
@@ -285,13 +303,11 @@ def _draw_regions(ax: Any, data: PortraitData) -> list[Any]:
     import numpy as np
     from matplotlib.patches import Patch
 
-    xmin, xmax, ymin, ymax = data.box
-    gx, gy = np.meshgrid(np.linspace(xmin, xmax, 160), np.linspace(ymin, ymax, 160))
+    gx, gy = _grid(data.box, 160)
     handles, colours = [], ("tab:green", "tab:purple", "tab:orange", "tab:cyan")
     for i, r in enumerate(data.regions):
         colour = colours[i % len(colours)]
-        with np.errstate(all="ignore"):
-            z = np.broadcast_to(np.asarray(r.func(gx, gy), dtype=float), gx.shape)
+        z = _on_grid(r.func, gx, gy)
         if not np.isfinite(z).any():
             continue
         bottom, top = (r.level, r.upper) if r.upper is not None else (-np.inf, r.level)
@@ -329,9 +345,9 @@ def _draw_curves(ax: Any, data: PortraitData) -> None:
     first = {True: "unstable separatrix of a saddle", False: "stable separatrix of a saddle"}
     saddles = [p for p in data.points if p.verdict == "saddle"]
     for path, unstable in _separatrices(data.field, saddles, data.box):
-        ax.plot(
-            path[:, 0],
-            path[:, 1],
+        _polyline(
+            ax,
+            path,
             color="tab:red",
             lw=1.5,
             zorder=4,
@@ -343,9 +359,9 @@ def _draw_curves(ax: Any, data: PortraitData) -> None:
     if len(starts):
         paths = _rk4(data.field, starts, 0.04, 300, data.box)
         for k, path in enumerate(paths):
-            ax.plot(
-                path[:, 0],
-                path[:, 1],
+            _polyline(
+                ax,
+                path,
                 color="0.15",
                 lw=0.9,
                 zorder=4,
@@ -354,10 +370,9 @@ def _draw_curves(ax: Any, data: PortraitData) -> None:
             )
             ax.plot(*path[0], marker=".", color="0.15", ms=5, zorder=4)
     for k, cyc in enumerate(data.cycles):
-        cyc = np.asarray(cyc, dtype=float)
-        ax.plot(
-            cyc[:, 0],
-            cyc[:, 1],
+        _polyline(
+            ax,
+            np.asarray(cyc, dtype=float),
             color="tab:blue",
             lw=2.2,
             zorder=5,
@@ -476,11 +491,8 @@ def _box(
     cx, cy = (max(xs) + min(xs)) / 2, (max(ys) + min(ys)) / 2
     if inside is not None:
         big = 8 * half
-        gx, gy = np.meshgrid(
-            np.linspace(cx - big, cx + big, 241), np.linspace(cy - big, cy + big, 241)
-        )
-        with np.errstate(all="ignore"):
-            ok = np.broadcast_to(np.asarray(inside(gx, gy), dtype=bool), gx.shape)
+        gx, gy = _grid((cx - big, cx + big, cy - big, cy + big), 241)
+        ok = _on_grid(inside, gx, gy, bool)
         edge = ok[0].any() or ok[-1].any() or ok[:, 0].any() or ok[:, -1].any()
         if ok.any() and not edge:
             x0, x1, y0, y1 = gx[ok].min(), gx[ok].max(), gy[ok].min(), gy[ok].max()
