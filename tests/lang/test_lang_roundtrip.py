@@ -51,18 +51,23 @@ def paren(e: Ex) -> str:
     return e.text if e.atomic else f"({e.text})"
 
 
+def sums_and_products(children: st.SearchStrategy[Ex]) -> st.SearchStrategy[Ex]:
+    """``a + b``, ``a - b``, ``a * b`` with the value built by sympy arithmetic (computed)."""
+    return st.tuples(children, st.sampled_from(["+", "-", "*"]), children).map(
+        lambda t: Ex(
+            f"{paren(t[0])} {t[1]} {paren(t[2])}",
+            {
+                "+": t[0].value + t[2].value,
+                "-": t[0].value - t[2].value,
+                "*": t[0].value * t[2].value,
+            }[t[1]],
+        )
+    )
+
+
 def expressions(leaves: st.SearchStrategy[Ex], max_leaves: int = 6) -> st.SearchStrategy[Ex]:
     def extend(children: st.SearchStrategy[Ex]) -> st.SearchStrategy[Ex]:
-        binary = st.tuples(children, st.sampled_from(["+", "-", "*"]), children).map(
-            lambda t: Ex(
-                f"{paren(t[0])} {t[1]} {paren(t[2])}",
-                {
-                    "+": t[0].value + t[2].value,
-                    "-": t[0].value - t[2].value,
-                    "*": t[0].value * t[2].value,
-                }[t[1]],
-            )
-        )
+        binary = sums_and_products(children)
         power = st.tuples(children, st.integers(0, 3), st.sampled_from(["^", "**"])).map(
             lambda t: Ex(f"{paren(t[0])}{t[2]}{t[1]}", t[0].value ** t[1])
         )
@@ -206,16 +211,7 @@ def with_functions() -> st.SearchStrategy[Ex]:
                 else Ex(f"{t[0]}({t[1].text})", SYMPY_FUNCTIONS[t[0]](t[1].value), True)
             )
         )
-        binary = st.tuples(children, st.sampled_from(["+", "-", "*"]), children).map(
-            lambda t: Ex(
-                f"{paren(t[0])} {t[1]} {paren(t[2])}",
-                {
-                    "+": t[0].value + t[2].value,
-                    "-": t[0].value - t[2].value,
-                    "*": t[0].value * t[2].value,
-                }[t[1]],
-            )
-        )
+        binary = sums_and_products(children)
         power = st.tuples(children, st.integers(-2, 3)).map(
             lambda t: Ex(f"{paren(t[0])}^({t[1]})", t[0].value ** t[1])
         )
