@@ -161,9 +161,10 @@ def _radical_form(
     return g, [sp.expand(v.xreplace(repl)) for v in values]
 
 
-def range_system(model: Model, name: str) -> RangeSystem | str:
-    """The exact linearization of equilibrium ``name`` over the parameter box, or why not."""
-    uncertain = [p for p in model.params if p.is_uncertain]
+def _parameter_box(
+    model: Model, uncertain: list[Any]
+) -> list[tuple[Fraction, Fraction, Fraction]] | str:
+    """``(low, high, nominal)`` of each uncertain parameter, exactly, or why not."""
     if not uncertain:
         return "the model has no uncertain parameter"
     if len(model.states) > MAX_STATES or len(uncertain) > MAX_PARAMS:
@@ -171,11 +172,20 @@ def range_system(model: Model, name: str) -> RangeSystem | str:
             f"more than {MAX_STATES} states or {MAX_PARAMS} uncertain parameters "
             "(the limits of range linearization)"
         )
-    fixed = {p.symbol: p.nominal for p in model.params if not p.is_uncertain}
-    syms = [p.symbol for p in uncertain]
     ends = [(_frac(p.low), _frac(p.high), _frac(p.nominal)) for p in uncertain]
     if any(v is None for e in ends for v in e):
         return "a parameter range or nominal value is not rational"
+    return ends  # type: ignore[return-value]
+
+
+def range_system(model: Model, name: str) -> RangeSystem | str:
+    """The exact linearization of equilibrium ``name`` over the parameter box, or why not."""
+    uncertain = [p for p in model.params if p.is_uncertain]
+    ends = _parameter_box(model, uncertain)
+    if isinstance(ends, str):
+        return ends
+    fixed = {p.symbol: p.nominal for p in model.params if not p.is_uncertain}
+    syms = [p.symbol for p in uncertain]
     box = tuple((lo, hi) for lo, hi, _ in ends)
     xs = model.state_symbols
     values = [sp.expand(v.subs(fixed)) for _, v in model.equilibrium(name).point]
@@ -224,7 +234,7 @@ def range_system(model: Model, name: str) -> RangeSystem | str:
         tuple(p.name for p in uncertain),
         radical,
         box,
-        tuple(e[2] for e in ends),
+        tuple(nominal for _, _, nominal in ends),
         ctx,
         radicand,
         split,

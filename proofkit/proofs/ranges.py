@@ -178,33 +178,39 @@ def _by_lyapunov(model: Model, claim: Claim, say, before: str) -> RangeAttempt:
     return RangeAttempt(entry, detail)
 
 
+def _refuted(model: Model, claim: Claim, system: RangeSystem, point: Any) -> RangeAttempt:
+    """Exact evidence that the claim fails at the parameter value ``point`` (a sub-box's)."""
+    from proofkit.proofs._ranges_point import value_evidence
+
+    kind = claim.kind
+    found = value_evidence(system, kind, point)
+    at = _show(system, point)
+    if found is None:
+        return _not_proved(
+            model,
+            claim,
+            f"the claim fails at {at}, but no regular Routh array was found there to show it",
+        )
+    evidence, d = found
+    entry = _entry(
+        model,
+        claim,
+        "refuted",
+        method=METHOD,
+        theorem=REFUTING[kind],
+        number_field={"sqrt": str(d)} if d else None,
+        evidence=evidence,
+    )
+    _set_point(entry, model, claim)
+    what = "a root in the right half plane" if kind == "stable" else "all roots in the left"
+    return RangeAttempt(entry, f"it breaks at {at}: the linearization has {what} there")
+
+
 def _from_cover(model: Model, claim: Claim, system: RangeSystem, cover: Cover, say) -> RangeAttempt:
     kind = claim.kind
     if cover.status == "fails":
         assert cover.point is not None
-        from proofkit.proofs._ranges_point import value_evidence
-
-        found = value_evidence(system, kind, cover.point)
-        at = _show(system, cover.point)
-        if found is None:
-            return _not_proved(
-                model,
-                claim,
-                f"the claim fails at {at}, but no regular Routh array was found there to show it",
-            )
-        evidence, d = found
-        entry = _entry(
-            model,
-            claim,
-            "refuted",
-            method=METHOD,
-            theorem=REFUTING[kind],
-            number_field={"sqrt": str(d)} if d else None,
-            evidence=evidence,
-        )
-        _set_point(entry, model, claim)
-        what = "a root in the right half plane" if kind == "stable" else "all roots in the left"
-        return RangeAttempt(entry, f"it breaks at {at}: the linearization has {what} there")
+        return _refuted(model, claim, system, cover.point)
     if cover.status == "undecided":
         return _not_proved(model, claim, f"over the parameter ranges: {cover.reason}")
     evidence: dict[str, Any] = {
