@@ -1,4 +1,7 @@
-"""``python -m proofkit`` runs the command line."""
+"""``python -m proofkit`` runs the command line.
+
+It must never do more than call :func:`proofkit.cli.main`.
+"""
 
 from proofkit.cli import main
 

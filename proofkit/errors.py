@@ -3,6 +3,9 @@
 Every error a user can cause is an :class:`InputError` (exit code 2) whose
 message names the file, line and column and shows the line with a caret.
 Anything else escaping the program is a bug (exit code 3).
+
+This module must never import anything outside the standard library (the audit
+path and the command line load it first).
 """
 
 from __future__ import annotations

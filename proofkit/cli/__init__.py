@@ -2,6 +2,9 @@
 
 Exit codes: 0 success, 1 a claim or check did not hold, 2 bad input,
 3 an internal error (a bug: please report it).
+
+It must never import heavy modules at top level, nor show a traceback
+without the exit-code-3 message that names it a bug.
 """
 
 from __future__ import annotations

@@ -4,6 +4,8 @@ On a terminal: prompt, history, completion. With piped standard input: reads
 statements and commands line by line without prompt decorations. Exit 0 at
 ``quit`` or end of input; errors inside the session are shown and the session
 goes on. Top-level imports are stdlib only.
+
+It must never evaluate typed text as Python.
 """
 
 from __future__ import annotations

@@ -18,6 +18,8 @@ rationals before any exact step.
 
 Everything here is floating point and only proposes a ``W``; the exact
 obligations are checked by :mod:`proofkit.exact` and, finally, the audit.
+
+It must never be taken as evidence: nothing here is exact.
 """
 
 from __future__ import annotations

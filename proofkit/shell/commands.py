@@ -6,6 +6,9 @@ Commands ask questions about the session's model (``equilibria``,
 ``drop``, ``undo``, ``clear``). Each prints plain text; statuses come from
 the library ("proved" only where the audit accepted the certificate). Heavy
 modules are imported inside the commands that use them.
+
+A command must never evaluate typed text as Python or end the session on an
+error it can report.
 """
 
 from __future__ import annotations

@@ -6,6 +6,8 @@ place is parsed as a ``claim`` statement of the current model (errors point
 into the typed claim) and proved alone; "proved" is reported only when the
 audit accepted the certificate. Long work reports progress on stderr and
 stops at Ctrl-C without ending the session.
+
+It must never mark a claim proved itself.
 """
 
 from __future__ import annotations
