@@ -71,16 +71,23 @@ def refute(
             f"internal error: {claim.text!r} was certified, but the trajectory from "
             f"{[str(c) for c in cx.start]} {cx.what}; please report this bug"
         )
-    evidence = {"start": [str(c) for c in cx.start], "kind": cx.kind}
+    if cx.kind == "equilibrium":  # exact evidence: the audit re-checks it
+        method, theorem = "equilibrium-in-set", "another-equilibrium-in-the-set"
+        evidence: dict[str, Any] = {"point": [str(c) for c in cx.start]}
+    else:
+        method, theorem = "simulation", THEOREM
+        evidence = {"start": [str(c) for c in cx.start], "kind": cx.kind}
     entry = claim_entry(
-        model, claim, "refuted", method="simulation", theorem=THEOREM,
+        model, claim, "refuted", method=method, theorem=theorem,
         evidence=evidence, counterexample=cx.as_json(),
     )  # fmt: skip
     start = ", ".join(f"{s} = {c}" for s, c in zip(model.states, cx.start, strict=True))
     detail = f"the claim is false: the trajectory from {start} {cx.what}"
-    if not _audit_accepts(model, entry):  # the audit has no schema for this evidence yet
-        how = "exact" if cx.kind == "equilibrium" else "simulation"
-        reason = f"{detail} ({how}; the audit has no schema for this counterexample yet)"
+    if not _audit_accepts(model, entry):  # a simulation: numerical, not audited
+        reason = (
+            f"{detail} (numerical evidence: the audit cannot re-check a simulation; "
+            "re-simulate from the exact start point to confirm)"
+        )
         entry = not_proved_entry(model, claim, reason)
         entry["counterexample"] = cx.as_json()
         return ProofAttempt(entry, reason, cx)
