@@ -115,6 +115,39 @@ def _check_candidate(
     return gmat, check_gram(poly, variables, basis_syms, gmat)
 
 
+def _accepted(
+    cand: Sequence[Sequence[flint.fmpq]] | None,
+    note: str,
+    poly: flint.fmpq_mpoly,
+    variables: Sequence[sp.Symbol],
+    basis_syms: list[sp.Expr],
+    notes: list[str],
+) -> tuple[sp.Matrix, GramCheck] | None:
+    """The candidate and its exact verdict when the exact check accepts it; else why not
+    (appended to ``notes``). A candidate ``None`` is a note only."""
+    if cand is None:
+        notes.append(note)
+        return None
+    gmat, verdict = _check_candidate(cand, poly, variables, basis_syms)
+    if verdict.ok:
+        return gmat, verdict
+    notes.append(f"{note}: {verdict.reason}")
+    return None
+
+
+def _decomposition(
+    res: ProgramOutcome,
+    basis_syms: list[sp.Expr],
+    checked: tuple[sp.Matrix, GramCheck],
+    att: Attempt,
+    t0: float,
+) -> Decomposition:
+    """The exact decomposition of an accepted candidate (its time counted as exact work)."""
+    res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
+    gmat, verdict = checked
+    return Decomposition(True, basis_syms, gmat, None, [*res.attempts, att], {}, verdict.ldl)
+
+
 def _try_face(
     space: PolySpace,
     poly: flint.fmpq_mpoly,
@@ -137,17 +170,10 @@ def _try_face(
             if time.perf_counter() - t0 > budget:
                 notes.append(f"time budget of {budget:.1f} s for facial reduction used up")
                 break
-            if cand is None:
-                notes.append(note)
-                continue
-            gmat, verdict = _check_candidate(cand, poly, variables, basis_syms)
-            if verdict.ok:
-                res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
+            checked = _accepted(cand, note, poly, variables, basis_syms, notes)
+            if checked is not None:
                 att = Attempt(sol.solver, len(b), sol.status, sol.margin, f"exact ({note})")
-                return Decomposition(
-                    True, basis_syms, gmat, None, [*res.attempts, att], {}, verdict.ldl
-                )
-            notes.append(f"{note}: {verdict.reason}")
+                return _decomposition(res, basis_syms, checked, att, t0)
     res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
     if notes:
         res.reason = f"{res.reason}; kernel facial reduction: {notes[-1]}"
@@ -187,16 +213,10 @@ def _try_iterated(
     basis_syms = [space.monomial(e) for e in b]
     notes: list[str] = []
     for cand, note in iterated_faces(space, b, poly, *system, ladder, t0 + _ITERATED_SHARE):
-        if cand is None:
-            notes.append(note)
-            continue
-        gmat, verdict = _check_candidate(cand, poly, variables, basis_syms)
-        if verdict.ok:
-            res.timings["exact"] = res.timings.get("exact", 0.0) + time.perf_counter() - t0
+        checked = _accepted(cand, note, poly, variables, basis_syms, notes)
+        if checked is not None:
             att = Attempt("clarabel", len(b), "solved", None, f"exact ({note})")
-            attempts = [*res.attempts, att]
-            return Decomposition(True, basis_syms, gmat, None, attempts, {}, verdict.ldl)
-        notes.append(f"{note}: {verdict.reason}")
+            return _decomposition(res, basis_syms, checked, att, t0)
         if time.perf_counter() - t0 > _ITERATED_SHARE:
             notes.append("time budget for iterated facial reduction used up")
             break
