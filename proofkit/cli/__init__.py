@@ -10,6 +10,7 @@ without the exit-code-3 message that names it a bug.
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import traceback
 from collections.abc import Sequence
@@ -57,6 +58,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_INPUT
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
+        return EXIT_FAILED
+    except BrokenPipeError:  # the reader went away (e.g. `| head`): stop quietly
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
         return EXIT_FAILED
     except Exception:
         traceback.print_exc()
