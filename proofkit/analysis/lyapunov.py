@@ -81,6 +81,15 @@ def _gauss_solve(M: Mat, rhs: list[AlgNum]) -> list[AlgNum]:
     return [aug[r][N] for r in range(N)]
 
 
+def _clear_below(m: Mat, col: int) -> None:
+    """Subtract multiples of row ``col``: column ``col`` becomes zero below the nonzero pivot."""
+    inv = m[col][col].inverse()
+    for r in range(col + 1, len(m)):
+        if not m[r][col].is_zero():
+            f = m[r][col] * inv
+            m[r] = [v - f * w for v, w in zip(m[r], m[col], strict=True)]
+
+
 def _det(M: Mat, K: RealAlgebraicField) -> AlgNum:
     m = [list(r) for r in M]
     n = len(m)
@@ -93,11 +102,7 @@ def _det(M: Mat, K: RealAlgebraicField) -> AlgNum:
             m[col], m[piv] = m[piv], m[col]
             det = -det
         det = det * m[col][col]
-        inv = m[col][col].inverse()
-        for r in range(col + 1, n):
-            if not m[r][col].is_zero():
-                f = m[r][col] * inv
-                m[r] = [v - f * w for v, w in zip(m[r], m[col], strict=True)]
+        _clear_below(m, col)
     return det
 
 
@@ -112,11 +117,7 @@ def leading_minors(P: Mat, K: RealAlgebraicField) -> list[AlgNum]:
             return minors + [_det([row[:k] for row in P[:k]], K) for k in range(col + 1, n + 1)]
         prod = prod * m[col][col]
         minors.append(prod)
-        inv = m[col][col].inverse()
-        for r in range(col + 1, n):
-            if not m[r][col].is_zero():
-                f = m[r][col] * inv
-                m[r] = [v - f * w for v, w in zip(m[r], m[col], strict=True)]
+        _clear_below(m, col)
     return minors
 
 
