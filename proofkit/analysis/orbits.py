@@ -225,20 +225,31 @@ class _TooLong(Exception):
     """An integration used up its budget of field evaluations (stiff or escaping)."""
 
 
-def _flow(nf: NumericField, x: np.ndarray, t: float, sign: float, tol: float):
-    """``phi(t, x)`` and the monodromy ``M`` (variational equations) for the signed field."""
-    from scipy.integrate import solve_ivp
-
-    n = nf.n
+def _budgeted(f: Callable[[np.ndarray], np.ndarray]) -> Callable[[float, np.ndarray], np.ndarray]:
+    """``f`` as an ODE right-hand side that raises ``_TooLong`` after MAX_EVALUATIONS calls."""
     calls = [0]
 
     def rhs(_t: float, z: np.ndarray) -> np.ndarray:
         calls[0] += 1
         if calls[0] > MAX_EVALUATIONS:
             raise _TooLong
+        return f(z)
+
+    return rhs
+
+
+def _flow(nf: NumericField, x: np.ndarray, t: float, sign: float, tol: float):
+    """``phi(t, x)`` and the monodromy ``M`` (variational equations) for the signed field."""
+    from scipy.integrate import solve_ivp
+
+    n = nf.n
+
+    def variational(z: np.ndarray) -> np.ndarray:
         y = z[:n]
         m = z[n:].reshape(n, n)
         return np.concatenate([sign * nf.f(y), (sign * nf.jac(y) @ m).ravel()])
+
+    rhs = _budgeted(variational)
 
     z0 = np.concatenate([x, np.eye(n).ravel()])
     try:
@@ -307,14 +318,7 @@ def _finish(nf: NumericField, x: np.ndarray, t: float, sign: float, scale: float
     if residual > 1e-7 * scale:
         return None
     n = nf.n
-
-    calls = [0]
-
-    def rhs(_t: float, y: np.ndarray) -> np.ndarray:
-        calls[0] += 1
-        if calls[0] > MAX_EVALUATIONS:
-            raise _TooLong
-        return nf.f(y)
+    rhs = _budgeted(nf.f)
 
     events = [_extremum_event(nf, i) for i in range(n)]
     direction = 1.0 if sign > 0 else -1.0
