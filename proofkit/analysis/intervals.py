@@ -74,18 +74,33 @@ def _constant(e: sp.Expr) -> ArbFunction | None:
     return None
 
 
+def int_power(x: flint.arb, k: int) -> flint.arb:
+    """``x**k`` for an integer ``k >= 0``, also for a ball centred at 0.
+
+    python-flint's ``**`` gives nan for a ball whose midpoint is exactly 0; such a
+    ball lies in ``[-m, m]`` with ``m = |x|`` bounded above, so ``x**k`` lies in
+    ``[0, m**k]`` (even ``k``) or ``[-m**k, m**k]`` (odd ``k``).
+    """
+    if k == 0:
+        return flint.arb(1)
+    if not x.mid().is_zero():
+        return x**k
+    top = x.abs_upper() ** k
+    return flint.arb(0).union(top) if k % 2 == 0 else (-top).union(top)
+
+
 def _power(base: ArbFunction, ex: sp.Expr, build: Callable[[sp.Expr], ArbFunction]) -> ArbFunction:
     if isinstance(ex, sp.Integer):
         k = int(ex)
         if k >= 0:
-            return lambda xs: base(xs) ** k
-        return lambda xs: 1 / (base(xs) ** (-k))
+            return lambda xs: int_power(base(xs), k)
+        return lambda xs: 1 / int_power(base(xs), -k)
     if isinstance(ex, sp.Rational) and ex.q == 2:
         k = int(ex.p)
 
         def halfpow(xs: Sequence[flint.arb]) -> flint.arb:
             r = base(xs).sqrt()
-            return r**k if k >= 0 else 1 / (r ** (-k))
+            return int_power(r, k) if k >= 0 else 1 / int_power(r, -k)
 
         return halfpow
     exf = build(ex)
