@@ -2,7 +2,8 @@
 
 ``add_command`` makes a subcommand parser with the example epilog kept as
 written, the model ``FILE`` argument, ``--json`` and ``--quiet``;
-``progress_printer`` gives the ``proofkit: ...`` progress function on stderr
+``model_file`` refuses a model path that is not a regular file before any
+work; ``progress_printer`` gives the ``proofkit: ...`` progress function on stderr
 (silent with ``--quiet``, control characters escaped so that model text cannot
 rewrite the terminal). Standard library only: a command module must be cheap
 to import, so this module never imports the package's heavy parts.
@@ -11,11 +12,13 @@ to import, so this module never imports the package's heavy parts.
 from __future__ import annotations
 
 import argparse
+import os
+import stat
 import sys
 from collections.abc import Callable
 from typing import Any
 
-__all__ = ["add_command", "clean", "progress_printer"]
+__all__ = ["add_command", "clean", "model_file", "progress_printer"]
 
 
 def add_command(
@@ -46,6 +49,26 @@ def add_command(
     p.add_argument("--quiet", action="store_true", help=quiet_help)
     p.set_defaults(func=func)
     return p
+
+
+def model_file(path: str) -> None:
+    """Refuse a model path that is missing, a directory, or not a regular file (a FIFO or
+    device would block or never end), with an :class:`~proofkit.errors.InputError`."""
+    from proofkit.errors import InputError
+
+    try:
+        mode = os.stat(path).st_mode
+    except FileNotFoundError:
+        raise InputError(f"{path}: no such file", hint="check the path") from None
+    except OSError as err:
+        raise InputError(f"{path}: cannot be read ({err.strerror or err})") from None
+    if stat.S_ISDIR(mode):
+        raise InputError(f"{path}: is a directory, not a model file")
+    if not stat.S_ISREG(mode):
+        raise InputError(
+            f"{path}: is not a regular file (a pipe, device or socket)",
+            hint="save the model to a file and give its path",
+        )
 
 
 def clean(text: str) -> str:

@@ -23,7 +23,7 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from proofkit.cli._common import add_command, progress_printer
+from proofkit.cli._common import add_command, model_file, progress_printer
 
 __all__ = ["register", "run"]
 
@@ -72,6 +72,7 @@ def run(args: argparse.Namespace) -> int:
         raise InputError(f"--box {args.box}: expected a half-width in (0, 1e6]")
     if args.out == "":
         raise InputError("--out: expected a directory name, not an empty string")
+    model_file(args.file)
     model = load(args.file)
     say = progress_printer(args.quiet)
     from proofkit.analysis.orbits import find_cycles

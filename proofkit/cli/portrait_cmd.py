@@ -20,7 +20,7 @@ from fractions import Fraction
 from pathlib import Path
 from typing import Any
 
-from proofkit.cli._common import add_command, progress_printer
+from proofkit.cli._common import add_command, model_file, progress_printer
 
 __all__ = ["register", "run"]
 
@@ -100,6 +100,7 @@ def run(args: argparse.Namespace) -> int:
 
     say = progress_printer(args.quiet)
 
+    model_file(args.file)
     out = _output(args)
     plane = [s.strip() for s in args.plane.split(",")] if args.plane else None
     say("surveying the equilibria and drawing")

@@ -20,13 +20,11 @@ from __future__ import annotations
 import argparse
 import hashlib
 import json
-import os
-import stat
 import sys
 from pathlib import Path
 from typing import Any
 
-from proofkit.cli._common import add_command, clean, progress_printer
+from proofkit.cli._common import add_command, clean, model_file, progress_printer
 
 __all__ = ["STATUS_WORDS", "register", "run", "status_word", "write_outputs"]
 
@@ -74,19 +72,7 @@ def _check_paths(file: str, out: str | None) -> None:
     """Refuse inputs that would block or silently do nothing, before any work."""
     from proofkit.errors import InputError
 
-    try:
-        mode = os.stat(file).st_mode
-    except FileNotFoundError:
-        raise InputError(f"{file}: no such file", hint="check the path") from None
-    except OSError as err:
-        raise InputError(f"{file}: cannot be read ({err.strerror or err})") from None
-    if stat.S_ISDIR(mode):
-        raise InputError(f"{file}: is a directory, not a model file")
-    if not stat.S_ISREG(mode):
-        raise InputError(
-            f"{file}: is not a regular file (a pipe, device or socket)",
-            hint="save the model to a file and give its path",
-        )
+    model_file(file)
     if out is not None:
         if not out.strip():
             raise InputError("--out: the directory name is empty", hint="--out proof/")

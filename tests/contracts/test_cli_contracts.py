@@ -123,13 +123,14 @@ def _as_float(text: str) -> float:
     return float(Fraction(text))
 
 
-def test_fifo_input_is_refused_quickly(tmp_path) -> None:
+@pytest.mark.parametrize("command", ["prove", "orbit", "portrait"])
+def test_fifo_input_is_refused_quickly(tmp_path, command: str) -> None:
     if not hasattr(os, "mkfifo"):
         pytest.skip("no named pipes on this platform")
     fifo = tmp_path / "model.pk"
     os.mkfifo(fifo)
     start = time.monotonic()
-    r = pk("prove", str(fifo), cwd=tmp_path, timeout=30)
+    r = pk(command, str(fifo), cwd=tmp_path, timeout=30)
     assert r.returncode == 2 and "not a regular file" in r.stderr
     assert "Traceback" not in r.stderr
     assert time.monotonic() - start < 20
