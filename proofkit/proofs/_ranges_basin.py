@@ -36,6 +36,7 @@ __all__ = ["search_range_basin"]
 
 BUDGET = 30.0
 MAX_BISECT = 14
+ALTERNATE_DEGREES = (2, 4)
 
 
 def _nominal_v(model: Model, space: Any, g: list[Any], box: list) -> Any | None:
@@ -185,7 +186,8 @@ def search_range_basin(
         return None, f"the set or the domain is not polynomial: {exc}"
     deadline = time.perf_counter() + budget
     why = "the nominal linearization is not Hurwitz: no quadratic V to start from"
-    for label, v in _candidates(model, space, g, box, n):
+    args = (space, g, box, sets, doms, n)
+    for label, v in _candidates(model, args, deadline, say):
         if v is None or time.perf_counter() > deadline:
             continue
         say(f"region of attraction over the ranges: {label}, bisection on the level")
@@ -193,15 +195,29 @@ def search_range_basin(
         if found is not None:
             level, obl, exact = found
             ev = _evidence(space, v, level, obl, exact, unknown_poly, len(box))
-            return ev, f"sublevel set {{V <= {level}}} of a quadratic V ({label})"
+            return ev, f"sublevel set {{V <= {level}}} of a degree-{_y_degree(v, n)} V ({label})"
     return None, why
 
 
-def _candidates(model: Model, space: Any, g: list, box: list, n: int):
-    """Quadratic V's to try: the nominal Lyapunov equation's, then one affine in p that
-    decreases along the linearization at every value of the box (a sum-of-squares search)."""
+def _y_degree(v: Any, n: int) -> int:
+    return max((sum(e[:n]) for e in v.monoms()), default=0)
+
+
+def _candidates(model: Model, args: tuple, deadline: float, say: Callable[[str], None]):
+    """V's to try: the nominal Lyapunov equation's, one quadratic V affine in p that
+    decreases along the linearization at every value of the box (a sum-of-squares search),
+    then V's of higher degree from the alternating search started at the latter."""
+    from proofkit.proofs._ranges_basin_iter import alternate
+
+    space, g, box, _sets, _doms, n = args
     yield "V from the nominal Lyapunov equation", _nominal_v(model, space, g, box)
-    yield "V affine in the parameters", _linear_range_v(space, g, box, n)
+    start = _linear_range_v(space, g, box, n)
+    yield "V affine in the parameters", start
+    if start is None:
+        return
+    for degree in ALTERNATE_DEGREES:
+        for v in alternate(args, start, degree, say, deadline):
+            yield f"V of degree {degree} from the alternating search", v
 
 
 def _linear_range_v(space: Any, g: list, box: list, n: int) -> Any | None:
