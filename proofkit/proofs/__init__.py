@@ -28,7 +28,7 @@ from proofkit.provenance import ProvenanceReport, check_provenance
 __all__ = ["PROVERS", "ClaimOutcome", "ProofAttempt", "ProveRun", "prove_model"]
 
 # Prover modules in the order they are tried; a module not present yet is skipped.
-PROVERS = ("linearization", "ranges", "lyapunov", "basin", "cycles", "_nonpoly_basin")
+PROVERS = ("linearization", "ranges", "lyapunov", "basin", "cycles", "_nonpoly_basin", "recast")
 NO_METHOD = "no method for this claim kind yet"
 AUDIT_SECONDS = 300.0  # prove audits its own certificate: a generous budget (audit: 8 s)
 

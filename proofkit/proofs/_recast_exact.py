@@ -1,0 +1,201 @@
+"""Exact recast evidence from numerical hints: rounding, projection, exact LDL'.
+
+``V`` is rounded to dyadic rationals and fixed; each sum-of-squares
+multiplier's Gram matrix is rounded and shown PSD by exact LDL' (the
+multiplier is then ``b' G b`` exactly); free multipliers are rounded; every
+obligation's target is rebuilt exactly from the recast system
+(:mod:`proofkit.proofs._recast_system`, the field at each end of the
+enclosure of sqrt d), then its Gram matrix is rounded, projected exactly onto
+the target (Peyrl–Parrilo) and shown PSD. The result follows the audit's
+``recast-*`` schemas. Nothing here reads a float as evidence: a hint that
+does not survive the exact checks gives ``None``.
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+from typing import Any
+
+import flint
+import numpy as np
+
+from proofkit.exact import ldl_psd, peyrl_parrilo_projection
+
+__all__ = ["BITS", "exact_evidence", "poly_json", "round_poly"]
+
+BITS = (24, 34, 44)
+Gram = list[list[flint.fmpq]]
+
+
+def _dyadic(x: float, bits: int, top: float) -> flint.fmpq:
+    k = bits - int(np.floor(np.log2(top))) if top > 0 else bits
+    k = max(k, 0)
+    return flint.fmpq(round(x * 2**k), 2**k)
+
+
+def round_poly(ctx: Any, p: dict[tuple[int, ...], float], bits: int = 30) -> flint.fmpq_mpoly:
+    top = max((abs(c) for c in p.values()), default=0.0)
+    terms = {e: _dyadic(c, bits, top) for e, c in p.items()}
+    return ctx.from_dict({e: c for e, c in terms.items() if c != 0})
+
+
+def _round_matrix(q: np.ndarray, bits: int) -> Gram:
+    q = 0.5 * (q + q.T)
+    top = float(np.abs(q).max(initial=0.0))
+    n = q.shape[0]
+    out = [[flint.fmpq(0)] * n for _ in range(n)]
+    for i in range(n):
+        for j in range(i, n):
+            out[i][j] = out[j][i] = _dyadic(float(q[i, j]), bits, top)
+    return out
+
+
+def _gram_poly(ctx: Any, basis: np.ndarray, gram: Gram) -> flint.fmpq_mpoly:
+    acc: dict[tuple[int, ...], flint.fmpq] = {}
+    rows = [tuple(int(e) for e in r) for r in np.asarray(basis).tolist()]
+    for i, bi in enumerate(rows):
+        for j, bj in enumerate(rows):
+            if gram[i][j] != 0:
+                key = tuple(a + b for a, b in zip(bi, bj, strict=True))
+                acc[key] = acc.get(key, flint.fmpq(0)) + gram[i][j]
+    return ctx.from_dict({k: c for k, c in acc.items() if c != 0})
+
+
+def _psd(q: np.ndarray) -> Gram | None:
+    for bits in BITS:
+        g = _factor_round(q, bits)
+        if ldl_psd(g).psd:
+            return g
+    return None
+
+
+def _fit(target: flint.fmpq_mpoly, basis: np.ndarray, q: np.ndarray) -> Gram | str:
+    why = "no Gram matrix"
+    for bits in BITS:
+        proj = peyrl_parrilo_projection(basis, _round_matrix(q, bits), target)
+        if isinstance(proj, str):
+            return proj
+        ldl = ldl_psd(proj)
+        if ldl.psd:
+            return proj
+        why = f"the projected Gram matrix is not PSD ({ldl.reason})"
+    return why
+
+
+def _factor_round(q: np.ndarray, bits: int) -> Gram:
+    """``R R'`` with ``R`` a rounded square root of ``q``: PSD by construction."""
+    w, u = np.linalg.eigh(0.5 * (q + q.T))
+    r = u * np.sqrt(np.clip(w, 0.0, None))[None, :]
+    top = float(np.abs(r).max(initial=0.0))
+    n = q.shape[0]
+    rr = flint.fmpq_mat(n, n, [_dyadic(float(x), bits, top) for x in r.ravel()])
+    g = rr * rr.transpose()
+    return [[g[i, j] for j in range(n)] for i in range(n)]
+
+
+def _repair(
+    ctx: Any, target: flint.fmpq_mpoly, basis: np.ndarray, equalities: list[tuple[str, Any]]
+) -> tuple[flint.fmpq_mpoly, dict[str, flint.fmpq_mpoly]]:
+    """Cancel target terms outside the basis square exactly with the circle multipliers.
+
+    The circle ``S^2 + C^2 + 2 C`` has the term ``2 C``: a stray term ``r m`` with
+    ``C | m`` is removed by adding ``(r / 2)(m / C)`` to that circle's multiplier.
+    """
+    b = np.asarray(basis, np.int64)
+    square = {
+        tuple(int(v) for v in r) for r in (b[:, None, :] + b[None, :, :]).reshape(-1, b.shape[1])
+    }
+    fixes: dict[str, flint.fmpq_mpoly] = {}
+    for _round in range(4):
+        terms = zip(target.monoms(), target.coeffs(), strict=True)
+        stray = [(tuple(int(v) for v in e), c) for e, c in terms]
+        stray = [(e, c) for e, c in stray if e not in square]
+        if not stray:
+            break
+        for e, c in stray:
+            for label, h in equalities:
+                lin = [m for m, hc in zip(h.monoms(), h.coeffs(), strict=True) if sum(m) == 1]
+                if not lin:
+                    continue
+                k = int(np.argmax(lin[0]))
+                if e[k] == 0:
+                    continue
+                quot = list(e)
+                quot[k] -= 1
+                two = dict(zip(map(tuple, h.monoms()), h.coeffs(), strict=True))[tuple(lin[0])]
+                add = ctx.from_dict({tuple(quot): c / two})
+                fixes[label] = fixes.get(label, ctx.constant(0)) + add
+                target = target - add * h
+                break
+    return target, fixes
+
+
+def poly_json(p: flint.fmpq_mpoly) -> list[Any]:
+    return [[list(map(int, e)), str(c)] for e, c in zip(p.monoms(), p.coeffs(), strict=True)]
+
+
+def _square(basis: np.ndarray, gram: Gram) -> dict[str, Any]:
+    return {"basis": np.asarray(basis).tolist(), "gram": [[str(x) for x in r] for r in gram]}
+
+
+def exact_evidence(
+    ctx: Any,
+    bases: dict[str, tuple[flint.fmpq_mpoly, list[tuple[str, flint.fmpq_mpoly]]]],
+    equalities: list[tuple[str, flint.fmpq_mpoly]],
+    hint: dict[str, Any],
+) -> tuple[dict[str, Any], dict[str, Any], dict[str, Any]] | str:
+    """``(multipliers, free, squares)`` JSON, or why not.
+
+    ``bases``: obligation name -> (exact base target, its inequalities (label, g)).
+    """
+    sos_json: dict[str, Any] = {}
+    free_json: dict[str, Any] = {}
+    squares: dict[str, Any] = {}
+    exact_sos: dict[str, tuple[flint.fmpq_mpoly, dict[str, Any]]] = {}
+    for key, (basis, q) in hint["sos"].items():
+        if np.abs(q).max(initial=0.0) < 1e-10:
+            continue
+        g = _psd(q)
+        if g is None:
+            return f"the multiplier {key!r} did not round to a PSD Gram matrix"
+        p = _gram_poly(ctx, basis, g)
+        if not p.is_zero():
+            exact_sos[key] = (p, _square(basis, g))
+    exact_free: dict[str, flint.fmpq_mpoly] = {}
+    for key, (exps, c) in hint["free"].items():
+        terms = {tuple(int(x) for x in e): float(v) for e, v in zip(exps, c, strict=True)}
+        p = round_poly(ctx, terms, 36)
+        if not p.is_zero():
+            exact_free[key] = p
+    for name, (base, ineqs) in bases.items():
+        plain = name.removesuffix(" lo").removesuffix(" hi")
+        target = base
+        for label, g in ineqs:
+            found = exact_sos.get(f"{plain} * {label}")
+            if found is not None:
+                target = target - found[0] * g
+                sos_json[f"{name} * {label}"] = poly_json(found[0])
+                squares[f"{name} * {label}"] = found[1]
+        for label, h in equalities:
+            lam = exact_free.get(f"{plain} * {label}")
+            if lam is not None:
+                target = target - lam * h
+                free_json[f"{name} * {label}"] = poly_json(lam)
+        basis, q = hint["grams"][plain]
+        target, fixes = _repair(ctx, target, basis, equalities)
+        for label, add in fixes.items():
+            key = f"{name} * {label}"
+            lam = exact_free.get(f"{plain} * {label}", ctx.constant(0)) + add
+            if lam.is_zero():
+                free_json.pop(key, None)
+            else:
+                free_json[key] = poly_json(lam)
+        gram = _fit(target, basis, q)
+        if isinstance(gram, str):
+            return f"the obligation {name!r} has no exact PSD Gram matrix near the hint: {gram}"
+        squares[name] = _square(basis, gram)
+    return sos_json, free_json, squares
+
+
+def fraction(q: flint.fmpq) -> Fraction:
+    return Fraction(int(q.p), int(q.q))

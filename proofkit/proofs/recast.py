@@ -1,0 +1,295 @@
+"""Lyapunov and region-of-attraction proofs for fields with sin, cos and exp, by recasting.
+
+Recasting (A. Papachristodoulou and S. Prajna, "Analysis of non-polynomial
+systems using the sum of squares decomposition", Positive Polynomials in
+Control, LNCIS 312, Springer 2005): every ``sin``/``cos``/``exp`` atom of the
+field gets new variables (``S = sin(delta)``, ``C = cos(delta) - 1``,
+``E = exp(delta) - 1``) with their exact derivative rules along the flow, the
+equality ``S^2 + C^2 + 2C = 0`` and Taylor bounds that hold for every real
+argument; the Lyapunov conditions are then sums of squares on that
+semialgebraic set (free multipliers for the equalities, sum-of-squares
+multipliers for the inequalities). A field with constants in Q(sqrt d) is
+handled at both ends of a rational enclosure of sqrt d (the Lie derivative
+is affine in it). Never a truncated Taylor polynomial in place of the field.
+
+Public: :func:`attempt` (the prover interface of :mod:`proofkit.proofs`) and
+:func:`region_search` (one region-of-attraction search towards given
+sample points, e.g. a simulated region). Searching is numerical; the entry
+is exact and only the audit (schemas ``recast-lyapunov-local``,
+``recast-region-of-attraction``) decides. This module never marks a claim
+proved by itself.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from fractions import Fraction
+from math import isqrt
+from typing import TYPE_CHECKING, Any
+
+import flint
+import numpy as np
+
+from proofkit.certificate import claim_entry, claim_scope, claim_structure, model_section
+from proofkit.proofs._recast_exact import exact_evidence, poly_json, round_poly
+from proofkit.proofs._recast_search import Obligation, SearchData, hint_step, numeric, shape_step
+from proofkit.proofs._recast_system import RecastSystem, Unsupported, build_system
+
+if TYPE_CHECKING:
+    from proofkit.model import Claim, Model
+    from proofkit.proofs import ProofAttempt
+
+__all__ = ["RecastResult", "attempt", "region_search"]
+
+EPS = Fraction(1, 1000)
+ENCLOSURE_BITS = 48
+LEVELS = (1.0, 0.97, 0.9, 0.75, 0.5)
+
+
+@dataclass(frozen=True)
+class RecastResult:
+    """An exact evidence object (or None with the reason) and the numerical V it came from."""
+
+    evidence: dict[str, Any] | None
+    reason: str
+    v: dict[tuple[int, ...], float] | None = None
+    system: RecastSystem | None = None
+
+
+def _q(x: Fraction) -> flint.fmpq:
+    return flint.fmpq(x.numerator, x.denominator)
+
+
+def _enclosure(d: int) -> tuple[Fraction, Fraction] | None:
+    if d == 0:
+        return None
+    k = ENCLOSURE_BITS
+    lo = Fraction(isqrt(d * 4**k), 2**k)
+    return lo, lo + Fraction(1, 2**k)
+
+
+def _state_poly(system: RecastSystem, data: list[Any]) -> flint.fmpq_mpoly:
+    """A POLY over the states at ``x* + y``, in the z context."""
+    ctx = system.ctx
+    acc = ctx.constant(0)
+    g = ctx.gens()
+    for exps, coef in data:
+        term = ctx.constant(_q(Fraction(coef)))
+        for i, k in enumerate(exps):
+            if k:
+                term = term * (g[i] + ctx.constant(_q(system.point[i]))) ** k
+        acc = acc + term
+    return acc
+
+
+def _lie(v: flint.fmpq_mpoly, fld: list[flint.fmpq_mpoly], ctx: Any) -> flint.fmpq_mpoly:
+    return sum((v.derivative(i) * fi for i, fi in enumerate(fld)), ctx.constant(0))
+
+
+@dataclass
+class _Problem:
+    system: RecastSystem
+    sets: list[tuple[flint.fmpq_mpoly, bool]]
+    domain: list[tuple[flint.fmpq_mpoly, bool]]
+    enclosure: tuple[Fraction, Fraction] | None
+    order: int
+
+    def norm(self) -> flint.fmpq_mpoly:
+        g = self.system.ctx.gens()
+        return sum((g[i] ** 2 for i in range(self.system.n)), self.system.ctx.constant(0))
+
+    def taylor(self) -> list[tuple[str, flint.fmpq_mpoly]]:
+        return list(self.system.inequalities)
+
+    def search_data(self, attracts: bool, level: float) -> SearchData:
+        s, eps = self.system, float(EPS) * 1.5
+        neg_norm = {e: -eps * c for e, c in numeric(self.norm()).items()}
+        tay = [(lbl, numeric(g)) for lbl, g in self.taylor()]
+        obs = [
+            Obligation("positive", neg_norm, tay, v_sign=1.0),
+            Obligation("decrease", neg_norm, [("level", {}), *tay], lie=True, extra=2),
+        ]
+        if attracts:
+            zero = tuple([0] * s.nz)
+            sets = [(f"set {i + 1}", numeric(g)) for i, (g, _st) in enumerate(self.sets)]
+            obs.append(Obligation("inside", {zero: level}, [*sets, *tay], v_sign=-1.0))
+            for j, (h, strict) in enumerate(self.domain):
+                base = numeric(h)
+                if strict:
+                    base[zero] = base.get(zero, 0.0) - float(EPS)
+                obs.append(Obligation(f"domain {j + 1}", base, [("level", {}), *tay], extra=2))
+        eqs = [(lbl, numeric(h)) for lbl, h in s.equalities]
+        return SearchData(s.nz, s.n, s.numeric_field(), eqs, obs)
+
+    def exact_bases(self, v: flint.fmpq_mpoly, level: Fraction, attracts: bool) -> dict:
+        ctx, eps = self.system.ctx, ctx_const(self.system.ctx, EPS)
+        gap = ctx_const(ctx, level) - v
+        tay = self.taylor()
+        out = {"positive": (v - eps * self.norm(), tay)}
+        for label, fld in self.system.vertex_fields(self.enclosure):
+            name = f"decrease {label}".strip()
+            out[name] = (-_lie(v, fld, ctx) - eps * self.norm(), [("level", gap), *tay])
+        if attracts:
+            sets = [(f"set {i + 1}", g) for i, (g, _st) in enumerate(self.sets)]
+            out["inside"] = (gap, [*sets, *tay])
+            for j, (h, strict) in enumerate(self.domain):
+                out[f"domain {j + 1}"] = (h - eps if strict else h, [("level", gap), *tay])
+        return out
+
+
+def ctx_const(ctx: Any, x: Fraction) -> flint.fmpq_mpoly:
+    return ctx.constant(_q(x))
+
+
+def _problem(model: Model, claim: Claim, order: int) -> _Problem | str:
+    if claim.kind not in ("stable", "attracts"):
+        return "recasting proves stable and attracts claims"
+    if claim_scope(model, claim) != "nominal":
+        return "recasting proves claims at the nominal parameter values only"
+    section = model_section(model)
+    trees = (section.get("expressions") or {}).get("components")
+    if not trees:
+        return "the field is polynomial or rational, or has no expression trees"
+    structure = claim_structure(model, claim)
+    eq = structure.get("equilibrium") or {}
+    pt = eq.get("point")
+    if pt is None or not all(isinstance(x, str) for x in pt):
+        return "recasting needs a rational equilibrium point"
+    nominal = []
+    for p in model.params:
+        if p.is_uncertain:
+            if not p.nominal.is_Rational:
+                return f"the nominal value of {p.name} is not rational"
+            nominal.append(Fraction(int(p.nominal.p), int(p.nominal.q)))
+    try:
+        system = build_system(trees, [Fraction(x) for x in pt], nominal, order)
+    except Unsupported as exc:
+        return f"the field cannot be recast: {exc}"
+    sets = [(_state_poly(system, c["g"]), c["strict"]) for c in structure.get("set") or []]
+    dom = [(_state_poly(system, c["g"]), c["strict"]) for c in section.get("domain") or []]
+    return _Problem(system, sets, dom, _enclosure(system.d), order)
+
+
+def _initial_s0(data: SearchData, scale: float) -> dict[str, dict[tuple[int, ...], float]]:
+    sq = {tuple(2 * int(i == j) for j in range(data.nz)): scale for i in range(data.nz)}
+    return {
+        f"{ob.name} * level": sq
+        for ob in data.obligations
+        if ob.ineqs and ob.ineqs[0][0] == "level"
+    }
+
+
+def _certify(
+    prob: _Problem, v_num: dict, degree: int, attracts: bool, say: Callable
+) -> RecastResult:
+    ctx = prob.system.ctx
+    v = round_poly(ctx, v_num, 30)
+    v_float = numeric(v)
+    why = "no level of the found V could be certified"
+    for level_f in LEVELS:
+        level = Fraction(level_f).limit_denominator(1000)
+        say(f"recast: exact certificate at level {level}")
+        data = prob.search_data(attracts, float(level))
+        hint = hint_step(data, v_float, degree, float(level))
+        if hint is None:
+            why = f"no multipliers with a positive margin at level {level}"
+            continue
+        bases = prob.exact_bases(v, level, attracts)
+        out = exact_evidence(ctx, bases, list(prob.system.equalities), hint)
+        if isinstance(out, str):
+            why = out
+            say(f"recast: {out}")
+            continue
+        sos, free, squares = out
+        enc = prob.enclosure
+        evidence = {
+            "recast": {
+                "taylor_order": prob.order,
+                "enclosure": None if enc is None else [str(enc[0]), str(enc[1])],
+            },
+            "V": poly_json(v),
+            "numbers": {"eps": str(EPS), "level": str(level)},
+            "multipliers": sos,
+            "free": free,
+            "squares": squares,
+        }
+        return RecastResult(evidence, f"certified at level {level}", v_num, prob.system)
+    return RecastResult(None, why, v_num, prob.system)
+
+
+def region_search(
+    model: Model,
+    claim: Claim,
+    samples_x: np.ndarray,
+    *,
+    degree: int = 4,
+    order: int = 1,
+    s0_scale: float = 0.1,
+    progress: Callable[[str], None] | None = None,
+) -> RecastResult:
+    """One search: V towards ``{V <= 1}`` holding the sample points, then exact evidence."""
+    say = progress or (lambda _m: None)
+    prob = _problem(model, claim, order)
+    if isinstance(prob, str):
+        return RecastResult(None, prob)
+    attracts = claim.kind == "attracts"
+    data = prob.search_data(attracts, 1.0)
+    say(f"recast: searching V of degree {degree} in {', '.join(prob.system.names)}")
+    v_num = shape_step(data, degree, _initial_s0(data, s0_scale), prob.system.lift(samples_x))
+    if v_num is None:
+        return RecastResult(None, "the numerical search found no V", None, prob.system)
+    return _certify(prob, v_num, degree, attracts, say)
+
+
+def _samples(model: Model, claim: Claim, prob: _Problem, count: int = 400) -> np.ndarray:
+    """Points of the claim's set (attracts) or of a small ball (stable) around the point."""
+    n = prob.system.n
+    center = np.array([float(x) for x in prob.system.point])
+    rng = np.random.default_rng(11)
+    if claim.kind == "stable":
+        return center + 0.05 * rng.uniform(-1, 1, (count, n))
+    pts = center + rng.uniform(-4, 4, (count * 20, n))
+    y = pts - center
+    keep = np.ones(len(pts), bool)
+    for g, strict in prob.sets:
+        val = np.zeros(len(pts))
+        for e, c in zip(g.monoms(), g.coeffs(), strict=True):
+            val += float(c) * np.prod(y ** np.array([int(x) for x in e[:n]]), axis=1)
+        keep &= val > 0 if strict else val >= 0
+    return pts[keep][:count] if keep.any() else center[None, :]
+
+
+def attempt(model: Model, claim: Claim, progress: Callable[[str], None]) -> ProofAttempt | None:
+    """The prover interface: an audited-to-be entry for stable/attracts claims, or None."""
+    from proofkit.proofs import ProofAttempt
+
+    prob = _problem(model, claim, 1)
+    if isinstance(prob, str):
+        return None
+    theorem = "recast-lyapunov-local" if claim.kind == "stable" else "recast-region-of-attraction"
+    why = "no recast certificate found"
+    for degree, order in ((4, 1), (4, 2)):
+        if order != prob.order:
+            prob2 = _problem(model, claim, order)
+            if isinstance(prob2, str):
+                break
+            prob = prob2
+        res = region_search(
+            model,
+            claim,
+            _samples(model, claim, prob),
+            degree=degree,
+            order=order,
+            progress=progress,
+        )
+        if res.evidence is not None:
+            entry = claim_entry(
+                model, claim, "proved", method="recast", theorem=theorem, evidence=res.evidence
+            )
+            return ProofAttempt(entry, f"recast: V of degree {degree}, {res.reason}")
+        why = res.reason
+    from proofkit.certificate import not_proved_entry
+
+    reason = f"recasting found no certificate: {why}"
+    return ProofAttempt(not_proved_entry(model, claim, reason), reason)
