@@ -34,6 +34,8 @@ __all__ = ["alternate"]
 ROUNDS = 12
 BACKOFF = Fraction(97, 100)
 DENOMINATOR = 10**6
+STEPS = 8  # bisection steps per level (the ratio needs no more)
+SPAN = 8  # the set's level may exceed the decrease level by at most 2^SPAN
 
 
 def _to_poly(space: Any, u: Any, value: np.ndarray) -> Any:
@@ -65,7 +67,7 @@ def _is_square(e: tuple, n: int) -> bool:
     return sum(e[:n]) == 2 and max(e[:n]) == 2 and not any(e[n:])
 
 
-def _level_step(ctx: dict, v: Any, deadline: float) -> tuple[Fraction, Fraction, dict] | None:
+def _level_step(ctx: dict, v: Any, deadline: float) -> tuple[Fraction, Fraction, dict] | str:
     """(decrease level c, inside level gamma, numeric multipliers at c) for a fixed ``V``."""
     from proofkit.proofs._ranges_basin import _bisect, _feasible, _programs
     from proofkit.sos import solve_program
@@ -74,21 +76,23 @@ def _level_step(ctx: dict, v: Any, deadline: float) -> tuple[Fraction, Fraction,
     progs = _programs(space, g, box, v, sets, doms, n)
     low = Fraction(1, 10**6)
     if not _feasible(progs["decrease"], low):
-        return None
+        return "V does not decrease on any sublevel set over the whole box"
     hi = Fraction(1)
     while _feasible(progs["decrease"], hi) and hi < 10**6:
         low, hi = hi, hi * 4
-    top = _bisect(progs["decrease"], low, hi, True, deadline)
-    gamma_hi = top * 64
-    if not _feasible(progs["inside"], gamma_hi):
-        return None
-    gamma = _bisect(progs["inside"], Fraction(0), gamma_hi, False, deadline)
+    top = _bisect(progs["decrease"], low, hi, True, deadline, STEPS)
+    gamma_lo, gamma_hi = Fraction(0), top
+    while not _feasible(progs["inside"], gamma_hi):
+        if gamma_hi > top * 2**SPAN:
+            return "the claim's set is far outside every sublevel set where V decreases"
+        gamma_lo, gamma_hi = gamma_hi, gamma_hi * 4
+    gamma = _bisect(progs["inside"], gamma_lo, gamma_hi, False, deadline, STEPS)
     prog, level, obl = progs["decrease"]
     c = Fraction(float(top * BACKOFF)).limit_denominator(DENOMINATOR)
     level.set(c)
-    sol = solve_program(prog)
+    sol = solve_program(prog, "CLARABEL")
     if sol.status not in ("solved", "inaccurate") or not sol.usable:
-        return None
+        return f"the multipliers at level {float(c):.4g} were not found ({sol.status})"
     mults = {k: _to_poly(space, u, sol.values[u.name]) for k, u in obl.items() if k[0] in "st"}
     return c, gamma, mults
 
@@ -131,7 +135,7 @@ def _shape_step(ctx: dict, c: Fraction, mults: dict) -> Any | None:
     prog.require_sos(dec, "decrease")
     prog.require_sos(ins, "inside")
     prog.minimize({gamma: 1})
-    sol = solve_program(prog)
+    sol = solve_program(prog, "CLARABEL")  # interior point: faster and sharper here than SCS
     if sol.status not in ("solved", "inaccurate") or not sol.usable:
         return None
     return _normalise(space, _to_poly(space, v, sol.values["V"]), n)
@@ -155,8 +159,8 @@ def alternate(
         if time.perf_counter() > deadline:
             return
         step = _level_step(ctx, v, deadline)
-        if step is None:
-            say(f"alternating search, degree {degree}: no decrease level for V (round {r + 1})")
+        if isinstance(step, str):
+            say(f"alternating search, degree {degree}, round {r + 1}: {step}")
             return
         c, gamma, mults = step
         ratio = float(c / gamma) if gamma else float("inf")
@@ -167,6 +171,8 @@ def alternate(
         if ratio < best * 1.005 and r >= 3:
             return  # stalled
         best = max(best, ratio)
+        if time.perf_counter() > deadline:
+            return
         new = _shape_step(ctx, c, mults)
         if new is None:
             say(f"alternating search, degree {degree}: the shape step failed (round {r + 1})")
