@@ -175,7 +175,7 @@ def _point_text(q: Any) -> str:
 
 
 def _read(args: argparse.Namespace) -> Model:
-    from proofkit.lang import load_model, parse_model
+    import proofkit
 
     if args.file == "-":
         data = sys.stdin.buffer.read()
@@ -185,8 +185,8 @@ def _read(args: argparse.Namespace) -> Model:
             from proofkit.errors import InputError
 
             raise InputError("<stdin>: the input is not UTF-8 text") from None
-        return parse_model(text, file="<stdin>")
-    return load_model(args.file)
+        return proofkit.parse(text, name="<stdin>")
+    return proofkit.load(args.file)
 
 
 def run(args: argparse.Namespace) -> int:

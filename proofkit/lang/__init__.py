@@ -102,8 +102,3 @@ def _load_model(path: str | os.PathLike[str]) -> Model:
     if text.startswith("\ufeff"):
         text = text[1:]  # a UTF-8 byte order mark is harmless; drop it
     return _parse_model(text, file=name)
-
-
-# remove when proofkit/cli/inspect_cmd.py and proofkit/proofs/_basin_run.py switch
-parse_model = _parse_model
-load_model = _load_model  # remove when proofkit/cli/inspect_cmd.py switches

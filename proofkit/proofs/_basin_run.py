@@ -90,12 +90,13 @@ def _v_in_states(model: Model, v: flint.fmpq_mpoly, point: tuple[Fraction, ...])
 
 def _augmented(model: Model, name: str, v_x: sp.Expr, level: Fraction) -> tuple[Model, Any]:
     """The model with the certified claim appended to its source (and that claim)."""
-    from proofkit.lang import format_expr, parse_model
+    import proofkit
+    from proofkit.lang import format_expr
 
     nominal = " at nominal" if any(p.is_uncertain for p in model.params) else ""
     line = f"claim {name} attracts {format_expr(v_x)} <= {level}{nominal}"
     text = model.source.rstrip("\n") + "\n\n# certified by proofkit basin\n" + line + "\n"
-    aug = parse_model(text, file=model.file)
+    aug = proofkit.parse(text, name=model.file)
     return aug, aug.claims[-1]
 
 
