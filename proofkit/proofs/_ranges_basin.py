@@ -1,14 +1,18 @@
 """``claim E attracts SET`` over parameter ranges: one sublevel set ``{V <= level}`` for the box.
 
-``V`` is the quadratic Lyapunov function of the nominal linearization (``A'P + PA
-= -I``, the classic choice; a hint, exact afterwards), fixed. The parameters are
-extra variables under box multipliers. Two monotone questions are bisected
-numerically on the level (a solver parameter, re-solved without rebuilding):
-the largest level where ``V`` decreases on ``{V <= level}`` and it stays in the
-domain, and the smallest level whose sublevel set contains the claim's set. A
-level between them is made exact with every obligation at once
-(:func:`proofkit.exact.solve_exactly`); only the audit decides
-(``region-of-attraction-over-range``).
+Candidates for ``V``, in order: the quadratic Lyapunov function of the nominal
+linearization (``A'P + PA = -I``, the classic choice), a quadratic ``V`` affine in
+the parameters that decreases along the linearization over the whole box, then
+``V``'s of degree 2 and 4 in the deviation (affine in the parameters) from the
+alternating level/shape search of :mod:`proofkit.proofs._ranges_basin_iter`. Each
+candidate is fixed; the parameters are extra variables under box multipliers.
+Two monotone questions are bisected numerically on the level (a solver
+parameter, re-solved without rebuilding): the largest level where ``V``
+decreases on ``{V <= level}`` and it stays in the domain, and the smallest level
+whose sublevel set contains the claim's set. A level between them is made exact
+with every obligation at once (:func:`proofkit.exact.solve_exactly`); only the
+audit decides (``region-of-attraction-over-range``). One time budget (``BUDGET``
+seconds) bounds the whole search.
 
 This module never marks a claim proved and never imports the audit's arithmetic.
 """
