@@ -24,6 +24,7 @@ from proofkit.report.figures import (
     Scalar,
     _box,
     _jacobian,
+    region_extents,
 )
 
 if TYPE_CHECKING:
@@ -184,7 +185,7 @@ def model_portrait_data(
         drawn = certificate_data(dict(certificate))
         regions = drawn.regions if drawn is not None else ()
     domain = _domain_fn(m, names, fixed)
-    box = _box(points, domain, cycles)
+    box = _box(points, domain, [*cycles, *region_extents(regions, points)])
     where = ", ".join(f"{s} = {v:g}" for s, v in fixed.items())
     note = "streamlines and curves: floating-point integration, for illustration"
     if where:
@@ -335,7 +336,7 @@ def certificate_data(cert: dict[str, Any]) -> PortraitData | None:
         PortraitPoint(name, xy, _display_type(fld, xy, v)) for xy, (name, v) in verdicts.items()
     )
     domain = _cert_domain(model)
-    box = _box(points, domain)
+    box = _box(points, domain, region_extents(regions, points))
     title = f"phase portrait of {model.get('name') or 'the model'} (illustration, not evidence)"
     return PortraitData(
         title,

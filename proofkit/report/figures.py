@@ -501,6 +501,29 @@ def _box(
     return (cx - half, cx + half, cy - half, cy + half)
 
 
+def region_extents(regions: Sequence[PortraitRegion], points: Sequence[PortraitPoint]) -> list[Any]:
+    """Bounding boxes (as two-point curves for :func:`_box`) of the bounded shaded sets.
+
+    A set is sampled on a wide grid around the equilibria; one that reaches the
+    grid's edge is taken as unbounded and left out, so the axes never run away.
+    """
+    import numpy as np
+
+    xs = [p.xy[0] for p in points] or [0.0]
+    ys = [p.xy[1] for p in points] or [0.0]
+    cx, cy = (max(xs) + min(xs)) / 2, (max(ys) + min(ys)) / 2
+    big = 8 * max(2.0, max(xs) - min(xs), max(ys) - min(ys))
+    gx, gy = _grid((cx - big, cx + big, cy - big, cy + big), 241)
+    out = []
+    for region in regions:
+        vals = _on_grid(region.func, gx, gy)
+        ok = vals <= (region.upper if region.upper is not None else region.level)
+        edge = ok[0].any() or ok[-1].any() or ok[:, 0].any() or ok[:, -1].any()
+        if ok.any() and not edge:
+            out.append(np.array([[gx[ok].min(), gy[ok].min()], [gx[ok].max(), gy[ok].max()]]))
+    return out
+
+
 def certificate_portrait_data(cert: dict[str, Any]) -> PortraitData | None:
     """Portrait data from a certificate (planar field); None when it cannot be drawn."""
     from proofkit.report._portrait_data import certificate_data
