@@ -15,7 +15,7 @@ from proofkit.audit.algebra import poly_str
 from proofkit.audit.read import Condition, escape
 from proofkit.audit.schemas import ClaimData, ModelData
 
-__all__ = ["scope_words", "sentence", "set_words"]
+__all__ = ["scope_words", "sentence", "set_words", "tree_str"]
 
 MAX_SHOWN = 300  # characters of one polynomial in a sentence
 
@@ -52,8 +52,29 @@ def scope_words(model: ModelData, scope: str) -> str:
     return f", for every value of {ranges}"
 
 
+def tree_str(expr: tuple[object, ...]) -> str:
+    """A constant expression tree (``claim.exact``) in plain notation, e.g. ``pi*1/3``."""
+    op, args = expr[0], expr[1:]
+    if op == "c":
+        return str(args[0])
+    if op == "pi":
+        return "pi"
+    if op == "var":
+        return f"v{args[0]}"
+    if op == "^":
+        return f"({tree_str(args[0])})^{args[1]}"  # type: ignore[arg-type]
+    if op in ("+", "*"):
+        return "(" + f" {op} ".join(tree_str(a) for a in args) + ")"  # type: ignore[arg-type]
+    return f"{op}({tree_str(args[0])})"  # type: ignore[arg-type]
+
+
 def _point(model: ModelData, claim: ClaimData) -> str:
     name = claim.name or "?"
+    if claim.exact is not None:
+        coords = ", ".join(
+            f"{s} = {_short(tree_str(t))}" for s, t in zip(model.states, claim.exact, strict=True)
+        )
+        return f"the equilibrium {name} ({coords})"
     if claim.point is not None:
         coords = ", ".join(f"{s} = {v}" for s, v in zip(model.states, claim.point, strict=True))
         return f"the equilibrium {name} ({coords})"
