@@ -175,14 +175,29 @@ def _terms(expr: sp.Expr, symbols: Sequence[sp.Symbol]) -> list[list[Any]]:
     return [[list(e), str(c)] for e, c in poly.terms() if c != 0]
 
 
-def _field_exprs(model: Any, shift: Sequence[Any] | None) -> list[sp.Expr] | None:
-    """The model's polynomial field in its states (nominal parameters), shifted to ``shift``."""
+def _function_names(function: Sequence[Any], model: Any) -> list[str]:
+    """The variables of an evidence polynomial: the states, or over a parameter range
+    the states and then the uncertain parameters (as the field lists them)."""
+    states = list(model.states)
+    width = len(function[0][0]) if function else len(states)
+    if width == len(states) or not model.field:
+        return states
+    return list(model.field["variables"])[:width]
+
+
+def _field_exprs(
+    model: Any, shift: Sequence[Any] | None, keep_parameters: bool = False
+) -> list[sp.Expr] | None:
+    """The model's polynomial field in its states, shifted to ``shift``; the uncertain
+    parameters at their nominal values, or kept as symbols (``keep_parameters``)."""
     fld = model.field if model is not None else None
     if not fld or fld.get("denominators") is not None:
         return None
     variables = list(fld["variables"])
     xs = sp.symbols(" ".join(variables), seq=True)
-    nominal = {p["name"]: _q(p["nominal"]) for p in model.parameters}
+    nominal = {} if keep_parameters else {p["name"]: _q(p["nominal"]) for p in model.parameters}
+    if any(v is None for v in nominal.values()):
+        return None
     subs = {s: nominal[v] for s, v in zip(xs, variables, strict=True) if v in nominal}
     states = xs[: len(model.states)]
     if shift is not None:
@@ -190,10 +205,11 @@ def _field_exprs(model: Any, shift: Sequence[Any] | None) -> list[sp.Expr] | Non
     return [_expr(p, xs).subs(subs, simultaneous=True) for p in fld["numerators"]]
 
 
-def _lie(function: Sequence[Any], fld: list[sp.Expr], states: Sequence[str]) -> list[list[Any]]:
-    xs = sp.symbols(" ".join(states), seq=True)
+def _lie(function: Sequence[Any], fld: list[sp.Expr], names: Sequence[str]) -> list[list[Any]]:
+    """``grad V . f`` over the states (the first ``len(fld)`` names), in all ``names``."""
+    xs = sp.symbols(" ".join(names), seq=True)
     v = _expr(function, xs)
-    return _terms(sum(sp.diff(v, x) * f for x, f in zip(xs, fld, strict=True)), xs)
+    return _terms(sum(sp.diff(v, x) * f for x, f in zip(xs, fld, strict=False)), xs)
 
 
 # --- linearization ---------------------------------------------------------------
@@ -296,17 +312,19 @@ def _function_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Bloc
             if cycle
             else "the deviation y = x - x* from the equilibrium (written with the state names)"
         )
+        names = _function_names(ev[key], model)
+        over_range = len(names) > len(states)
         out.append(
-            para(t(f"The {what}, in {coords}: "), m(f"{key} = " + latex_poly(ev[key], states)))
+            para(t(f"The {what}, in {coords}: "), m(f"{key} = " + latex_poly(ev[key], names)))
         )
-        if key == "B":
+        if key == "B" or (over_range and claim.point is None):  # a moving point: see below
             continue
-        fld = _field_exprs(model, None if cycle or claim.point is None else claim.point)
+        fld = _field_exprs(model, None if cycle or claim.point is None else claim.point, over_range)
         if fld is None:
             continue
-        lie = _lie(ev[key], fld, states)
+        lie = _lie(ev[key], fld, names)
         field = "f(x)" if cycle else "f(x^* + y)"
-        body = f"\\dot {key} = \\nabla {key} \\cdot {field} = " + latex_poly(lie, states)
+        body = f"\\dot {key} = \\nabla {key} \\cdot {field} = " + latex_poly(lie, names)
         if len(lie) <= MAX_INLINE_TERMS:
             out.append(para(t("Its derivative along the model's field, expanded exactly:")))
             out.append(Block("math", body))
@@ -404,6 +422,9 @@ def _obligation(
 def _sos(claim: Any, model: Any, appendix: list[Block]) -> list[Block]:
     ev = claim.evidence
     states = list(ev.get("variables") or (model.states if model is not None else []))
+    function = ev.get("V") or ev.get("W") or ev.get("B")
+    if model is not None and function and "variables" not in ev:
+        states = _function_names(function, model)  # states + parameters over a range
     out = _function_blocks(claim, model, appendix) if model is not None else []
     if "p" in ev:
         out.append(para(t("The polynomial: "), m("p = " + latex_poly(ev["p"], states))))
