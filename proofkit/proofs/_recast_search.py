@@ -19,6 +19,7 @@ the result exact and checks it.
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass, field
 
 import cvxpy as cp
@@ -160,7 +161,9 @@ def _lie(v: NumPoly, fld: list[NumPoly]) -> NumPoly:
 def _solve(prob: cp.Problem) -> bool:
     for solver, opts in (("CLARABEL", {}), ("SCS", {"max_iters": 20000, "eps_abs": 1e-7})):
         try:
-            prob.solve(solver=solver, **opts)
+            with warnings.catch_warnings():  # an inaccurate answer is only a hint anyway
+                warnings.simplefilter("ignore")
+                prob.solve(solver=solver, **opts)
         except (cp.error.SolverError, ArithmeticError, ValueError):
             continue
         if prob.status in ("optimal", "optimal_inaccurate"):

@@ -96,7 +96,7 @@ def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawTextHelpFormatter)
     ap.add_argument("--degree", type=int, default=4)
     ap.add_argument("--order", type=int, default=1)
-    ap.add_argument("--rounds", type=int, default=3)
+    ap.add_argument("--rounds", type=int, default=6)
     ap.add_argument("--grid", type=int, default=101)
     args = ap.parse_args()
     t0 = time.perf_counter()
@@ -138,9 +138,8 @@ def main() -> int:
     level = eval_level(best)
     cert = _w(best.evidence, pts) <= level
     cover = (cert & inside).sum() / inside.sum()
-    print(
-        f"audit: {verdict.status} ({t_audit:.1f} s){'' if verdict.status == 'proved' else ': ' + str(verdict.message)}"
-    )
+    note = "" if verdict.status == "proved" else f": {verdict.message}"
+    print(f"audit: {verdict.status} ({t_audit:.1f} s){note}")
     print(f"search and exact certificate: {t_search:.1f} s; total {time.perf_counter() - t0:.1f} s")
     print(
         f"coverage of the true region in the box: {100 * cover:.2f} %  (anchors 18.53 %, 82.52 %)"

@@ -165,7 +165,10 @@ def test_pendulum_energy_decreases_by_the_recast_rules() -> None:
 def test_audit_and_prover_derive_the_same_recast_field() -> None:
     # Two independent implementations (stdlib fractions vs python-flint) of the
     # substitution and derivative rules must agree term by term.
-    src = "state x1, x2\ndx1/dt = x2 + exp(x1 - x2) - 1\ndx2/dt = -x2/2 - cos(x1 + pi/6) + cos(pi/6) + x1^2*sin(x2)\n"
+    src = (
+        "state x1, x2\ndx1/dt = x2 + exp(x1 - x2) - 1\n"
+        "dx2/dt = -x2/2 - cos(x1 + pi/6) + cos(pi/6) + x1^2*sin(x2)\n"
+    )
     trees, _model = _trees(src)
     exprs = read_expressions({"variables": ["x1", "x2"], "components": trees}, ["x1", "x2"], [])
     rc = derive(
