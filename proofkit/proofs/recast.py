@@ -44,7 +44,7 @@ __all__ = ["RecastResult", "attempt", "region_search"]
 
 EPS = Fraction(1, 1000)
 ENCLOSURE_BITS = 48
-LEVELS = (1.0, 0.97, 0.9, 0.75, 0.5)
+LEVELS = (1.0, 0.9, 0.7, 0.5)
 
 
 @dataclass(frozen=True)
@@ -269,7 +269,7 @@ def attempt(model: Model, claim: Claim, progress: Callable[[str], None]) -> Proo
         return None
     theorem = "recast-lyapunov-local" if claim.kind == "stable" else "recast-region-of-attraction"
     why = "no recast certificate found"
-    for degree, order in ((4, 1), (4, 2)):
+    for degree, order in ((4, 1),):
         if order != prob.order:
             prob2 = _problem(model, claim, order)
             if isinstance(prob2, str):
