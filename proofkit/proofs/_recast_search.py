@@ -111,6 +111,8 @@ def _build(data: SearchData, v: object, degree: int, level: float, s0: dict[str,
                 gv = {e: -c for e, c in v.items()}
                 gv[tuple([0] * nz)] = gv.get(tuple([0] * nz), 0.0) + level
                 g = gv
+            if label != "level" and _deg(g) > top:
+                continue  # a bound of higher degree than the target: no room for it
             half = max(0, (top - _deg(g)) // 2)
             low = 1 if (label == "level" and ob.lie) else 0  # decrease vanishes at the point
             u = gram_unknown(_safe(key), full_basis(nz, max(half, low), low))
