@@ -96,7 +96,7 @@ def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawTextHelpFormatter)
     ap.add_argument("--degree", type=int, default=4)
     ap.add_argument("--order", type=int, default=2)
-    ap.add_argument("--rounds", type=int, default=6)
+    ap.add_argument("--rounds", type=int, default=9)
     ap.add_argument("--grid", type=int, default=101)
     args = ap.parse_args()
     t0 = time.perf_counter()
