@@ -267,6 +267,16 @@ def attempt(model: Model, claim: Claim, progress: Callable[[str], None]) -> Proo
     prob = _problem(model, claim, 1)
     if isinstance(prob, str):
         return None
+    conditions = model.at_nominal().definedness
+    if conditions:  # the recast certificate states the field everywhere; no such condition
+        from proofkit.certificate import not_proved_entry
+
+        shown = ", ".join(f"{d.expr} {d.relation} 0" for d in conditions[:3])
+        reason = (
+            f"the field is defined only where {shown}; recast certificates state the field "
+            "on the whole space and cannot carry these conditions yet"
+        )
+        return ProofAttempt(not_proved_entry(model, claim, reason), reason)
     theorem = "recast-lyapunov-local" if claim.kind == "stable" else "recast-region-of-attraction"
     why = "no recast certificate found"
     for degree, order in ((4, 1),):
