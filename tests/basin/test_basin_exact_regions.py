@@ -44,7 +44,7 @@ def test_disc_set_lies_in_the_unit_disc_and_fills_it(disc_run):
     circle = np.column_stack([np.cos(th), np.sin(th)])
     assert not _inside(v, level, circle).any()  # the unit circle is outside the set
     assert _inside(v, level, 0.97 * circle).all()  # and the set comes within 3 % of it
-    assert disc_run.size["value"] <= math.pi  # derived: area of the unit disc
+    assert disc_run.size["value"] <= math.pi  # common practice: the unit disc has area pi
 
 
 def test_strip_set_stays_inside_the_strip():

@@ -41,7 +41,8 @@ claim op stable
 claim saddle unstable
 """
 
-# Pendulum with friction (Khalil, Nonlinear Systems, 3rd ed., 2002, Example 4.3 / Sec. 1.2.1):
+# Pendulum with friction (published: Khalil, Nonlinear Systems, 3rd ed., 2002; example and
+# section numbers (Example 4.3 / Sec. 1.2.1): memory):
 # x1' = x2, x2' = -(g/l) sin x1 - (k/m) x2, here g/l = 10, k/m = 1.
 PENDULUM = """system pendulum
 state x1, x2

@@ -92,7 +92,7 @@ def test_pi_enclosure() -> None:
     st.fractions(min_value=-3, max_value=3, max_denominator=1000),
 )
 def test_pendulum_energy_decreases_along_the_field(x1: Fraction, x2: Fraction) -> None:
-    # published (Khalil, Nonlinear Systems, 3rd ed., Example 4.3): for x1' = x2,
+    # published (Khalil, Nonlinear Systems, 3rd ed.; example number 4.3: memory): for x1' = x2,
     # x2' = -(g/l) sin x1 - (k/m) x2 the energy V = (g/l)(1 - cos x1) + x2^2/2 has
     # dV/dt = -(k/m) x2^2; here g/l = 10, k/m = 1. The audit's own derivative enclosures
     # of V and its enclosure of f give dV/dt = grad V . f, which must contain -x2^2.
