@@ -180,9 +180,13 @@ def _function_names(function: Sequence[Any], model: Any) -> list[str]:
     the states and then the uncertain parameters (as the field lists them)."""
     states = list(model.states)
     width = len(function[0][0]) if function else len(states)
-    if width == len(states) or not model.field:
+    if width == len(states):
         return states
-    return list(model.field["variables"])[:width]
+    variables = list(model.field["variables"]) if model.field else []
+    if len(variables) >= width:
+        return variables[:width]
+    # recast variables (sin, cos - 1, exp - 1 of each argument, in order of appearance)
+    return states + [f"u{i + 1}" for i in range(width - len(states))]
 
 
 def _field_exprs(
@@ -339,8 +343,19 @@ def _function_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Bloc
         shown = ",\\; ".join(f"{_number_name(k)} = {latex_number(v)}" for k, v in numbers.items())
         out.append(para(t("Numbers of the certificate: "), m(shown), t(".")))
     for name, poly in (ev.get("free") or {}).items():
+        shown = latex_poly(poly, _function_names(poly, model) if model is not None else states)
+        out.append(para(t("Free polynomial "), m(f"{latex_label(name)} = " + shown)))
+    if claim.method == "recast":
         out.append(
-            para(t("Free polynomial "), m(f"{latex_label(name)} = " + latex_poly(poly, states)))
+            para(
+                t(
+                    "Recasting (Papachristodoulou and Prajna, 2005): u1, u2, ... stand for "
+                    "sin(a) and cos(a) - 1 of each sine or cosine argument a, and exp(a) - 1 of "
+                    "each exponent, in order of first appearance; the audit derives their "
+                    "derivative rules, the circle constraints and the Taylor bounds from the "
+                    "model's own field, never from the certificate."
+                )
+            )
         )
     return out
 

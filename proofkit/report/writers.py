@@ -75,6 +75,16 @@ def _tex_segs(segs: tuple[Seg, ...]) -> str:
     return "".join(f"\\({text}\\)" if kind == "m" else tex_escape(text) for kind, text in segs)
 
 
+MAX_SOURCE_LINE = 2000  # TeX reads a source line into a fixed buffer; long sums are split
+
+
+def _tex_lines(text: str) -> str:
+    """Long math split into source lines at its sums (a newline is a space to TeX)."""
+    if len(text) <= MAX_SOURCE_LINE:
+        return text
+    return text.replace(" + ", " +\n").replace(" - ", " -\n")
+
+
 def to_latex(blocks: list[Block]) -> str:
     out = [
         "\\documentclass[11pt]{article}",
@@ -94,9 +104,9 @@ def to_latex(blocks: list[Block]) -> str:
                 cmd = "section" if b.level == 2 else "subsection"
                 out.append(f"\\{cmd}*{{{tex_escape(b.text)}}}")
         elif b.kind == "para":
-            out += [_tex_segs(b.segs), ""]
+            out += [_tex_lines(_tex_segs(b.segs)), ""]
         elif b.kind == "math":
-            out += ["\\[", b.text, "\\]"]
+            out += ["\\[", _tex_lines(b.text), "\\]"]
         elif b.kind == "code":
             out += [
                 "\\begin{verbatim}",
