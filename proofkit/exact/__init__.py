@@ -46,15 +46,15 @@ from proofkit.exact.rounding import (
 )
 
 if TYPE_CHECKING:
-    from proofkit.exact.decompose import Decomposition, decompose
+    from proofkit.exact.decomposition import Decomposition, decompose
     from proofkit.exact.ladder import Attempt, ProgramOutcome, solve_exactly
 
 _LAZY = {
     "Attempt": "ladder",
     "ProgramOutcome": "ladder",
     "solve_exactly": "ladder",
-    "Decomposition": "decompose",
-    "decompose": "decompose",
+    "Decomposition": "decomposition",
+    "decompose": "decomposition",
 }
 
 __all__ = [

@@ -3,7 +3,7 @@
 One program per theorem schema of :mod:`proofkit.audit.cycles` (index
 argument, Bendixson–Dulac, Poincaré–Bendixson annulus), built with
 :class:`proofkit.sos.SearchProgram` so that every obligation of the schema is
-one identity ``target == Gram form``; :func:`proofkit.sos.solve_exactly`
+one identity ``target == Gram form``; :func:`proofkit.exact.solve_exactly`
 rounds and checks exactly. The evidence is written from the exact solution
 only, under the obligation names the audit expects.
 
@@ -21,7 +21,8 @@ from typing import Any
 import flint
 import sympy as sp
 
-from proofkit.sos import SearchProgram, full_basis, solve_exactly
+from proofkit.exact import solve_exactly
+from proofkit.sos import SearchProgram, full_basis
 from proofkit.sos.program import SosPoly, Unknown
 
 __all__ = [

@@ -74,7 +74,7 @@ def _denominator_evidence(
     q: sp.Expr, model: Model, point: list[Fraction], evidence: dict[str, Any]
 ) -> dict[str, Any] | None:
     """SOS evidence that Q(x* + y) - eps - t (level - V) >= 0 with constant t >= 0."""
-    from proofkit.exact.decompose import decompose
+    from proofkit.exact.decomposition import decompose
 
     xs = model.state_symbols
     shift = {x: x + sp.Rational(p.numerator, p.denominator) for x, p in zip(xs, point, strict=True)}

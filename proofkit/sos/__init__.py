@@ -25,11 +25,8 @@ Public names
 
 The exact side (rounding, projection, LDL', facial reduction, checks, the
 ladder ``solve_exactly`` and ``decompose``) lives in :mod:`proofkit.exact`,
-which builds on this package; no module here imports it. For callers written
-against the earlier layout, ``proofkit.sos.solve_exactly``, ``decompose``,
-``Decomposition``, ``ProgramOutcome`` and ``Attempt`` still resolve (lazily)
-to their :mod:`proofkit.exact` definitions; new code imports them from there.
-Nothing here declares anything proved.
+which builds on this package; no module here imports it. Nothing here
+declares anything proved.
 """
 
 from __future__ import annotations
@@ -38,8 +35,6 @@ import importlib
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
-    from proofkit.exact.decompose import Decomposition, decompose
-    from proofkit.exact.ladder import Attempt, ProgramOutcome, solve_exactly
     from proofkit.sos.basis import full_basis, newton_basis, prune_diagonal
     from proofkit.sos.poly import PolySpace
     from proofkit.sos.program import (
@@ -76,38 +71,24 @@ _WHERE = {
     "NumericSolution": "proofkit.sos.solve",
     "solve_program": "proofkit.sos.solve",
 }
-# Compatibility names (see the module docstring): defined in proofkit.exact.
-_MOVED = {
-    "Attempt": "ladder",
-    "ProgramOutcome": "ladder",
-    "solve_exactly": "ladder",
-    "Decomposition": "decompose",
-    "decompose": "decompose",
-}
-
 __all__ = [
     "DEFAULT_SOLVER",
-    "Attempt",
-    "Decomposition",
     "FreePoly",
     "Level",
     "NumericSolution",
     "PolyExpr",
     "PolySpace",
-    "ProgramOutcome",
     "Reduction",
     "Scalar",
     "SearchProgram",
     "SosPoly",
     "Unknown",
-    "decompose",
     "drop_monomials",
     "forced_zero_masks",
     "full_basis",
     "newton_basis",
     "pick_solver",
     "prune_diagonal",
-    "solve_exactly",
     "solve_program",
 ]
 
@@ -115,10 +96,8 @@ __all__ = [
 def __getattr__(name: str) -> object:
     if name in _WHERE:
         return getattr(importlib.import_module(_WHERE[name]), name)
-    if name in _MOVED:
-        return getattr(importlib.import_module(f"proofkit.exact.{_MOVED[name]}"), name)
     raise AttributeError(f"module 'proofkit.sos' has no attribute {name!r}")
 
 
 def __dir__() -> list[str]:
-    return sorted(set(globals()) | set(_WHERE) | set(_MOVED))
+    return sorted(set(globals()) | set(_WHERE))

@@ -6,7 +6,7 @@ import sympy as sp
 
 from proofkit.audit import audit_text
 from proofkit.certificate import certificate_from_sos, dumps
-from proofkit.sos import decompose
+from proofkit.exact import decompose
 
 X, Y = sp.symbols("x y", real=True)
 

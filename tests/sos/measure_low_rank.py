@@ -18,7 +18,8 @@ import time
 
 import sympy as sp
 
-from proofkit.sos import decompose, full_basis
+from proofkit.exact import decompose
+from proofkit.sos import full_basis
 
 SYMS = sp.symbols("a b c d", real=True)
 

@@ -5,8 +5,9 @@ from __future__ import annotations
 import numpy as np
 import sympy as sp
 
+from proofkit.exact import decompose
 from proofkit.exact.rounding import compact_denominators, peyrl_parrilo_projection, round_to
-from proofkit.sos import PolySpace, decompose, full_basis
+from proofkit.sos import PolySpace, full_basis
 
 from .helpers import gram_identity_holds, is_psd_exact
 

@@ -7,9 +7,10 @@ import numpy as np
 import pytest
 import sympy as sp
 
-import proofkit.exact.decompose as decompose_mod
+import proofkit.exact.decomposition as decompose_mod
 import proofkit.exact.ladder as certify
-from proofkit.sos import NumericSolution, SearchProgram, decompose, solve_program
+from proofkit.exact import decompose
+from proofkit.sos import NumericSolution, SearchProgram, solve_program
 
 X, Y = sp.symbols("x y", real=True)
 # published: MIT 6.972 lecture notes (Parrilo): an SOS polynomial, certified when solvers work.

@@ -31,7 +31,7 @@ def _imports(path: Path) -> set[str]:
 
 # The package namespace keeps the earlier names solve_exactly/decompose as lazy aliases of
 # their proofkit.exact definitions (documented in proofkit/sos/__init__.py and DEVELOPERS.md).
-COMPATIBILITY = {"proofkit.exact.ladder", "proofkit.exact.decompose"}
+COMPATIBILITY = {"proofkit.exact.ladder", "proofkit.exact.decomposition"}
 
 
 def test_search_layer_never_imports_the_exact_layer() -> None:

@@ -7,7 +7,8 @@ from fractions import Fraction
 import numpy as np
 import sympy as sp
 
-from proofkit.sos import SearchProgram, solve_exactly, solve_program
+from proofkit.exact import solve_exactly
+from proofkit.sos import SearchProgram, solve_program
 
 from .helpers import gram_identity_holds, is_psd_exact
 

@@ -14,7 +14,8 @@ import sympy as sp
 from hypothesis import given
 from hypothesis import strategies as st
 
-from proofkit.sos import SearchProgram, decompose, full_basis, solve_exactly
+from proofkit.exact import decompose, solve_exactly
+from proofkit.sos import SearchProgram, full_basis
 
 from .helpers import gram_identity_holds, is_psd_exact
 

@@ -7,7 +7,8 @@ from fractions import Fraction
 import pytest
 import sympy as sp
 
-from proofkit.sos import SearchProgram, decompose, solve_exactly
+from proofkit.exact import decompose, solve_exactly
+from proofkit.sos import SearchProgram
 
 from .helpers import gram_identity_holds, is_psd_exact
 
