@@ -32,10 +32,13 @@ __all__ = [
     "BITS",
     "ExactSetting",
     "check_evidence",
+    "dyadic",
     "fit_gram",
+    "gram_form",
     "gram_poly",
     "poly_json",
     "psd_gram",
+    "round_matrix",
     "round_poly",
 ]
 
@@ -77,7 +80,7 @@ class ExactSetting:
         return NumPoly(exps, coeffs / self.monomial_scale(exps))
 
 
-def _dyadic(x: float, bits: int, top: float) -> flint.fmpq:
+def dyadic(x: float, bits: int, top: float) -> flint.fmpq:
     """``x`` rounded to a multiple of ``2^-k`` with ``2^-k`` about ``top * 2^-bits``."""
     k = bits - int(np.floor(np.log2(top))) if top > 0 else bits
     den = 2**k if k >= 0 else 1
@@ -93,20 +96,21 @@ def round_poly(
     top = float(np.abs(coeffs).max(initial=0.0))
     terms: dict[tuple[int, ...], flint.fmpq] = {}
     for row, c in zip(v.exps.tolist(), coeffs.tolist(), strict=True):
-        q = _dyadic(c, bits, top)
+        q = dyadic(c, bits, top)
         if q != 0:
             terms[tuple(row)] = terms.get(tuple(row), flint.fmpq(0)) + q
     return setting.space.ctx.from_dict({k: c for k, c in terms.items() if c != 0})
 
 
-def _round_matrix(q: np.ndarray, bits: int) -> Gram:
+def round_matrix(q: np.ndarray, bits: int) -> Gram:
+    """The symmetric part of ``q``, rounded entrywise to dyadic rationals."""
     q = 0.5 * (q + q.T)
     top = float(np.abs(q).max(initial=0.0))
     n = q.shape[0]
     out = [[flint.fmpq(0)] * n for _ in range(n)]
     for i in range(n):
         for j in range(i, n):
-            out[i][j] = out[j][i] = _dyadic(float(q[i, j]), bits, top)
+            out[i][j] = out[j][i] = dyadic(float(q[i, j]), bits, top)
     return out
 
 
@@ -117,6 +121,11 @@ def z_gram_to_y(setting: ExactSetting, basis: np.ndarray, q: np.ndarray) -> np.n
 
 def gram_poly(setting: ExactSetting, basis: np.ndarray, gram: Gram) -> flint.fmpq_mpoly:
     """``b' G b`` exactly."""
+    return gram_form(setting.space.ctx, basis, gram)
+
+
+def gram_form(ctx: Any, basis: np.ndarray, gram: Gram) -> flint.fmpq_mpoly:
+    """``b' G b`` exactly, in the polynomial context ``ctx``."""
     acc: dict[tuple[int, ...], flint.fmpq] = {}
     rows = [tuple(int(e) for e in r) for r in np.asarray(basis).tolist()]
     for i, bi in enumerate(rows):
@@ -125,13 +134,13 @@ def gram_poly(setting: ExactSetting, basis: np.ndarray, gram: Gram) -> flint.fmp
             if c != 0:
                 key = tuple(a + b for a, b in zip(bi, bj, strict=True))
                 acc[key] = acc.get(key, flint.fmpq(0)) + c
-    return setting.space.ctx.from_dict({k: c for k, c in acc.items() if c != 0})
+    return ctx.from_dict({k: c for k, c in acc.items() if c != 0})
 
 
 def psd_gram(q_y: np.ndarray) -> Gram | None:
     """A rational PSD matrix near ``q_y`` (exact LDL'), or None."""
     for bits in BITS:
-        g = _round_matrix(q_y, bits)
+        g = round_matrix(q_y, bits)
         if ldl_psd(g).psd:
             return g
     return None
@@ -141,7 +150,7 @@ def fit_gram(target: flint.fmpq_mpoly, basis: np.ndarray, q_y: np.ndarray) -> Gr
     """Exact PSD ``G`` with ``b' G b == target``: rounding, projection, exact LDL'; else why not."""
     why = "no Gram matrix"
     for bits in BITS:
-        proj = peyrl_parrilo_projection(basis, _round_matrix(q_y, bits), target)
+        proj = peyrl_parrilo_projection(basis, round_matrix(q_y, bits), target)
         if isinstance(proj, str):
             return proj
         ldl = ldl_psd(proj)

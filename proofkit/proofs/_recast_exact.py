@@ -19,46 +19,16 @@ from typing import Any
 import flint
 import numpy as np
 
-from proofkit.exact import ldl_psd, peyrl_parrilo_projection
+from proofkit.exact import ldl_psd
+from proofkit.proofs._basin_exact import BITS, Gram, dyadic, fit_gram, gram_form, poly_json
 
 __all__ = ["BITS", "exact_evidence", "poly_json", "round_poly"]
-
-BITS = (24, 34, 44)
-Gram = list[list[flint.fmpq]]
-
-
-def _dyadic(x: float, bits: int, top: float) -> flint.fmpq:
-    k = bits - int(np.floor(np.log2(top))) if top > 0 else bits
-    k = max(k, 0)
-    return flint.fmpq(round(x * 2**k), 2**k)
 
 
 def round_poly(ctx: Any, p: dict[tuple[int, ...], float], bits: int = 30) -> flint.fmpq_mpoly:
     top = max((abs(c) for c in p.values()), default=0.0)
-    terms = {e: _dyadic(c, bits, top) for e, c in p.items()}
+    terms = {e: dyadic(c, bits, top) for e, c in p.items()}
     return ctx.from_dict({e: c for e, c in terms.items() if c != 0})
-
-
-def _round_matrix(q: np.ndarray, bits: int) -> Gram:
-    q = 0.5 * (q + q.T)
-    top = float(np.abs(q).max(initial=0.0))
-    n = q.shape[0]
-    out = [[flint.fmpq(0)] * n for _ in range(n)]
-    for i in range(n):
-        for j in range(i, n):
-            out[i][j] = out[j][i] = _dyadic(float(q[i, j]), bits, top)
-    return out
-
-
-def _gram_poly(ctx: Any, basis: np.ndarray, gram: Gram) -> flint.fmpq_mpoly:
-    acc: dict[tuple[int, ...], flint.fmpq] = {}
-    rows = [tuple(int(e) for e in r) for r in np.asarray(basis).tolist()]
-    for i, bi in enumerate(rows):
-        for j, bj in enumerate(rows):
-            if gram[i][j] != 0:
-                key = tuple(a + b for a, b in zip(bi, bj, strict=True))
-                acc[key] = acc.get(key, flint.fmpq(0)) + gram[i][j]
-    return ctx.from_dict({k: c for k, c in acc.items() if c != 0})
 
 
 def _psd(q: np.ndarray) -> Gram | None:
@@ -69,26 +39,13 @@ def _psd(q: np.ndarray) -> Gram | None:
     return None
 
 
-def _fit(target: flint.fmpq_mpoly, basis: np.ndarray, q: np.ndarray) -> Gram | str:
-    why = "no Gram matrix"
-    for bits in BITS:
-        proj = peyrl_parrilo_projection(basis, _round_matrix(q, bits), target)
-        if isinstance(proj, str):
-            return proj
-        ldl = ldl_psd(proj)
-        if ldl.psd:
-            return proj
-        why = f"the projected Gram matrix is not PSD ({ldl.reason})"
-    return why
-
-
 def _factor_round(q: np.ndarray, bits: int) -> Gram:
     """``R R'`` with ``R`` a rounded square root of ``q``: PSD by construction."""
     w, u = np.linalg.eigh(0.5 * (q + q.T))
     r = u * np.sqrt(np.clip(w, 0.0, None))[None, :]
     top = float(np.abs(r).max(initial=0.0))
     n = q.shape[0]
-    rr = flint.fmpq_mat(n, n, [_dyadic(float(x), bits, top) for x in r.ravel()])
+    rr = flint.fmpq_mat(n, n, [dyadic(float(x), bits, top) for x in r.ravel()])
     g = rr * rr.transpose()
     return [[g[i, j] for j in range(n)] for i in range(n)]
 
@@ -130,10 +87,6 @@ def _repair(
     return target, fixes
 
 
-def poly_json(p: flint.fmpq_mpoly) -> list[Any]:
-    return [[list(map(int, e)), str(c)] for e, c in zip(p.monoms(), p.coeffs(), strict=True)]
-
-
 def _square(basis: np.ndarray, gram: Gram) -> dict[str, Any]:
     return {"basis": np.asarray(basis).tolist(), "gram": [[str(x) for x in r] for r in gram]}
 
@@ -158,7 +111,7 @@ def exact_evidence(
         g = _psd(q)
         if g is None:
             return f"the multiplier {key!r} did not round to a PSD Gram matrix"
-        p = _gram_poly(ctx, basis, g)
+        p = gram_form(ctx, basis, g)
         if not p.is_zero():
             exact_sos[key] = (p, _square(basis, g))
     exact_free: dict[str, flint.fmpq_mpoly] = {}
@@ -190,7 +143,7 @@ def exact_evidence(
                 free_json.pop(key, None)
             else:
                 free_json[key] = poly_json(lam)
-        gram = _fit(target, basis, q)
+        gram = fit_gram(target, basis, q)
         if isinstance(gram, str):
             return f"the obligation {name!r} has no exact PSD Gram matrix near the hint: {gram}"
         squares[name] = _square(basis, gram)
