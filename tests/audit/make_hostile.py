@@ -22,18 +22,12 @@ import proofkit
 from proofkit.certificate import dumps
 from proofkit.proofs import prove_model
 
+sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+from tests.models import DUFFING
+
 HERE = Path(__file__).resolve().parent / "hostile"
 
-BISTABLE = """\
-system duffing_like
-state x, y
-dx/dt = y
-dy/dt = -x + x^3 - y
-equilibrium origin at x = 0, y = 0
-equilibrium right at x = 1, y = 0
-claim origin stable
-claim right unstable
-"""
+BISTABLE = DUFFING  # a stable origin and a saddle at x = 1 (tests/models.py)
 ROOT_TWO = """\
 state x, y
 dx/dt = x^2 - 2
