@@ -1,0 +1,128 @@
+"""The theorems a proof document names, and the target of each obligation, as text.
+
+``THEOREMS`` maps a certificate's theorem name to (its name in words, the
+statement a reader checks); ``OBLIGATIONS`` maps a theorem to the LaTeX target
+of each named obligation. Data only: may import nothing but the standard
+library; must never hold anything the audit did not define.
+"""
+
+from __future__ import annotations
+
+__all__ = ["OBLIGATIONS", "THEOREMS"]
+
+_ROUTH = (
+    " Routh's theorem: when no first-column entry of the Routh array is zero, the number of "
+    "sign changes in the first column equals the number of roots in the open right half plane."
+)
+_SOS = " Each obligation equals z'Gz with G positive semidefinite, so it is nonnegative everywhere."
+THEOREMS: dict[str, tuple[str, str]] = {
+    "indirect-method-stability": (
+        "Lyapunov's indirect method (linearization), with the Routh–Hurwitz criterion",
+        "If every eigenvalue of the Jacobian at an equilibrium has negative real part, the "
+        "equilibrium of the nonlinear system is locally exponentially stable." + _ROUTH,
+    ),
+    "indirect-method-instability": (
+        "Lyapunov's indirect method (instability), with Routh's count of right-half-plane roots",
+        "If some eigenvalue of the Jacobian at an equilibrium has positive real part, the "
+        "equilibrium of the nonlinear system is unstable." + _ROUTH,
+    ),
+    "sum-of-squares": (
+        "sum-of-squares decomposition with a positive semidefinite Gram matrix",
+        "If p = z'Gz with G positive semidefinite, then p = sum of d_k (l_k' z)^2 with "
+        "d_k >= 0 (LDL'), so p >= 0 at every real point.",
+    ),
+    "lyapunov-global": (
+        "Lyapunov's theorem with a radially unbounded Lyapunov function",
+        "If V(y) >= eps |y|^2 and dV/dt <= -eps (|y|^2)^m along the shifted field, the "
+        "equilibrium is globally asymptotically stable." + _SOS,
+    ),
+    "lyapunov-local": (
+        "Lyapunov's theorem on a sublevel set (S-procedure)",
+        "If V >= eps |y|^2 and dV/dt <= -eps (|y|^2)^m wherever V <= level (S-procedure with "
+        "the multiplier s0 >= 0), the equilibrium is locally asymptotically stable." + _SOS,
+    ),
+    "region-of-attraction": (
+        "a forward-invariant sublevel set of a Lyapunov function (S-procedure)",
+        "If V is positive definite, decreases on {V <= level} and the claim's set lies inside "
+        "{V <= level}, every trajectory from the set converges to the equilibrium." + _SOS,
+    ),
+    "index-no-equilibrium": (
+        "index theory: a closed orbit in the plane encloses an equilibrium",
+        "A convex set free of equilibria (|f|^2 > 0 on it) contains no closed orbit, since the "
+        "orbit and its inside would lie in the set." + _SOS,
+    ),
+    "bendixson-dulac": (
+        "the Bendixson–Dulac criterion",
+        "If div(B f) > 0 on a simply connected (here convex) set, no closed orbit lies in it."
+        + _SOS,
+    ),
+    "poincare-bendixson": (
+        "the Poincaré–Bendixson theorem on a trapping annulus",
+        "A compact annulus that trajectories enter and never leave and that holds no "
+        "equilibrium contains a closed orbit." + _SOS,
+    ),
+    "range-indirect-method-stability": (
+        "Lyapunov's indirect method over parameter boxes, with the Routh–Hurwitz conditions",
+        "If the Hurwitz conditions of det(sI - J(k)) are positive on every box of a cover of "
+        "the parameter ranges, every eigenvalue has negative real part for every parameter "
+        "value, and the equilibrium is locally exponentially stable for each of them.",
+    ),
+    "range-indirect-method-instability": (
+        "Lyapunov's indirect method (instability) over parameter boxes",
+        "If on every box of a cover of the parameter ranges some Routh condition is negative, "
+        "the Jacobian has an eigenvalue with positive real part for every parameter value.",
+    ),
+    "indirect-method-stability-at-a-value": (
+        "Lyapunov's indirect method at one parameter value",
+        "At the parameter value shown every eigenvalue has negative real part." + _ROUTH,
+    ),
+    "indirect-method-instability-at-a-value": (
+        "Lyapunov's indirect method (instability) at one parameter value",
+        "At the parameter value shown some eigenvalue has positive real part, so a claim "
+        "for every value in the range is false." + _ROUTH,
+    ),
+    "lyapunov-global-over-range": (
+        "Lyapunov's theorem over parameter boxes (one V for every parameter value)",
+        "The obligations of the global Lyapunov theorem hold for every parameter value in its "
+        "box, with multipliers for the box constraints." + _SOS,
+    ),
+    "lyapunov-local-over-range": (
+        "Lyapunov's theorem on a sublevel set over parameter boxes",
+        "The obligations of the local Lyapunov theorem hold for every parameter value in its "
+        "box, with multipliers for the box constraints." + _SOS,
+    ),
+    "region-of-attraction-over-range": (
+        "a forward-invariant sublevel set over parameter boxes",
+        "The region-of-attraction obligations hold for every parameter value in its box, with "
+        "multipliers for the box constraints." + _SOS,
+    ),
+    "counterexample-by-simulation": (
+        "a counterexample: a start point in the claim's set whose trajectory does not converge",
+        "The start point is exact; the trajectory is simulated (numerical evidence shown for "
+        "the reader) and the exact facts the audit re-checked are listed below.",
+    ),
+}
+
+OBLIGATIONS: dict[str, dict[str, str]] = {  # target of each obligation, as LaTeX
+    "lyapunov-global": {
+        "positive": r"V - \varepsilon |y|^2",
+        "decrease": r"-\dot V - \varepsilon (|y|^2)^m",
+    },
+    "lyapunov-local": {
+        "positive": r"V - \varepsilon |y|^2",
+        "decrease": r"-\dot V - \varepsilon (|y|^2)^m - s_0 (\mathrm{level} - V)",
+    },
+    "region-of-attraction": {
+        "positive": r"V - \varepsilon |y|^2",
+        "decrease": r"-\dot V - \varepsilon (|y|^2)^m - s_0 (\mathrm{level} - V)",
+        "inside": r"\mathrm{level} - V - \sum_i s_i g_i(x^* + y)",
+    },
+    "index-no-equilibrium": {"apart": r"|f|^2 - \varepsilon - \sum_i s_i g_i"},
+    "bendixson-dulac": {"divergence": r"\operatorname{div}(B f) - \varepsilon - \sum_i s_i g_i"},
+    "poincare-bendixson": {
+        "bounded": r"W - \varepsilon |x|^2 + \mathrm{offset}",
+        "outer": r"-\dot W - \varepsilon + p_o (W - \mathrm{outer})",
+        "inner": r"\dot W - \varepsilon + p_i (W - \mathrm{inner})",
+        "apart": r"|f|^2 - \varepsilon - a_1 (W - \mathrm{inner}) - a_2 (\mathrm{outer} - W)",
+    },
+}
