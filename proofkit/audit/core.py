@@ -64,7 +64,16 @@ __all__ = [
 FORMAT_VERSION = 2
 TIME_LIMIT = 8.0  # seconds of checking per certificate; later claims are rejected, never accepted
 # Schema modules of this package; a module not present yet is skipped.
-SCHEMA_MODULES = ("linear", "lyapunov", "polynomial", "ranges", "cycles", "enclosures", "recast")
+SCHEMA_MODULES = (
+    "linear",
+    "lyapunov",
+    "polynomial",
+    "ranges",
+    "cycles",
+    "enclosures",
+    "recast",
+    "taylor_model",
+)
 for _name in SCHEMA_MODULES:
     try:
         importlib.import_module(f"proofkit.audit.{_name}")
