@@ -237,9 +237,10 @@ def _cert_field(model: dict[str, Any]) -> Field | None:
         num, den, fixed = model["vector_field"], None, []
     elif isinstance(model.get("field"), dict):  # format 2
         fld = model["field"]
-        nominal = {p["name"]: _q(p["nominal"]) for p in model.get("parameters") or []}
-        fixed = [nominal.get(v, 0.0) for v in (fld.get("variables") or states)[2:]]
+        fixed = _nominal_of(model, (fld.get("variables") or states)[2:])
         num, den = fld.get("numerators"), fld.get("denominators")
+    elif isinstance(model.get("expressions"), dict):  # non-polynomial: expression trees
+        return _tree_field(model)
     else:
         return None
     if not num or len(num) != 2:
@@ -252,6 +253,32 @@ def _cert_field(model: dict[str, Any]) -> Field | None:
         if ds is not None:
             u, v = u / ds[0](x, y), v / ds[1](x, y)
         return u, v
+
+    return field_fn
+
+
+def _nominal_of(model: dict[str, Any], names: Sequence[str]) -> list[float]:
+    """Nominal values of the named parameters (0 when a value is not rational: not drawn)."""
+    nominal = {
+        p["name"]: _q(p["nominal"])
+        for p in model.get("parameters") or []
+        if p.get("nominal") is not None
+    }
+    return [nominal.get(v, 0.0) for v in names]
+
+
+def _tree_field(model: dict[str, Any]) -> Field | None:
+    from proofkit.report._trees import numpy_tree
+
+    ex = model["expressions"]
+    comps = ex.get("components") or []
+    if len(comps) != 2:
+        return None
+    fixed = _nominal_of(model, (ex.get("variables") or [])[2:])
+    fs = [numpy_tree(c, 2, fixed) for c in comps]
+
+    def field_fn(x: Any, y: Any) -> tuple[Any, Any]:
+        return fs[0](x, y) + 0.0 * x, fs[1](x, y) + 0.0 * x
 
     return field_fn
 
@@ -280,14 +307,13 @@ def _outside(conds: list[Any]) -> Scalar:
     return f
 
 
-def _cert_regions(entry: dict[str, Any], xy: tuple[float, float] | None) -> list[PortraitRegion]:
+def _cert_regions(
+    entry: dict[str, Any], xy: tuple[float, float] | None, model: dict[str, Any] | None = None
+) -> list[PortraitRegion]:
     ev = entry.get("evidence") or {}
     nums = ev.get("numbers") or {}
-    kind = (
-        (entry.get("claim") or {}).get("kind")
-        if isinstance(entry.get("claim"), dict)
-        else (entry.get("kind"))
-    )
+    claim = entry.get("claim") if isinstance(entry.get("claim"), dict) else {}
+    kind = claim.get("kind") if claim else entry.get("kind")
     if entry.get("status") != "proved":
         return []
     if kind == "cycle" and "W" in ev and "inner" in nums and "outer" in nums:
@@ -299,19 +325,89 @@ def _cert_regions(entry: dict[str, Any], xy: tuple[float, float] | None) -> list
                 _q(nums["outer"]),
             )
         ]
-    conds = (entry.get("claim") or {}).get("set") if isinstance(entry.get("claim"), dict) else None
+    conds = claim.get("set") if claim else None
     if kind == "no cycle" and conds:
         return [PortraitRegion("certified free of periodic orbits", _outside(conds), 0.0)]
-    if "V" in ev and "level" in nums and xy is not None:
-        name = ((entry.get("claim") or {}).get("equilibrium") or {}).get("name", "")
-        return [
-            PortraitRegion(
-                f"certified region of attraction of {name}".rstrip(),
-                _poly_fn(ev["V"], shift=xy),
-                _q(nums["level"]),
-            )
-        ]
-    return []
+    found = _sublevel_set(entry, xy, model or {})
+    if found is None:
+        return []
+    out = [found]
+    if kind == "attracts" and conds:
+        out.append(PortraitRegion("the claim's set", _outside(conds), 0.0, outline=True))
+    return out
+
+
+def _sublevel_set(
+    entry: dict[str, Any], xy: tuple[float, float] | None, model: dict[str, Any]
+) -> PortraitRegion | None:
+    """``{W <= level}`` of a Lyapunov-type proof, drawn in the states.
+
+    ``W`` is ``V(x - x*)`` for a polynomial proof (over a parameter range: at the
+    nominal values), the reparametrized ``V`` of a rational field, and
+    ``V(x - x*, recast(x))`` for a recast proof. A ``V`` over variables the
+    picture cannot evaluate is not drawn.
+    """
+    ev = entry.get("evidence") or {}
+    if entry.get("method") == "sublevel-set-rational":
+        ev = ev.get("reparametrized") or {}
+    nums = ev.get("numbers") or {}
+    v = ev.get("V")
+    if not isinstance(v, list) or not v or "level" not in nums or xy is None:
+        return None
+    width, func = len(v[0][0]), None
+    extra = _parameter_names(model)
+    if width == 2:
+        func = _poly_fn(v, shift=xy)
+    elif entry.get("method") == "recast":
+        func = _recast_fn(v, model, entry, xy)
+    elif width == 2 + len(extra):  # over a parameter range: drawn at the nominal values
+        func = _poly_fn(v, fixed=_nominal_of(model, extra), shift=xy)
+    if func is None:
+        return None
+    name = (((entry.get("claim") or {}).get("equilibrium")) or {}).get("name", "")
+    return PortraitRegion(
+        f"certified region of attraction of {name}".rstrip(), func, _q(nums["level"])
+    )
+
+
+def _parameter_names(model: dict[str, Any]) -> list[str]:
+    fld = model.get("field") or model.get("expressions") or {}
+    return list(fld.get("variables") or [])[2:] if isinstance(fld, dict) else []
+
+
+def _recast_fn(
+    v: list[Any], model: dict[str, Any], entry: dict[str, Any], xy: tuple[float, float]
+) -> Scalar | None:
+    """``W(x) = V(x - x*, S1, C1, ..., E1, ...)`` with the recast variables of the trees."""
+    import numpy as np
+
+    from proofkit.report._trees import recast_values, recast_view
+
+    ex = model.get("expressions") or {}
+    point = ((entry.get("claim") or {}).get("equilibrium") or {}).get("point")
+    names = _parameter_names(model)
+    nominal = [p["nominal"] for n in names for p in model.get("parameters") or []
+               if p["name"] == n]  # fmt: skip
+    if not isinstance(point, list) or len(nominal) != len(names) or None in nominal:
+        return None
+    view = recast_view(ex.get("components") or [], 2, point, nominal)
+    if view is None or 2 + len(view.names) != len(v[0][0]):
+        return None
+    terms = [(tuple(e), _q(c)) for e, c in v]
+
+    def f(x: Any, y: Any) -> Any:
+        ys = [np.asarray(x, dtype=float) - xy[0], np.asarray(y, dtype=float) - xy[1]]
+        zs = ys + recast_values(view, ys)
+        acc = np.zeros(np.broadcast(*ys).shape)
+        with np.errstate(all="ignore"):
+            for e, c in terms:
+                term = c
+                for z, k in zip(zs, e, strict=True):
+                    term = term * z**k if k else term
+                acc = acc + term
+        return acc
+
+    return f
 
 
 def certificate_data(cert: dict[str, Any]) -> PortraitData | None:
@@ -325,7 +421,7 @@ def certificate_data(cert: dict[str, Any]) -> PortraitData | None:
     for entry in cert.get("claims", []):
         found = _cert_point(entry)
         xy = found[1] if found else None
-        regions += _cert_regions(entry, xy)
+        regions += _cert_regions(entry, xy, model)
         if found is None:
             continue
         kind = entry["claim"]["kind"] if isinstance(entry.get("claim"), dict) else entry.get("kind")

@@ -63,12 +63,16 @@ class PortraitPoint:
 
 @dataclass(frozen=True)
 class PortraitRegion:
-    """The set ``{func <= level}`` (or the band ``level <= func <= upper``) to shade."""
+    """The set ``{func <= level}`` (or the band ``level <= func <= upper``) to shade.
+
+    ``outline``: only its boundary is drawn (dashed), e.g. a claim's set.
+    """
 
     label: str
     func: Scalar
     level: float
     upper: float | None = None
+    outline: bool = False
 
 
 @dataclass(frozen=True)
@@ -305,7 +309,8 @@ def _draw_regions(ax: Any, data: PortraitData) -> list[Any]:
 
     gx, gy = _grid(data.box, 160)
     handles, colours = [], ("tab:green", "tab:purple", "tab:orange", "tab:cyan")
-    for i, r in enumerate(data.regions):
+    shaded = [r for r in data.regions if not r.outline]
+    for i, r in enumerate(shaded):
         colour = colours[i % len(colours)]
         z = _on_grid(r.func, gx, gy)
         if not np.isfinite(z).any():
@@ -314,7 +319,7 @@ def _draw_regions(ax: Any, data: PortraitData) -> list[Any]:
         inside = (z >= bottom) & (z <= top)
         if not inside.any():
             continue
-        ax.contourf(
+        filled = ax.contourf(
             gx,
             gy,
             inside.astype(float),
@@ -324,6 +329,7 @@ def _draw_regions(ax: Any, data: PortraitData) -> list[Any]:
             hatches=["//"],
             zorder=0,
         )
+        filled.set_gid("region " + r.label)
         ax.contour(
             gx,
             gy,
@@ -336,6 +342,25 @@ def _draw_regions(ax: Any, data: PortraitData) -> list[Any]:
         handles.append(
             Patch(facecolor=colour, alpha=0.35, hatch="//", edgecolor=colour, label=r.label)
         )
+    return handles + _draw_outlines(ax, data, gx, gy)
+
+
+def _draw_outlines(ax: Any, data: PortraitData, gx: Any, gy: Any) -> list[Any]:
+    """Boundaries of the outlined sets (claims' sets), dashed, with one legend entry each."""
+    import numpy as np
+    from matplotlib.lines import Line2D
+
+    handles = []
+    for r in data.regions:
+        z = _on_grid(r.func, gx, gy) if r.outline else np.array([np.nan])
+        if not np.isfinite(z).any() or not (z <= r.level).any() or not (z > r.level).any():
+            continue
+        cs = ax.contour(
+            gx, gy, z, levels=[r.level], colors=["black"], linestyles=["--"], linewidths=1.3
+        )
+        cs.set_gid("outline " + r.label)
+        cs.set_zorder(5)
+        handles.append(Line2D([], [], color="black", ls="--", lw=1.3, label=r.label))
     return handles
 
 

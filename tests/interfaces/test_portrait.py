@@ -225,3 +225,36 @@ def test_a_certificate_portrait_does_not_load_sympy(tmp_path: Path) -> None:
     done = subprocess.run([PY, "-c", code], capture_output=True, text=True, check=True)
     assert done.stdout.split() == ["True", "False"]
     assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def _drawn_region(ax, gid: str):
+    """The path of a shaded set as drawn (data coordinates), found by its gid."""
+    [coll] = [c for c in ax.collections if c.get_gid() == gid]
+    [path] = coll.get_paths()
+    return path
+
+
+def test_swing_machine_certified_region_holds_the_disc_and_not_the_saddle() -> None:
+    """The recast proof's set {W <= level}, W(x) = V(x - x*, sin d, cos d - 1), as drawn."""
+    import math
+
+    import numpy as np
+
+    from proofkit.report.figures import certificate_portrait_data, draw_portrait
+
+    root = Path(__file__).resolve().parents[2]
+    cert = json.loads((root / "worked" / "swing_machine.certificate.json").read_text())
+    data = certificate_portrait_data(cert)
+    assert data is not None
+    (ax,) = draw_portrait(data).axes
+    region = _drawn_region(ax, "region certified region of attraction of operating")
+    angle = np.linspace(0.0, 2 * math.pi, 72, endpoint=False)
+    disc = np.stack([0.5 * np.cos(angle), 0.5 * np.sin(angle)], axis=1)  # d^2 + w^2 <= 1/4
+    assert region.contains_points(disc * 0.97).all() and region.contains_points([[0.0, 0.0]])[0]
+    # computed (sin(d + pi/3) = sin(pi/3) at d = pi/3, w = 0): the saddle of the swing equation
+    assert not region.contains_points([[math.pi / 3, 0.0], [math.pi / 3 - 0.1, 0.0]]).any()
+    [shaded] = [r for r in data.regions if not r.outline]
+    assert shaded.func(math.pi / 3, 0.0) > shaded.level >= float(np.max(shaded.func(*disc.T)))
+    outline = [c for c in ax.collections if c.get_gid() == "outline the claim's set"]
+    assert len(outline) == 1  # the claim's disc is drawn as well
+    assert {p.name for p in data.points} == {"operating"}
