@@ -136,7 +136,12 @@ def _value(p: Mpoly, values: Sequence[Fraction]) -> flint.fmpq:
     return p(*[flint.fmpq(v.numerator, v.denominator) for v in values])
 
 
-def _good(signs: Sequence[int], kind: str) -> bool:
+def _good(signs: Sequence[int], kind: str, lead: int = 0) -> bool:
+    """The claim's sign pattern; the first ``lead`` conditions (where f is defined) must be
+    positive in every case."""
+    if any(s <= 0 for s in signs[:lead]):
+        return False
+    signs = signs[lead:]
     if kind == "stable":
         return all(s > 0 for s in signs)
     if signs[-1] < 0:  # a_n < 0: a real root s > 0
@@ -147,8 +152,11 @@ def _good(signs: Sequence[int], kind: str) -> bool:
     return all(signs) and any(a != b for a, b in itertools.pairwise(first))
 
 
-def _bad(signs: Sequence[int], kind: str) -> bool:
+def _bad(signs: Sequence[int], kind: str, lead: int = 0) -> bool:
     """The box certainly contradicts the claim (for instability: Hurwitz everywhere in it)."""
+    if any(s <= 0 for s in signs[:lead]):
+        return False  # f is not shown defined at the point: nothing follows
+    signs = signs[lead:]
     if kind == "stable":
         return any(s < 0 for s in signs)
     return all(s > 0 for s in signs)
@@ -204,7 +212,7 @@ def cover_box(
                 continue
             full = (*pbox, riv)
         signs = tuple(bernstein_sign(c, full) for c in conds)
-        if _good(signs, kind):
+        if _good(signs, kind, system.positives):
             leaves.append(Leaf(full, signs))
             continue
         verdict = _probe_box(system, pbox, full, conds, kind, signs)
@@ -282,15 +290,27 @@ def contradicts(system: RangeSystem, kind: str, pt: Sequence[Fraction]) -> bool:
     """Exactly: at ``pt`` the linearization has a root with Re s > 0 (claim stable), or
     every root has Re s < 0 (claim unstable)."""
     ra = linearization_at(system, pt)
-    if ra is None:
+    if ra is None or not _defined_at(system, pt):
         return False
     return ra.rhp_count > 0 if kind == "stable" else ra.hurwitz
+
+
+def _defined_at(system: RangeSystem, pt: Sequence[Fraction]) -> bool:
+    """The leading conditions (sigma Q, where f is defined) are positive at ``pt``."""
+    if not system.positives:
+        return True
+    values = [sp.Rational(v.numerator, v.denominator) for v in pt]
+    if system.radicand is not None:
+        g = _value(system.radicand, (*pt, Fraction(0)))
+        values.append(sp.sqrt(sp.Rational(int(g.p), int(g.q))))
+    at = dict(zip(_syms(system), values, strict=True))
+    return all(sp.expand(to_sympy(c).subs(at)) > 0 for c in system.conditions[: system.positives])
 
 
 def _probe_box(system, pbox, full, conds, kind, signs):
     """A contradicting point (tuple), a touching point and reason (list), or None."""
     candidates = []
-    if _bad(signs, kind):  # every point of the box has the wrong sign: pick a simple one
+    if _bad(signs, kind, system.positives):  # the whole box has the wrong sign: a simple point
         candidates.append(tuple(simplest_between(lo, hi) for lo, hi in pbox))
     candidates += [tuple(v) for v in itertools.product(*pbox)]
     candidates.append(tuple((lo + hi) / 2 for lo, hi in pbox))

@@ -90,11 +90,17 @@ class RangeSystem:
     point: tuple[tuple[Mpoly, Mpoly], ...]
     charpoly: tuple[Mpoly, ...]
     conditions: tuple[Mpoly, ...]
+    positives: int = 0  # leading conditions that must be positive (where f is defined)
+    denominator_sign: int | None = None  # sigma of a rational field (see range_system)
 
     @property
     def condition_names(self) -> tuple[str, ...]:
         n = len(self.charpoly) - 1
-        return (*(f"Delta_{k}" for k in range(1, n)), f"a_{n}")
+        lead = tuple(
+            "sigma Q" if k == 0 and self.denominator_sign else f"defined_{k + 1}"
+            for k in range(self.positives)
+        )
+        return (*lead, *(f"Delta_{k}" for k in range(1, n)), f"a_{n}")
 
     @property
     def variables(self) -> tuple[str, ...]:
@@ -204,26 +210,34 @@ def range_system(model: Model, name: str) -> RangeSystem | str:
     ctx = flint.fmpq_mpoly_ctx.get(names, "lex")
     big_r = sp.Symbol(_RADICAL)
     vsyms = [*syms, big_r] if radical else syms
-    fs = [sp.expand(f.subs(fixed)) for f in model.field]
+    parts = _rational_parts(model, fixed, [*xs, *syms])
+    if isinstance(parts, str):
+        return parts
+    nums, dens, defined = parts
     try:
-        if not all(f.is_polynomial(*xs, *syms) for f in fs):
-            return "the vector field is not polynomial in the states and uncertain parameters"
         radicand = _to_mpoly(g, [*syms, big_r], ctx) if radical else None
         point = tuple(_to_mpoly(c, vsyms, ctx) for c in coords)
-        jac = [[sp.expand(sp.diff(f, x)) for x in xs] for f in fs]
         sub = dict(zip(xs, coords, strict=True))
-        residual = [reduce_radical(_to_mpoly(f.subs(sub), vsyms, ctx), radicand) for f in fs]
-        jm = [
-            [reduce_radical(_to_mpoly(e.subs(sub), vsyms, ctx), radicand) for e in row]
-            for row in jac
-        ]
+
+        def at_point(e: sp.Expr) -> Mpoly:
+            return reduce_radical(_to_mpoly(sp.expand(e).subs(sub), vsyms, ctx), radicand)
+
+        residual = [at_point(f) for f in nums]
+        distinct = list(dict.fromkeys(dens))
+        sigma = _denominator_sign(distinct, model, sub, syms) if distinct != [1] else None
+        if isinstance(sigma, str):
+            return sigma
+        scale = [sp.Mul(*[d for d in distinct if d != den]) * (sigma or 1) for den in dens]
+        jm = [[at_point(scale[i] * sp.diff(f, x)) for x in xs] for i, f in enumerate(nums)]
+        positive = [at_point(sp.Mul(*distinct) * sigma)] if sigma else []
+        positive += [at_point(c) for c in defined]
     except (ValueError, sp.PolynomialError) as exc:
         return f"not exact polynomials in the parameters: {exc}"
     if any(not r.is_zero() for r in residual):
         return f"{name} is not an equilibrium for every parameter value (f does not vanish)"
     split = tuple(_split_radical(c, radicand) for c in point)
     cp = charpoly(jm, radicand)
-    conditions = hurwitz_conditions(cp, radicand)
+    conditions = [*positive, *hurwitz_conditions(cp, radicand)]
     grid = sum(_grid(c) for c in [*conditions, *([radicand] if radicand is not None else [])])
     if grid > MAX_GRID:
         return (
@@ -240,7 +254,54 @@ def range_system(model: Model, name: str) -> RangeSystem | str:
         split,
         tuple(cp),
         tuple(conditions),
+        len(positive),
+        sigma,
     )
+
+
+def _rational_parts(
+    model: Model, fixed: dict[Any, Any], syms: Sequence[sp.Symbol]
+) -> tuple[list[sp.Expr], list[sp.Expr], list[sp.Expr]] | str:
+    """Numerators, denominators and definedness conditions (``g > 0``) of the field.
+
+    The same split as the certificate's model section (``together``, then numerator
+    and denominator expanded; nothing cancelled), so the audit rebuilds the same
+    polynomials from the certificate.
+    """
+    nums, dens, defined = [], [], []
+    try:
+        for f in model.field:
+            e = f.subs(fixed)
+            num, den = (e, sp.Integer(1)) if e.is_polynomial(*syms) else sp.fraction(sp.together(e))
+            num, den = sp.expand(num), sp.expand(den)
+            if not (num.is_polynomial(*syms) and den.is_polynomial(*syms)):
+                return "the vector field is not rational in the states and uncertain parameters"
+            nums.append(num)
+            dens.append(den)
+        for d in getattr(model, "definedness", ()):
+            e = sp.expand(d.expr.subs(fixed))
+            if e.free_symbols:
+                defined.append(sp.expand(e**2) if d.relation == "!=" else e)
+        if any(d != 1 for d in dens):
+            defined += [sp.expand(d**2) for d in dens if d != 1]
+    except sp.PolynomialError as exc:
+        return f"not exact polynomials in the parameters: {exc}"
+    return nums, dens, list(dict.fromkeys(defined))
+
+
+def _denominator_sign(
+    distinct: list[sp.Expr], model: Model, sub: dict[Any, Any], syms: Sequence[sp.Symbol]
+) -> int | str:
+    """sigma = the sign of Q = (product of the distinct denominators) at the nominal point.
+
+    Where sigma Q > 0 the Jacobian is J = B / (sigma Q) with B = diag(sigma Q / D_i) J_N,
+    so J and B have their eigenvalues in the same half plane.
+    """
+    nominal = {p.symbol: p.nominal for p in model.params if p.is_uncertain}
+    value = sp.Mul(*distinct).subs(sub).subs(nominal)
+    if not value.is_number or value == 0:
+        return "a denominator of the field vanishes at the equilibrium (nominal values)"
+    return 1 if value > 0 else -1
 
 
 def _poly_json(expr: sp.Expr, syms: Sequence[sp.Symbol]) -> list[Any]:

@@ -65,7 +65,11 @@ def _at_value(model: ModelData, claim: ClaimData, checks: Checks) -> tuple[list[
     fields = [_at_params(f, pstar, n, d) for f in sys.field]
     for i, f in enumerate(fields):
         require(poly_eval(f, point).is_zero(), "equilibrium", f"f{i + 1} is not 0 at the point")
-    jac = [[poly_eval(poly_derivative(f, j), point) for j in range(n)] for f in fields]
+    scale = _defined_scales(sys, pstar, point, d)
+    jac = [
+        [poly_eval(poly_derivative(f, j), point) * scale[i] for j in range(n)]
+        for i, f in enumerate(fields)
+    ]
     cp = char_poly(jac)
     require(
         cp == read_vector(get(ev, "characteristic_polynomial", list, w), d, f"{w}.cp", n + 1),
@@ -101,6 +105,25 @@ def _at_value(model: ModelData, claim: ClaimData, checks: Checks) -> tuple[list[
     changes = sign_changes([r[0] for r in rows])
     require(changes == get(ro, "sign_changes", int, rw), "routh", "wrong number of sign changes")
     return rows, shift
+
+
+def _defined_scales(sys: _System, pstar: Sequence[Fraction], point: list[Num], d: int) -> list[Num]:
+    """``1 / D_i`` at the point (1 for a polynomial field), after checking that every
+    denominator is nonzero and every condition of the field positive there, so that the
+    Jacobian of ``N / D`` at a zero of ``N`` is ``diag(1 / D_i) J_N``."""
+    n = sys.n
+    for k, g in enumerate(sys.defined):
+        value = poly_eval(_at_params(g, pstar, n, d), point)
+        require(value.sign() > 0, "defined", f"condition {k + 1} of the field fails at the point")
+    out = []
+    for i, den in enumerate(sys.dens or [None] * n):
+        if den is None:
+            out.append(Num.of(1, d))
+            continue
+        value = poly_eval(_at_params(den, pstar, n, d), point)
+        require(not value.is_zero(), "defined", f"denominator {i + 1} vanishes at the point")
+        out.append(Num.of(1, d) / value)
+    return out
 
 
 def _at_params(f: Q, pstar: Sequence[Fraction], n: int, d: int) -> dict[tuple[int, ...], Num]:

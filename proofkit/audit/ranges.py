@@ -127,10 +127,16 @@ def _value(p: Q, point: Sequence[Num]) -> Num:
 class _System:
     """The claim's equilibrium as polynomials in (parameters, r) and its linearization."""
 
-    def __init__(self, model: ModelData, claim: ClaimData) -> None:
+    def __init__(self, model: ModelData, claim: ClaimData, sigma: int | None = None) -> None:
         require(model.numerators is not None, "field", "the certificate states no vector field")
-        require(model.denominators is None, "field", "a rational field is not supported here")
-        require(not model.conditions, "field", "the field is defined only under conditions")
+        require(
+            sigma is None or model.denominators is not None,
+            "field",
+            "denominator_sign is given but the field is polynomial",
+        )
+        self.sigma = sigma
+        self.dens = [_rational(d, "denominator") for d in model.denominators or ()]
+        self.defined = [_rational(g, "condition") for g, _strict in model.conditions]
         self.n, self.m = len(model.states), len(model.uncertain)
         require(1 <= self.n <= MAX_STATES, "size", f"at most {MAX_STATES} states here")
         self.params = [p.name for p in model.uncertain]
@@ -189,8 +195,42 @@ class _System:
             out = _add(out, term)
         return out
 
+    def _scales(self) -> tuple[list[Q], list[Q]]:
+        """Row factors ``sigma Q / D_i`` at the point, and the conditions that must be
+        positive there: ``sigma Q`` (rational fields) and the field's own conditions.
+
+        ``Q`` is the product of the distinct denominators. Where ``sigma Q > 0`` the
+        Jacobian of ``N / D`` at a zero of ``N`` is ``B / (sigma Q)`` with ``B_ij =
+        (sigma Q / D_i) dN_i/dx_j``: the eigenvalues of J and B lie in the same half plane.
+        """
+        one = _const(Fraction(1), self.nv)
+        defined = [self.substitute(c) for c in self.defined]
+        if self.sigma is None:
+            return [one] * self.n, defined
+        distinct: list[Q] = []
+        for d in self.dens:
+            if d not in distinct:
+                distinct.append(d)
+        at = [self.substitute(d) for d in distinct]
+        sign = _const(Fraction(self.sigma), self.nv)
+        rows = []
+        for d in self.dens:
+            row = sign
+            for k, other in enumerate(distinct):
+                if other != d:
+                    row = _mul(row, at[k], self.g)
+            rows.append(row)
+        q = sign
+        for a in at:
+            q = _mul(q, a, self.g)
+        return rows, [q, *defined]
+
     def linearization(self) -> tuple[list[Q], list[Q]]:
-        """(characteristic polynomial, Hurwitz conditions), after checking the equilibrium."""
+        """(characteristic polynomial, conditions), after checking the equilibrium.
+
+        The conditions are those that must be positive (see :meth:`_scales`), then
+        the Hurwitz conditions of ``det(sI - B)``.
+        """
         for i, f in enumerate(self.field):
             require(
                 not self.substitute(f),
@@ -198,7 +238,16 @@ class _System:
                 f"f{i + 1} does not vanish at the point for every parameter value",
             )
         n, g = self.n, self.g
-        jac = [[self.substitute(_derivative(f, j)) for j in range(n)] for f in self.field]
+        require(
+            self.sigma is not None or not self.dens,
+            "field",
+            "a rational field needs denominator_sign (+1 or -1)",
+        )
+        rows, positive = self._scales()
+        jac = [
+            [_mul(rows[i], self.substitute(_derivative(f, j)), g) for j in range(n)]
+            for i, f in enumerate(self.field)
+        ]
         one = _const(Fraction(1), self.nv)
         mat = [[one if i == j else {} for j in range(n)] for i in range(n)]
         cp = [one]
@@ -210,7 +259,8 @@ class _System:
             c = {e: -v / k for e, v in _sum([am[i][i] for i in range(n)]).items()}
             cp.append(c)
             mat = [[_add(am[i][j], c) if i == j else am[i][j] for j in range(n)] for i in range(n)]
-        return cp, [*(_minor(cp, k, g) for k in range(1, n)), cp[n]]
+        self.lead = len(positive)
+        return cp, [*positive, *(_minor(cp, k, g) for k in range(1, n)), cp[n]]
 
 
 def _sum(items: list[Q]) -> Q:
@@ -377,18 +427,30 @@ def _boxes(count: int) -> str:
     return "1 sub-box" if count == 1 else f"{count} sub-boxes"
 
 
-def _good(kind: str) -> Callable[[Sequence[int]], bool]:
+def _good(kind: str, lead: int) -> Callable[[Sequence[int]], bool]:
+    """The claim's signs; the first ``lead`` conditions (where f is defined) positive."""
     if kind == "stable":
         return lambda s: all(v == 1 for v in s)
-    return lambda s: s[-1] == -1 or (all(s) and _first_column_changes(s) >= 1)
+
+    def unstable(s: Sequence[int]) -> bool:
+        h = s[lead:]
+        return all(v == 1 for v in s[:lead]) and (
+            h[-1] == -1 or (all(h) and _first_column_changes(h) >= 1)
+        )
+
+    return unstable
 
 
 def _check_range(model: ModelData, claim: ClaimData, checks: Checks) -> None:
     ev, w = claim.evidence, f"{claim.where}.evidence"
-    only_keys(ev, {"variables", "characteristic_polynomial", "conditions", "cover", "margins"}, w)
+    keys = {"variables", "characteristic_polynomial", "conditions", "cover", "margins"}
+    only_keys(ev, keys | {"denominator_sign"}, w)
     if claim.moving is not None:
         require(claim.d == 0, "number field", "a moving point carries its radical itself")
-    sys = _System(model, claim)
+    sigma = ev.get("denominator_sign")
+    if sigma not in (None, 1, -1) or isinstance(sigma, bool):
+        raise FormatError(f"{w}.denominator_sign: +1 or -1")
+    sys = _System(model, claim, sigma)
     names = get(ev, "variables", list, w)
     ok = (
         len(names) == sys.nv
@@ -427,11 +489,20 @@ def _check_range(model: ModelData, claim: ClaimData, checks: Checks) -> None:
         "the stated Hurwitz conditions differ from the recomputed ones",
     )
     names = [*(f"Delta_{k}" for k in range(1, sys.n)), f"a_{sys.n}"]
+    if sys.sigma is not None:
+        checks.ok(
+            "rational field N/D: with Q the product of the distinct denominators and "
+            f"sigma = {sys.sigma}, J = B / (sigma Q) where B_ij = (sigma Q / D_i) dN_i/dx_j; "
+            "sigma Q and the field's conditions at the point are required positive, so J and "
+            "B have their eigenvalues in the same half plane"
+        )
+    elif sys.defined:
+        checks.ok("the field's conditions at the point are required positive")
     checks.ok(
-        f"det(sI - J) and the Hurwitz conditions {', '.join(names)} recomputed as polynomials "
-        "in the parameters"
+        f"det(sI - {'B' if sys.sigma else 'J'}) and the Hurwitz conditions {', '.join(names)} "
+        "recomputed as polynomials in the parameters"
     )
-    good = _good(claim.kind)
+    good = _good(claim.kind, sys.lead)
     count = _check_cover(sys, conds, sys.g, sys.box, ev.get("cover"), good, f"{w}.cover")
     what = (
         "every condition is positive"

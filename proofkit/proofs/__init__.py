@@ -20,7 +20,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-from proofkit.audit import AuditReport, audit_certificate, audit_text
+from proofkit.audit import AuditReport, FormatError, audit_certificate, audit_text
 from proofkit.certificate import dumps, model_section, new_certificate, not_proved_entry
 from proofkit.model import Claim, Model
 from proofkit.provenance import ProvenanceReport, check_provenance
@@ -28,7 +28,16 @@ from proofkit.provenance import ProvenanceReport, check_provenance
 __all__ = ["PROVERS", "ClaimOutcome", "ProofAttempt", "ProveRun", "prove_model"]
 
 # Prover modules in the order they are tried; a module not present yet is skipped.
-PROVERS = ("linearization", "ranges", "lyapunov", "basin", "cycles", "_nonpoly_basin", "recast")
+PROVERS = (
+    "linearization",
+    "ranges",
+    "lyapunov",
+    "basin",
+    "cycles",
+    "_nonpoly_basin",
+    "_nonpoly_cycles",
+    "recast",
+)
 NO_METHOD = "no method for this claim kind yet"
 AUDIT_SECONDS = 300.0  # prove audits its own certificate: a generous budget (audit: 8 s)
 
@@ -89,7 +98,10 @@ def _provers() -> list[Callable[..., ProofAttempt | None]]:
 
 def _accepted(section: dict[str, Any], entry: dict[str, Any]) -> tuple[bool, str]:
     """Does the audit accept this one entry on its own? (A pre-check; not the final audit.)"""
-    report = audit_certificate(new_certificate(section, [entry]), AUDIT_SECONDS)
+    try:
+        report = audit_certificate(new_certificate(section, [entry]), AUDIT_SECONDS)
+    except FormatError as exc:  # a prover wrote a malformed entry: refused, never a crash
+        return False, f"malformed evidence: {exc}"
     verdict = report.claims[0]
     return verdict.status in ("proved", "refuted"), verdict.message or ""
 

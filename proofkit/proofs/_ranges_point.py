@@ -120,6 +120,11 @@ def value_evidence(
         for a, b in system.point
     ]
     cp = [_eval(c, pt, r, K) for c in system.charpoly]
+    if system.denominator_sign is not None:  # det(sI - B) -> det(sI - J), J = B / (sigma Q)
+        scale = _eval(system.conditions[0], pt, r, K)
+        if scale.sign() <= 0:
+            return None
+        cp = [c / scale**k for k, c in enumerate(cp)]
     routh = _routh_evidence(cp, K, kind)
     if routh is None:
         return None

@@ -183,8 +183,8 @@ def _refuted(model: Model, claim: Claim, system: RangeSystem, point: Any) -> Ran
     from proofkit.proofs._ranges_point import value_evidence
 
     kind = claim.kind
-    found = value_evidence(system, kind, point)
     at = _show(system, point)
+    found = value_evidence(system, kind, point)
     if found is None:
         return _not_proved(
             model,
@@ -219,6 +219,8 @@ def _from_cover(model: Model, claim: Claim, system: RangeSystem, cover: Cover, s
         "conditions": [_poly(c) for c in system.conditions],
         "cover": _cover_json(cover),
     }
+    if system.denominator_sign is not None:
+        evidence["denominator_sign"] = system.denominator_sign
     say(f"{claim.text}: stability margins")
     margins = [stability_margin(system, kind, j) for j in range(len(system.params))]
     evidence["margins"] = [  # one per parameter, null when none was found
