@@ -197,6 +197,15 @@ def range_system(model: Model, name: str) -> RangeSystem | str:
     values = [sp.expand(v.subs(fixed)) for _, v in model.equilibrium(name).point]
     if any(not v.free_symbols <= set(syms) for v in values):
         return "the point depends on something other than the uncertain parameters"
+    for v in values:
+        radical = any(
+            isinstance(a, sp.Pow) and not a.exp.is_Integer for a in sp.preorder_traversal(v)
+        )
+        if not radical and not v.is_polynomial(*syms):
+            return (
+                f"the point ({v}) is not polynomial in the uncertain parameters; such a point "
+                "is proved at the nominal values only (end the claim with 'at nominal')"
+            )
     form = _radical_form(values, syms)
     if isinstance(form, str):
         return form
