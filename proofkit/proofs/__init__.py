@@ -136,7 +136,7 @@ def _attempt_claim(
         fallback = fallback or _refused(model, claim, result, why)
     if fallback is not None:
         return fallback
-    if claim.kind in ("stable", "unstable") and not model.is_polynomial():
+    if not model.is_polynomial():
         reason = "the vector field is not polynomial; certificates cover polynomial fields for now"
     elif claim.kind in ("stable", "unstable"):
         reason = "the claim must hold over the parameter ranges; no range method proved it"

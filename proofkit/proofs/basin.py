@@ -62,7 +62,7 @@ METHOD, THEOREM = "sublevel-set", "region-of-attraction"
 DEGREES = (2, 4, 6, 8)
 MAX_STATES = 6
 MAX_GRAM = 120  # rows of one Gram matrix (the audit's limit too): bounds each solve
-CLAIM_BUDGET = 120.0  # seconds of search per attracts claim
+CLAIM_BUDGET = 30.0  # seconds of search per attracts claim
 DOMAIN_STEPS = 8  # levels tried (each 0.7 of the last) to fit {V <= level} into the domain
 Say = Callable[[str], None]
 
@@ -147,19 +147,43 @@ def setup_basin(
     field_y = numeric(g, n)
     if say:
         say(f"simulating to scale the coordinates around {name}")
-    scale = coordinate_scale(field_y)
+    domain = _conditions(space, model.domain, point, model)
+    scale = _domain_capped(coordinate_scale(field_y), [h for h, _ in domain], n)
     d2 = max(float(s) ** 2 for s in scale)
     eps = Fraction(1, 2 ** max(0, math.ceil(math.log2(1e5 * d2))))
     setting = ExactSetting(
-        space, g, scale, eps,
-        _conditions(space, region, point, model),
-        _conditions(space, model.domain, point, model),
+        space, g, scale, eps, _conditions(space, region, point, model), domain
     )  # fmt: skip
     field_z = []
     for gi, di in zip(g, scale, strict=True):  # dz/dt = g(D z) / D
         gz = setting.to_z(gi)
         field_z.append(type(gz)(gz.exps, gz.coeffs / float(di)))
     return BasinSetup(name, point, setting, field_y, field_z)
+
+
+def _domain_capped(scale: tuple[Fraction, ...], domain: list, n: int) -> tuple[Fraction, ...]:
+    """The simulated scale, cut per axis to the domain's reach from the point (a hint).
+
+    Along ``+-e_i`` the first sampled radius where some ``h_j < 0``; the larger side.
+    """
+    from proofkit.proofs._basin_sim import numeric
+
+    if not domain:
+        return scale
+    hs = numeric(domain, n)
+    out = []
+    for i, d in enumerate(scale):
+        reach = 0.0
+        for side in (1.0, -1.0):
+            r = np.linspace(0.0, float(d), 401)[1:]
+            pts = np.zeros((r.size, n))
+            pts[:, i] = side * r
+            bad = np.zeros(r.size, dtype=bool)
+            for h in hs:
+                bad |= h(pts) < 0
+            reach = max(reach, float(r[bad.argmax()]) if bad.any() else float(d))
+        out.append(min(d, Fraction(reach).limit_denominator(64) or Fraction(1, 64)))
+    return tuple(out)
 
 
 def _lyapunov_start(setup: BasinSetup) -> Any:
@@ -353,18 +377,9 @@ def run_search(
 
     ``first``: also yield the quadratic ``V`` of the Lyapunov equation at its best level.
     """
-    from proofkit.sos.ascent import AscentSettings, BasinSearch
-
-    d2 = np.array([float(s) ** 2 for s in setup.setting.scale])
-    cfg = AscentSettings(eps=float(setup.setting.eps), seconds_per_degree=budget)
-    search = BasinSearch(setup.field_z, cfg, eps_weights=d2, progress=say)
-    start = _lyapunov_start(setup)
-    if start is None or _too_large(search, 2, say):
-        return
-    it = search.level_of(start, 2)
+    search, it = start_search(setup, say, budget)
     if it is None:
         return
-    say(f"degree 2 from the Lyapunov equation: level {it.level:.6g}")
     if first:
         yield search, it
     for d in degrees:
@@ -372,6 +387,30 @@ def run_search(
             return
         it = search.improve(it, d)
         yield search, it
+
+
+def start_search(
+    setup: BasinSetup, say: Say, budget: float, with_set: bool = False
+) -> tuple[Any, Any]:
+    """The search (domain-aware; with the claim's set when ``with_set``) and its first
+    iterate: the quadratic ``V`` of the Lyapunov equation at its best level (or None)."""
+    from proofkit.sos.ascent import AscentSettings, BasinSearch
+
+    st = setup.setting
+    d2 = np.array([float(s) ** 2 for s in st.scale])
+    cfg = AscentSettings(eps=float(st.eps), seconds_per_degree=budget)
+    search = BasinSearch(
+        setup.field_z, cfg, eps_weights=d2, progress=say,
+        domain=[st.to_z(h) for h, _strict in st.domain],
+        claim_set=[st.to_z(g) for g, _strict in st.set_conds] if with_set else None,
+    )  # fmt: skip
+    start = _lyapunov_start(setup)
+    if start is None or _too_large(search, 2, say):
+        return search, None
+    it = search.level_of(start, 2)
+    if it is not None:
+        say(f"degree 2 from the Lyapunov equation: level {it.level:.6g}")
+    return search, it
 
 
 def _too_large(search: Any, degree: int, say: Say) -> bool:
@@ -387,10 +426,16 @@ def _not_proved(model: Model, claim: Claim, reason: str) -> ProofAttempt:
 
 
 def attempt(model: Model, claim: Claim, progress: Say | None = None) -> ProofAttempt | None:
-    """Evidence for ``claim E attracts SET``: a certified sublevel set containing SET."""
+    """Evidence for ``claim E attracts SET``: a certified sublevel set containing SET.
+
+    None when another prover is responsible (scope over ranges, a field that is not
+    polynomial), so that its reason is the one the user sees.
+    """
     say = progress or (lambda _m: None)
     if claim.kind != "attracts" or claim_scope(model, claim) != "nominal":
         return None
+    if not model.is_polynomial():
+        return None  # rational fields: proofs/_nonpoly_basin.py; elementary functions: recast
     if claim_structure(model, claim).get("set") is None:
         return _not_proved(model, claim, "the claim's set is not polynomial")
     setup = setup_basin(model, claim.target or "", claim.region, say)
@@ -407,21 +452,40 @@ def attempt(model: Model, claim: Claim, progress: Say | None = None) -> ProofAtt
                     f"counterexample ({refuted.detail}); please report this bug"
                 )
         return refuted
+    return _search_claim(model, claim, setup, say)
+
+
+def _search_claim(model: Model, claim: Claim, setup: BasinSetup, say: Say) -> ProofAttempt:
+    """The Lyapunov-equation ``V`` first, then the claim-directed search, within CLAIM_BUDGET."""
+    from proofkit.proofs._basin_claim import ClaimLog, claim_iterates
+    from proofkit.proofs._basin_refute import refute
+
     t0 = time.perf_counter()
-    why = "no sublevel set was found"
-    for search, it in run_search(setup, DEGREES, say, CLAIM_BUDGET / len(DEGREES), first=True):
-        cert = certify(setup, search, it)
-        if isinstance(cert, BasinCertificate):
-            refute(model, claim, setup, must_fail=True, seed=12)
-            entry = claim_entry(
-                model, claim, "proved", method=METHOD, theorem=THEOREM, evidence=cert.evidence
-            )
-            detail = f"sublevel set of a degree-{cert.degree} V at level {cert.level}"
-            return ProofAttempt(entry, detail, trace=cert)
-        why = f"degree {it.degree}: {cert}"
-        if time.perf_counter() - t0 > CLAIM_BUDGET:
-            break
-    return _not_proved(model, claim, why)
+    search, it = start_search(setup, say, CLAIM_BUDGET, with_set=True)
+    if it is None:
+        return _not_proved(
+            model, claim, "no level of the Lyapunov-equation V was certified numerically "
+            "(the linearization is not Hurwitz, or no sublevel set fits the domain)",
+        )  # fmt: skip
+    cert = certify(setup, search, it)
+    tried = f"the Lyapunov-equation V at its best level ({it.level:.4g} scaled): {cert}"
+    log = ClaimLog()
+    left = CLAIM_BUDGET - (time.perf_counter() - t0)
+    if not isinstance(cert, BasinCertificate):
+        for nxt in claim_iterates(search, it, DEGREES, left, log, say):
+            cert = certify(setup, search, nxt)
+            if isinstance(cert, BasinCertificate):
+                break
+            tried = f"{tried}; degree {nxt.degree}: {cert}"
+    if not isinstance(cert, BasinCertificate):
+        took = time.perf_counter() - t0
+        return _not_proved(model, claim, f"tried {tried}; {log.summary()} ({took:.1f} s)")
+    refute(model, claim, setup, must_fail=True, seed=12)
+    entry = claim_entry(
+        model, claim, "proved", method=METHOD, theorem=THEOREM, evidence=cert.evidence
+    )
+    detail = f"sublevel set of a degree-{cert.degree} V at level {cert.level}"
+    return ProofAttempt(entry, detail, trace=cert)
 
 
 def estimate_basin(

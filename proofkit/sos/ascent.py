@@ -12,6 +12,16 @@ of ``{V <= c}``), followed by a line search on the step that is free of
 solves: every convex combination of the old and new ``V`` stays feasible.
 Each degree is warm-started from the previous one.
 
+A domain ``{h_j >= 0}`` enters both programs by the S-procedure: the probe
+also asks for ``t_j`` with ``h_j - t_j (c - V)`` and ``t_j`` sums of squares
+(so only levels whose set lies in the domain are accepted), and the shape
+step keeps those ``t_j`` fixed. For a claim's set ``{g_i >= 0}`` the claim
+step (program C) fixes ``s0``, ``t_j`` and ``c`` and minimises ``gamma`` with
+``gamma - V - sum_i s_i g_i`` a sum of squares, i.e. it lowers the largest
+value of ``V`` on the set below the certified level: the expanding interior
+idea of Jarvis-Wloszek, Feeley, Tan, Sun and Packard (CDC 2003) with the
+claim's set in place of a shape ball.
+
 Everything here is floating point: a hint for :mod:`proofkit.proofs.basin`,
 which rebuilds every obligation exactly. This module never declares anything
 proved and never sees the true region of attraction.
@@ -24,6 +34,7 @@ import time
 import warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from typing import Any
 
 import cvxpy as cp
 import numpy as np
@@ -84,6 +95,7 @@ class BasinIterate:
     margin: float
     volume: float
     history: list[tuple[int, float, float, float]] = field(default_factory=list)
+    t_grams: list[np.ndarray] = field(default_factory=list)  # domain multipliers t_j
 
 
 def directions(nvars: int, count: int, seed: int = 7) -> np.ndarray:
@@ -135,6 +147,39 @@ def _ball_volume(n: int) -> float:
     return math.pi ** (n / 2) / math.gamma(n / 2 + 1)
 
 
+def _degree(p: NumPoly) -> int:
+    return int(p.exps.sum(axis=1).max(initial=0))
+
+
+def _normalised(p: NumPoly) -> NumPoly:
+    top = float(np.abs(p.coeffs).max(initial=0.0))
+    return NumPoly(p.exps, p.coeffs / top) if top > 0 else p
+
+
+def _s_bases(p_degree: int, term_degree: int, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Bases of the multiplier ``t`` and of the Gram matrix of ``p - t * term``."""
+    top = max(term_degree, p_degree)
+    top += top % 2
+    return monomials(n, (top - term_degree) // 2, 0), monomials(n, top // 2, 0)
+
+
+def _degree_of(exps: np.ndarray) -> int:
+    return int(exps.sum(axis=1).max(initial=0))
+
+
+def _one(n: int) -> NumPoly:
+    return NumPoly(np.zeros((1, n), dtype=np.int64), np.ones(1))
+
+
+def _index_of(basis: np.ndarray) -> MonoIndex:
+    return MonoIndex(basis.shape[1], 2 * int(basis.sum(axis=1).max(initial=0)))
+
+
+def _embed(exps: np.ndarray, index: MonoIndex) -> Any:
+    """Coefficients over ``exps`` -> the same polynomial over ``index``."""
+    return mult_map(_one(index.nvars), exps, index)
+
+
 class BasinSearch:
     """Alternating level/shape search for one vector field (scaled deviation coordinates)."""
 
@@ -144,8 +189,13 @@ class BasinSearch:
         settings: AscentSettings | None = None,
         eps_weights: np.ndarray | None = None,
         progress: Callable[[str], None] | None = None,
+        domain: list[NumPoly] | None = None,
+        claim_set: list[NumPoly] | None = None,
     ) -> None:
+        """``domain`` and ``claim_set``: polynomials ``h_j``, ``g_i`` (``>= 0``), in ``z``."""
         self.field = field_z
+        self.domain = [_normalised(h) for h in domain or ()]
+        self.claim_set = [_normalised(g) for g in claim_set or ()]
         self.n = len(field_z)
         self.cfg = settings or AscentSettings()
         self.say = progress or (lambda _m: None)
@@ -174,6 +224,8 @@ class BasinSearch:
             "s0_basis": monomials(self.n, ds0 // 2, 1),
             "dec_basis": monomials(self.n, top // 2, 1),
             "pos_basis": monomials(self.n, degree // 2, 1),
+            "domain": [_s_bases(_degree(h), degree, self.n) for h in self.domain],
+            "set": [_s_bases(degree, _degree(g), self.n) for g in self.claim_set],
         }
 
     def _top(self, degree: int, ds0: int) -> int:
@@ -211,8 +263,25 @@ class BasinSearch:
         lhs = g1 @ cp.vec(q1, order="F") + c * (s0_map @ cp.vec(q0, order="F"))
         lhs = lhs - s0v_map @ cp.vec(q0, order="F")
         cons = [lhs == rhs, q1 - lam * np.eye(k1) >> 0, q0 - lam * np.eye(k0) >> 0, lam <= 1]
+        ts = []
+        for h, (bt, bg) in zip(self.domain, sh["domain"], strict=True):
+            t = cp.Variable((bt.shape[0], bt.shape[0]), symmetric=True)
+            gj = cp.Variable((bg.shape[0], bg.shape[0]), symmetric=True)
+            idx, tid = _index_of(bg), _index_of(bt)
+            tvec = gram_map(bt, tid) @ cp.vec(t, order="F")
+            lhs_j = gram_map(bg, idx) @ cp.vec(gj, order="F") + c * (_embed(tid.exps, idx) @ tvec)
+            lhs_j = lhs_j - mult_map(v, tid.exps, idx) @ tvec  # h - t (c - V) = b' G b
+            cons += [lhs_j == idx.vector(h), t - lam * np.eye(bt.shape[0]) >> 0]
+            cons.append(gj - lam * np.eye(bg.shape[0]) >> 0)
+            ts.append(t)
         prob = cp.Problem(cp.Maximize(lam), cons)
-        return prob, c, {"q0": q0, "q1": q1, "lam": lam}
+        return prob, c, {"q0": q0, "q1": q1, "lam": lam, "t": ts}
+
+    @staticmethod
+    def _values(var: dict) -> dict:
+        out = {"q0": var["q0"].value.copy(), "q1": var["q1"].value.copy()}
+        out["t"] = [t.value.copy() for t in var["t"]]
+        return out
 
     def probe(self, prob: cp.Problem, c: cp.Parameter, var: dict, level: float) -> float | None:
         """Margin of the level probe at ``level``, or None when not feasible."""
@@ -248,7 +317,7 @@ class BasinSearch:
         margin = self.probe(prob, c, var, level)
         if margin is None:
             return None
-        return level, margin, {"q0": var["q0"].value.copy(), "q1": var["q1"].value.copy()}
+        return level, margin, self._values(var)
 
     def at_level(self, v: NumPoly, degree: int, level: float) -> tuple[float, dict] | None:
         """Margin and Gram matrices of the level probe of ``v`` at one given level."""
@@ -257,22 +326,21 @@ class BasinSearch:
         margin = self.probe(prob, c, var, level)
         if margin is None:
             return None
-        return margin, {"q0": var["q0"].value.copy(), "q1": var["q1"].value.copy()}
+        return margin, self._values(var)
 
     # --- program B: the shape step ------------------------------------------------------
-    def shape_step(self, it: BasinIterate, sh: dict, ring: np.ndarray, w: np.ndarray) -> NumPoly:
+    def _fixed_multiplier_constraints(self, it: BasinIterate, sh: dict, vv: cp.Variable) -> list:
+        """Decrease (``s0``, ``c`` fixed), positivity and domain (``t_j`` fixed): linear in V."""
         index: MonoIndex = sh["index"]
         supp, b1, bp = sh["v_support"], sh["dec_basis"], sh["pos_basis"]
         s0 = _gram_poly(it.s0_basis, it.s0_gram)
-        vv = cp.Variable(supp.shape[0])
         q1 = cp.Variable((b1.shape[0], b1.shape[0]), symmetric=True)
         qp = cp.Variable((bp.shape[0], bp.shape[0]), symmetric=True)
         lie = lie_map(self.field, supp, index)
         s0v = mult_map(s0, supp, index)
         rhs = -index.vector(self.eps_poly) - it.level * index.vector(s0)
         lhs = gram_map(b1, index) @ cp.vec(q1, order="F") + lie @ vv - s0v @ vv
-        embed = mult_map(NumPoly(np.zeros((1, self.n), np.int64), np.ones(1)), supp, index)
-        pos = gram_map(bp, index) @ cp.vec(qp, order="F") - embed @ vv
+        pos = gram_map(bp, index) @ cp.vec(qp, order="F") - _embed(supp, index) @ vv
         mu = self.cfg.ring_margin * it.margin
         cons = [
             lhs == rhs,
@@ -280,11 +348,58 @@ class BasinSearch:
             q1 - mu * np.eye(b1.shape[0]) >> 0,
             qp >> 0,
         ]
+        for h, (bt, bg), tg in zip(self.domain, sh["domain"], it.t_grams, strict=True):
+            t = _gram_poly(bt, tg)  # h - t (c - V) = b' G b with t fixed
+            idx = _index_of(bg)
+            gj = cp.Variable((bg.shape[0], bg.shape[0]), symmetric=True)
+            lhs_j = gram_map(bg, idx) @ cp.vec(gj, order="F") - mult_map(t, supp, idx) @ vv
+            cons += [lhs_j == idx.vector(h) - it.level * idx.vector(t)]
+            cons.append(gj - mu * np.eye(bg.shape[0]) >> 0)
+        return cons
+
+    def shape_step(self, it: BasinIterate, sh: dict, ring: np.ndarray, w: np.ndarray) -> NumPoly:
+        supp = sh["v_support"]
+        vv = cp.Variable(supp.shape[0])
+        cons = self._fixed_multiplier_constraints(it, sh, vv)
         phi = w @ eval_map(ring, supp)
         prob = cp.Problem(cp.Minimize(phi @ vv), cons)
         if not self._solve(prob) or vv.value is None:
             return it.v
         return NumPoly(supp, np.asarray(vv.value, dtype=float))
+
+    # --- program C: the claim step ------------------------------------------------------
+    def claim_step(self, it: BasinIterate, sh: dict) -> tuple[NumPoly, float] | None:
+        """``V`` and the least ``gamma`` with the claim's set inside ``{V <= gamma}``.
+
+        ``s0``, ``t_j`` and the level stay fixed, so the new ``V`` still decreases on
+        ``{V <= level}`` and that set stays in the domain; ``gamma < level`` means the
+        claim's set lies inside it.
+        """
+        supp = sh["v_support"]
+        vv = cp.Variable(supp.shape[0])
+        gamma = cp.Variable()
+        cons = self._fixed_multiplier_constraints(it, sh, vv)
+        top = max([_degree_of(supp)] + [_degree(g) + _degree(g) % 2 for g in self.claim_set])
+        top += top % 2
+        bin_ = monomials(self.n, top // 2, 0)
+        idx = MonoIndex(self.n, top)
+        lhs = gram_map(bin_, idx) @ cp.vec(self._psd(bin_, cons), order="F")
+        lhs = lhs + _embed(supp, idx) @ vv - gamma * idx.vector(_one(self.n))
+        for g, (bs, _bg) in zip(self.claim_set, sh["set"], strict=True):
+            sid = _index_of(bs)
+            s_i = gram_map(bs, sid) @ cp.vec(self._psd(bs, cons), order="F")
+            lhs = lhs + mult_map(g, sid.exps, idx) @ s_i  # gamma - V - sum s_i g_i = b' Q b
+        cons.append(lhs == 0)
+        prob = cp.Problem(cp.Minimize(gamma), cons)
+        if not self._solve(prob) or vv.value is None or gamma.value is None:
+            return None
+        return NumPoly(supp, np.asarray(vv.value, dtype=float)), float(gamma.value)
+
+    @staticmethod
+    def _psd(basis: np.ndarray, cons: list) -> cp.Variable:
+        q = cp.Variable((basis.shape[0], basis.shape[0]), symmetric=True)
+        cons.append(q >> 0)
+        return q
 
     def volume(self, v: NumPoly, level: float) -> tuple[float, np.ndarray]:
         r_max = math.sqrt(level / self.cfg.eps)
@@ -331,23 +446,33 @@ class BasinSearch:
         vol, _ = self.volume(v, level)
         return BasinIterate(
             degree, v, level, sh["s0_basis"], grams["q0"], sh["dec_basis"], grams["q1"],
-            margin, vol,
+            margin, vol, t_grams=grams["t"],
         )  # fmt: skip
+
+    def raise_degree(self, it: BasinIterate, degree: int) -> BasinIterate | None:
+        """``it`` as a start at a higher degree, at its best level there (warm start).
+
+        A small ``|z|^degree`` term keeps the top-degree Gram block definite.
+        """
+        sh = self.shapes(degree)
+        r_top = float(self.volume(it.v, it.level)[1].max())
+        top = self._radial(degree, 1e-3 * it.level / r_top**degree)
+        top = self._pad(top, sh["v_support"])
+        padded = self._pad(it.v, sh["v_support"])
+        start = NumPoly(padded.exps, padded.coeffs + top.coeffs)
+        nxt = self.level_of(start, degree, it.level)
+        if nxt is not None:
+            nxt.history = it.history
+        return nxt
 
     def improve(self, it: BasinIterate, degree: int, t_start: float | None = None) -> BasinIterate:
         """Alternate shape steps and level probes at ``degree`` from ``it`` (warm start)."""
         t0 = time.perf_counter() if t_start is None else t_start
         sh = self.shapes(degree)
-        if it.degree != degree:  # a small |z|^degree term keeps the top-degree Gram block definite
-            r_top = float(self.volume(it.v, it.level)[1].max())
-            top = self._radial(degree, 1e-3 * it.level / r_top**degree)
-            top = self._pad(top, sh["v_support"])
-            padded = self._pad(it.v, sh["v_support"])
-            start = NumPoly(padded.exps, padded.coeffs + top.coeffs)
-            nxt = self.level_of(start, degree, it.level)
+        if it.degree != degree:
+            nxt = self.raise_degree(it, degree)
             if nxt is None:
                 return it
-            nxt.history = it.history
             it = nxt
         stall = 0
         for k in range(1, self.cfg.max_iterations + 1):
