@@ -13,7 +13,12 @@ certificate states no substitution.
 With ``y = x - x*`` and ``delta = a(x* + y)`` (required to vanish at the
 point, so every new variable does too) the audit introduces, per distinct
 trigonometric argument ``a``, the pair ``S = sin(delta)``, ``C = cos(delta) - 1``,
-and per exponential atom ``E = exp(delta) - 1``. Substitutions (angle
+per exponential atom ``E = exp(delta) - 1``, and per ``tanh`` atom ``T =
+tanh(delta)`` (after the exponentials; ``dT/dt = (1 - T^2) D``; inequalities
+``tanh k.1``: ``delta T - T^2 >= 0`` (``|tanh x| <= |x|``, same sign) and, for
+``taylor_order >= 1``, ``tanh k.2``: ``delta T - delta^2 + delta^4/3 >= 0``
+(``tanh x >= x - x^3/3`` for ``x >= 0``, since its derivative ``x^2 - tanh^2 x``
+is nonnegative; odd)). Substitutions (angle
 addition with the exact values of sine and cosine at ``q pi`` for ``q`` a
 multiple of 1/4 or 1/6, which lie in Q(sqrt 2) or Q(sqrt 3))::
 
@@ -156,6 +161,11 @@ def _taylor(delta: Poly, nz: int, order: int, kind: str, s: Poly, c1: Poly) -> l
             out.append(poly_add(series(2 * j + 1, 0, False), poly_scale(c1, Num.of(-1))))
             out.append(poly_add(ds, poly_scale(series(2 * j, 1, True), Num.of(-1))))
             out.append(poly_add(series(2 * j - 1, 1, True), poly_scale(ds, Num.of(-1))))
+        elif kind == "tanh":  # x tanh x >= x^2 - x^4/3: tanh x >= x - x^3/3 for x >= 0, odd
+            dt = poly_mul(delta, s)
+            d2 = _pow(delta, 2, nz)
+            low = poly_add(d2, poly_scale(_pow(delta, 4, nz), Num.of(Fraction(-1, 3))))
+            out.append(poly_add(dt, poly_scale(low, Num.of(-1))))
         else:  # exp: E + 1 >= sum_{k < 2j} delta^k / k!
             acc: Poly = {}
             for k in range(2 * j):
@@ -181,6 +191,7 @@ class _Walk:
         self.n = len(point)
         self.pairs: list[Poly] = []  # delta of each trigonometric pair (over y)
         self.exps: list[Poly] = []  # delta of each exponential atom (over y)
+        self.tanhs: list[Poly] = []  # delta of each tanh atom (over y)
         self.d = 0
         self.nz = self.n  # fixed after pass 1
 
@@ -253,12 +264,18 @@ class _Walk:
             return acc
         if op == "sqrt" and e[1][0] == "c":
             return poly_constant(self._root(e[1][1]), nz)
-        require(op in ("sin", "cos", "exp"), "recast", f"{op} is not recast here")
+        require(op in ("sin", "cos", "exp", "tanh"), "recast", f"{op} is not recast here")
         delta, q = self._delta(e[1])
         return self._atom(op, delta, q)
 
     def _atom(self, op: str, delta: Poly, q: Fraction) -> Poly:
         nz, n = self.nz, self.n
+        if op == "tanh":
+            require(q == 0, "recast", "tanh of an argument with pi")
+            if delta not in self.tanhs:
+                self.tanhs.append(delta)
+            k = n + 2 * len(self.pairs) + len(self.exps) + self.tanhs.index(delta)
+            return _var(k, nz) if k < nz else {}
         if op == "exp":
             require(q == 0, "recast", "exp of an argument with pi")
             if delta not in self.exps:
@@ -306,13 +323,14 @@ def derive(
     walk = _Walk(point, nominal)
     for e in exprs:  # pass 1: the atoms
         walk.poly(e)
-    nz = n + 2 * len(walk.pairs) + len(walk.exps)
-    require(nz > n, "recast", "the field has no sin, cos or exp to recast")
+    nz = n + 2 * len(walk.pairs) + len(walk.exps) + len(walk.tanhs)
+    require(nz > n, "recast", "the field has no sin, cos, exp or tanh to recast")
     require(nz <= MAX_VARIABLES, "recast", f"more than {MAX_VARIABLES} recast variables")
     walk.nz = nz
-    counts = (len(walk.pairs), len(walk.exps))
+    counts = (len(walk.pairs), len(walk.exps), len(walk.tanhs))
     f = [walk.poly(e) for e in exprs]
-    require(counts == (len(walk.pairs), len(walk.exps)), "recast", "an atom inside an atom")
+    again = (len(walk.pairs), len(walk.exps), len(walk.tanhs))
+    require(counts == again, "recast", "an atom inside an atom")
     zero = tuple([0] * nz)
     require(
         all(zero not in fi for fi in f), "equilibrium", "the recast field is not 0 at the point"
@@ -335,5 +353,15 @@ def derive(
         full.append(poly_mul(poly_add(e, _one(nz)), _grad_dot(delta, f, n, nz)))
         bounds = _taylor(_embed(delta, nz), nz, order, "exp", e, poly_add(e, _one(nz)))
         ineqs += [(f"exp {k + 1}.{i + 1}", g) for i, g in enumerate(bounds)]
+    base = n + 2 * len(walk.pairs) + len(walk.exps)
+    for k, delta in enumerate(walk.tanhs):  # T = tanh(delta): dT/dt = (1 - T^2) D
+        names.append(f"T{k + 1}")
+        t = _var(base + k, nz)
+        one_minus = poly_add(_one(nz), poly_scale(poly_mul(t, t), Num.of(-1)))
+        full.append(poly_mul(one_minus, _grad_dot(delta, f, n, nz)))
+        dz = _embed(delta, nz)
+        sector = poly_add(poly_mul(dz, t), poly_scale(poly_mul(t, t), Num.of(-1)))
+        bounds = [sector, *_taylor(dz, nz, min(order, 1), "tanh", t, t)]  # vanish at y = 0
+        ineqs += [(f"tanh {k + 1}.{i + 1}", g) for i, g in enumerate(bounds)]
     enc = _enclosure(block, walk.d, where)
     return Recast(n, nz, tuple(names), tuple(full), tuple(eqs), tuple(ineqs), walk.d, enc)

@@ -5,8 +5,8 @@ expression trees (``model.expressions``) are walked depth first; every
 ``sin``/``cos`` of an argument ``a(x) + q pi`` and every ``exp(a(x))`` whose
 polynomial part ``a`` vanishes at the equilibrium gets new variables
 (``S = sin(delta)``, ``C = cos(delta) - 1`` per distinct ``delta = a(x* + y)``,
-``E = exp(delta) - 1``), in order of first appearance, so that the variables
-are those the audit derives on its own. Constants live in Q(sqrt d): a
+``E = exp(delta) - 1``, then ``T = tanh(delta)``), in order of first appearance,
+so that the variables are those the audit derives on its own. Constants live in Q(sqrt d): a
 polynomial is a pair ``(A, B)`` meaning ``A + sqrt(d) B``.
 
 This module builds exact polynomials only for the prover's own checks and
@@ -78,6 +78,8 @@ class RecastSystem:
             dv = _eval(delta, y, self.nz)
             if kind == "trig":
                 cols += [np.sin(dv), np.cos(dv) - 1.0]
+            elif kind == "tanh":
+                cols.append(np.tanh(dv))
             else:
                 cols.append(np.expm1(dv))
         return np.stack(cols, axis=1)
@@ -99,6 +101,7 @@ class _Walker:
         self.n, self.point, self.nominal = n, point, nominal
         self.trig: list[flint.fmpq_mpoly] = []  # deltas over y (ctx of n variables)
         self.exps: list[flint.fmpq_mpoly] = []
+        self.tanhs: list[flint.fmpq_mpoly] = []
         self.small = flint.fmpq_mpoly_ctx.get(tuple(f"y{i}" for i in range(n)), "lex")
         self.d = 0
         self.ctx: Any = None  # the z context, set after pass 1
@@ -142,7 +145,7 @@ class _Walker:
             return acc
         if op == "sqrt" and isinstance(args[0], str):
             return self._root(Fraction(args[0]))
-        if op in ("sin", "cos", "exp"):
+        if op in ("sin", "cos", "exp", "tanh"):
             return self._atom(op, args[0])
         raise Unsupported(f"{op} is not recast here")
 
@@ -192,6 +195,15 @@ class _Walker:
     def _atom(self, op: str, arg: Any) -> Pair:
         delta, q = self._angle(arg)
         ctx = self.ctx
+        if op == "tanh":
+            if q != 0:
+                raise Unsupported("tanh of an argument with pi")
+            if delta not in self.tanhs:
+                self.tanhs.append(delta)
+            if ctx is None:
+                return self.const(Fraction(0))
+            k = self.n + 2 * len(self.trig) + len(self.exps) + self.tanhs.index(delta)
+            return ctx.gens()[k], ctx.constant(0)
         if op == "exp":
             if q != 0:
                 raise Unsupported("exp of an argument with pi")
@@ -262,6 +274,8 @@ def _taylor(kind: str, delta: Any, var: Any, c1: Any, order: int, one: Any) -> l
                 ds - _series(delta, 2 * j, 1, True, one),
                 _series(delta, 2 * j - 1, 1, True, one) - ds,
             ]
+        elif kind == "tanh":  # x tanh x >= x^2 - x^4/3 (the audit's order)
+            out.append(delta * var - delta**2 + delta**4 * flint.fmpq(1, 3))
         else:
             acc = one * 0
             for k in range(2 * j):
@@ -278,18 +292,19 @@ def build_system(
     w = _Walker(n, point, nominal)
     for t in trees:  # pass 1: collect the atoms
         w.walk(t)
-    if not w.trig and not w.exps:
-        raise Unsupported("the field has no sin, cos or exp to recast")
-    nz = n + 2 * len(w.trig) + len(w.exps)
+    if not w.trig and not w.exps and not w.tanhs:
+        raise Unsupported("the field has no sin, cos, exp or tanh to recast")
+    nz = n + 2 * len(w.trig) + len(w.exps) + len(w.tanhs)
     names = [f"y{i + 1}" for i in range(n)]
     for k in range(len(w.trig)):
         names += [f"S{k + 1}", f"C{k + 1}"]
     names += [f"E{k + 1}" for k in range(len(w.exps))]
+    names += [f"T{k + 1}" for k in range(len(w.tanhs))]
     ctx = flint.fmpq_mpoly_ctx.get(tuple(f"z{i}" for i in range(nz)), "lex")
     w.ctx = ctx
-    counts = (len(w.trig), len(w.exps))
+    counts = (len(w.trig), len(w.exps), len(w.tanhs))
     f = [w.walk(t) for t in trees]
-    if counts != (len(w.trig), len(w.exps)):
+    if counts != (len(w.trig), len(w.exps), len(w.tanhs)):
         raise Unsupported("an atom inside an atom")
     g = ctx.gens()
     one = ctx.constant(1)
@@ -318,6 +333,16 @@ def build_system(
         bounds = _taylor("exp", dz, e, e + one, order, one)
         ineqs += [(f"exp {k + 1}.{i + 1}", b) for i, b in enumerate(bounds)]
         deltas.append(("exp", dz))
+    base = n + 2 * len(w.trig) + len(w.exps)
+    for k, delta in enumerate(w.tanhs):  # T = tanh(delta): dT/dt = (1 - T^2) D
+        t = g[base + k]
+        dz = up(delta)
+        da = sum((up(delta.derivative(i)) * f[i][0] for i in range(n)), ctx.constant(0))
+        db = sum((up(delta.derivative(i)) * f[i][1] for i in range(n)), ctx.constant(0))
+        full.append(((one - t * t) * da, (one - t * t) * db))
+        bounds = [dz * t - t * t, *_taylor("tanh", dz, t, t, min(order, 1), one)]
+        ineqs += [(f"tanh {k + 1}.{i + 1}", b) for i, b in enumerate(bounds)]
+        deltas.append(("tanh", dz))
     for a, b in f:
         if any(sum(e) == 0 for e in a.monoms()) or any(sum(e) == 0 for e in b.monoms()):
             raise Unsupported("the recast field is not zero at the equilibrium")
