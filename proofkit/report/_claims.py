@@ -65,15 +65,46 @@ def _counterexample(claim: Any, states: list[str]) -> list[Block]:
     return out
 
 
-def _generic(ev: Mapping[str, Any]) -> list[Block]:
+def generic_blocks(claim: Any) -> list[Block]:
+    """The evidence of a method no section knows: listed as it stands, with its obligations."""
+    ev = claim.evidence
     items = []
     for key, value in ev.items():
         text = str(_plain(value))
         items.append((t(f"{key}: {text if len(text) <= 200 else text[:200] + ' ...'}"),))
-    return [
-        para(t("Evidence (see the certificate for every entry):")),
-        Block("items", items=tuple(items)),
+    out = [
+        para(
+            t(
+                f"Method {claim.method or '(none)'}, theorem {claim.theorem or '(none)'}. This "
+                "document has no line-by-line section for this method; the audit's hypotheses "
+                "below say what it checked, and the certificate holds every entry."
+            )
+        )
     ]
+    names = sorted(_obligation_names(ev))
+    if names:
+        out.append(
+            para(
+                t(
+                    "Obligations (each equal to z'Gz with G positive semidefinite, checked by "
+                    "the audit with an exact LDL'): " + ", ".join(names) + "."
+                )
+            )
+        )
+    out.append(para(t("Evidence (see the certificate for every entry):")))
+    return [*out, Block("items", items=tuple(items))]
+
+
+def _obligation_names(ev: Any, prefix: str = "") -> set[str]:
+    """Names of every ``squares`` entry in the evidence, nested parts included."""
+    out: set[str] = set()
+    if isinstance(ev, Mapping):
+        for key, value in ev.items():
+            if key == "squares" and isinstance(value, Mapping):
+                out |= {prefix + str(k) for k in value}
+            elif isinstance(value, Mapping):
+                out |= _obligation_names(value, f"{prefix}{key}: ")
+    return out
 
 
 def _plain(value: Any) -> Any:
@@ -108,22 +139,51 @@ def _theorem(claim: Any, checked: Sequence[str], refuted: bool, model: Any) -> l
     return out
 
 
-def claim_blocks(claim: Any, verdict: Any, model: Any, appendix: list[Block]) -> list[Block]:
-    """The section of one claim (a ``ClaimView``), given the audit's ``ClaimVerdict`` for it."""
+def claim_blocks(
+    claim: Any,
+    verdict: Any,
+    model: Any,
+    appendix: list[Block],
+    raw: Mapping[str, Any] | None = None,
+) -> list[Block]:
+    """The section of one claim (a ``ClaimView``), given the audit's ``ClaimVerdict`` for it.
+
+    ``raw``: what the typed views do not carry, from the certificate's JSON:
+    ``expressions`` (the model's expression trees) and ``exact`` (the claim's
+    exactly known point as trees).
+    """
     states = list(model.states) if model is not None else []
     if verdict.status == "not proved":
         return [para(t("Not proved: "), t(claim.reason or verdict.message or ""))]
-    ev = claim.evidence
-    if "jacobian" in ev and "routh" in ev:
-        out = linearization_blocks(claim, states)
-    elif "squares" in ev:
-        out = sos_blocks(claim, model, appendix)
-    elif "cover" in ev:
-        out = range_blocks(claim)
-    elif claim.counterexample is None:
-        out = _generic(ev)
-    else:
-        out = []
+    out = _evidence_blocks(claim, model, appendix, raw or {})
     if claim.counterexample is not None:
         out += _counterexample(claim, states)
     return out + _theorem(claim, verdict.checked, verdict.status == "refuted", model)
+
+
+def _evidence_blocks(
+    claim: Any, model: Any, appendix: list[Block], raw: Mapping[str, Any]
+) -> list[Block]:
+    from proofkit.report import _claims_nonpoly as nonpoly
+
+    ev, states = claim.evidence, list(model.states) if model is not None else []
+    method = claim.method
+    if model is not None and method == "recast":
+        from proofkit.report._claims_recast import recast_blocks
+
+        return recast_blocks(claim, model, appendix, raw.get("expressions"))
+    if model is not None and method == "sublevel-set-rational":
+        return nonpoly.rational_basin_blocks(claim, model, appendix)
+    if method == "linearization-enclosure":
+        return nonpoly.enclosure_blocks(claim, model, raw.get("exact"))
+    if model is not None and method == "linearization-rational" and "jacobian" in ev:
+        return nonpoly.rational_linearization_blocks(claim, model)
+    if "jacobian" in ev and "routh" in ev:
+        return linearization_blocks(claim, states)
+    if "squares" in ev:
+        return sos_blocks(claim, model, appendix)
+    if "cover" in ev:
+        return range_blocks(claim)
+    if claim.counterexample is None:
+        return generic_blocks(claim)
+    return []

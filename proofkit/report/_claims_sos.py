@@ -13,6 +13,7 @@ May import: sympy, ``proofkit.exact`` (LDL'), ``report._math``, ``report._blocks
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
 from fractions import Fraction
 from typing import Any
 
@@ -22,11 +23,30 @@ from proofkit.report._blocks import Block, m, para, t
 from proofkit.report._math import latex_label, latex_matrix, latex_number, latex_poly
 from proofkit.report._theorems import OBLIGATIONS
 
-__all__ = ["APPENDIX_SIZE", "MAX_INLINE_TERMS", "sos_blocks"]
+__all__ = ["APPENDIX_SIZE", "MAX_INLINE_TERMS", "SosView", "sos_blocks"]
 
 APPENDIX_SIZE = 6  # Gram matrices larger than this, and long Lie derivatives, go to the appendix
 MAX_MATRIX_COLUMNS = 14  # wider Gram matrices are listed entry by entry
 MAX_INLINE_TERMS = 24
+MAX_SQUARES_CHARS = 20_000  # longer LDL' sums of squares are described, not printed
+
+
+@dataclass(frozen=True)
+class SosView:
+    """How a non-polynomial section shows its sum-of-squares part (defaults: from the claim).
+
+    ``evidence``: the part holding V, numbers, multipliers and squares; ``names``: the
+    variables of its polynomials; ``field``: the polynomial field (in ``names``, shifted to
+    the point) for the Lie derivative, with ``field_text`` its name; ``targets``: LaTeX
+    target of each obligation by name.
+    """
+
+    evidence: Mapping[str, Any] | None = None
+    names: Sequence[str] | None = None
+    field: Sequence[sp.Expr] | None = None
+    field_text: str = "f(x^* + y)"
+    field_words: str = "the model's field"
+    targets: Mapping[str, str] | None = None
 
 
 # --- exact polynomials from certificate data ----------------------------------------
@@ -89,9 +109,13 @@ def _lie(function: Sequence[Any], fld: list[sp.Expr], names: Sequence[str]) -> l
 
 
 # --- sum-of-squares obligations ------------------------------------------------------
-def _function_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Block]:
+def _function_blocks(
+    claim: Any, model: Any, appendix: list[Block], view: SosView | None = None
+) -> list[Block]:
     """V (or B, W), its Lie derivative expanded, the numbers and the free polynomials."""
-    ev, states = claim.evidence, list(model.states) if model is not None else []
+    view = view or SosView()
+    ev = view.evidence if view.evidence is not None else claim.evidence
+    states = list(model.states) if model is not None else []
     out: list[Block] = []
     cycle = claim.kind in ("cycle", "no cycle")
     for key, what in (
@@ -106,21 +130,24 @@ def _function_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Bloc
             if cycle
             else "the deviation y = x - x* from the equilibrium (written with the state names)"
         )
-        names = _function_names(ev[key], model)
-        over_range = len(names) > len(states)
+        names = list(view.names or _function_names(ev[key], model))
+        over_range = len(names) > len(states) and view.names is None
         out.append(
             para(t(f"The {what}, in {coords}: "), m(f"{key} = " + latex_poly(ev[key], names)))
         )
         if key == "B" or (over_range and claim.point is None):  # a moving point: see below
             continue
-        fld = _field_exprs(model, None if cycle or claim.point is None else claim.point, over_range)
+        fld = view.field
+        if fld is None and view.names is None:
+            shift = None if cycle or claim.point is None else claim.point
+            fld = _field_exprs(model, shift, over_range)
         if fld is None:
             continue
-        lie = _lie(ev[key], fld, names)
-        field = "f(x)" if cycle else "f(x^* + y)"
+        lie = _lie(ev[key], list(fld), names)
+        field = "f(x)" if cycle else view.field_text
         body = f"\\dot {key} = \\nabla {key} \\cdot {field} = " + latex_poly(lie, names)
         if len(lie) <= MAX_INLINE_TERMS:
-            out.append(para(t("Its derivative along the model's field, expanded exactly:")))
+            out.append(para(t(f"Its derivative along {view.field_words}, expanded exactly:")))
             out.append(Block("math", body))
         else:
             out.append(
@@ -133,20 +160,9 @@ def _function_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Bloc
         shown = ",\\; ".join(f"{_number_name(k)} = {latex_number(v)}" for k, v in numbers.items())
         out.append(para(t("Numbers of the certificate: "), m(shown), t(".")))
     for name, poly in (ev.get("free") or {}).items():
-        shown = latex_poly(poly, _function_names(poly, model) if model is not None else states)
+        names = list(view.names or (_function_names(poly, model) if model is not None else states))
+        shown = latex_poly(poly, names)
         out.append(para(t("Free polynomial "), m(f"{latex_label(name)} = " + shown)))
-    if claim.method == "recast":
-        out.append(
-            para(
-                t(
-                    "Recasting (Papachristodoulou and Prajna, 2005): u1, u2, ... stand for "
-                    "sin(a) and cos(a) - 1 of each sine or cosine argument a, and exp(a) - 1 of "
-                    "each exponent, in order of first appearance; the audit derives their "
-                    "derivative rules, the circle constraints and the Taylor bounds from the "
-                    "model's own field, never from the certificate."
-                )
-            )
-        )
     return out
 
 
@@ -176,6 +192,8 @@ def _squares_text(basis: Sequence[Any], gram: Sequence[Any], states: list[str]) 
         w = Fraction(int(dk.p), int(dk.q))
         weight = "" if w == 1 else latex_number(str(w))
         out.append(f"{weight}\\left({latex_poly(comb, states)}\\right)^2")
+        if sum(map(len, out)) > MAX_SQUARES_CHARS:
+            return ""
     return " + ".join(out) or "0"
 
 
@@ -218,22 +236,37 @@ def _obligation(
         )
         out.append(Block("table", header=("row", "column", "entry"), rows=rows))
     squares = _squares_text(basis, gram, states)
-    if squares is not None:
+    if squares == "":
+        out.append(
+            para(
+                t(
+                    "Its exact LDL' factorisation (D >= 0, checked by the audit) gives squares "
+                    f"whose exact coefficients run past {MAX_SQUARES_CHARS} characters; they "
+                    "are not printed (recompute them from the Gram matrix above)."
+                )
+            )
+        )
+    elif squares is not None:
         out.append(para(t("Its exact LDL' factorisation gives the squares:")))
         out.append(Block("math", f"z^T G_{{{label}}} z = {squares}"))
     return out
 
 
-def sos_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Block]:
-    ev = claim.evidence
+def sos_blocks(
+    claim: Any, model: Any, appendix: list[Block], view: SosView | None = None
+) -> list[Block]:
+    view = view or SosView()
+    ev = view.evidence if view.evidence is not None else claim.evidence
     states = list(ev.get("variables") or (model.states if model is not None else []))
     function = ev.get("V") or ev.get("W") or ev.get("B")
-    if model is not None and function and "variables" not in ev:
+    if view.names is not None:
+        states = list(view.names)
+    elif model is not None and function and "variables" not in ev:
         states = _function_names(function, model)  # states + parameters over a range
-    out = _function_blocks(claim, model, appendix) if model is not None else []
+    out = _function_blocks(claim, model, appendix, view) if model is not None else []
     if "p" in ev:
         out.append(para(t("The polynomial: "), m("p = " + latex_poly(ev["p"], states))))
-    targets = OBLIGATIONS.get(claim.theorem or "", {})
+    targets = view.targets if view.targets is not None else OBLIGATIONS.get(claim.theorem or "", {})
     multipliers = ev.get("multipliers") or {}
     for name, sq in ev["squares"].items():
         target = "p" if "p" in ev else targets.get(name)

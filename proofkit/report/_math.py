@@ -63,7 +63,9 @@ def latex_label(name: str) -> str:
     sub = re.fullmatch(r"([A-Za-z])_([A-Za-z0-9]+)", name)
     if sub:
         return f"{sub.group(1)}_{{{sub.group(2)}}}"
-    return "\\text{" + re.sub(r"[^A-Za-z0-9 ]", lambda c: "\\" + c.group(0), name) + "}"
+    special = {"\\": "\\textbackslash{}", "~": "\\textasciitilde{}", "^": "\\textasciicircum{}"}
+    text = "".join(special.get(c, "\\" + c if c in "#$%&_{}" else c) for c in name)
+    return "\\text{" + text + "}"
 
 
 def _frac(x: Fraction) -> str:

@@ -96,6 +96,36 @@ THEOREMS: dict[str, tuple[str, str]] = {
         "The region-of-attraction obligations hold for every parameter value in its box, with "
         "multipliers for the box constraints." + _SOS,
     ),
+    "indirect-method-stability-by-enclosure": (
+        "Lyapunov's indirect method with a verified interval enclosure (Krawczyk)",
+        "If a box holds exactly one equilibrium (Krawczyk's test) and for every matrix in an "
+        "enclosure of the Jacobian over the box the Routh first column is positive, that "
+        "equilibrium is locally exponentially stable." + _ROUTH,
+    ),
+    "indirect-method-instability-by-enclosure": (
+        "Lyapunov's indirect method (instability) with a verified interval enclosure (Krawczyk)",
+        "If a box holds exactly one equilibrium (Krawczyk's test) and for every matrix in an "
+        "enclosure of the Jacobian over the box the Routh first column has a sign change, that "
+        "equilibrium has an eigenvalue with positive real part and is unstable." + _ROUTH,
+    ),
+    "region-of-attraction-rational-field": (
+        "a forward-invariant sublevel set for the field multiplied through by its denominators",
+        "If {V <= level} is a certified region of attraction of G = f Q and Q > 0 on it, the "
+        "trajectories of f there are those of G at the positive speed 1/Q, so every trajectory "
+        "of f from the claim's set converges to the equilibrium." + _SOS,
+    ),
+    "recast-lyapunov-local": (
+        "Lyapunov's theorem on a sublevel set of the recast system (recasting, S-procedure)",
+        "If V(y, z) >= eps |y|^2 and its derivative along the recast field is <= -eps |y|^2 "
+        "where V <= level, on the set cut out by the recast constraints, then W(x) = "
+        "V(x - x*, recast(x)) is a strict Lyapunov function and the equilibrium is locally "
+        "asymptotically stable." + _SOS,
+    ),
+    "recast-region-of-attraction": (
+        "a forward-invariant sublevel set of the recast system (recasting, S-procedure)",
+        "As for the local theorem, and the claim's set lies in {W <= level}, which lies in the "
+        "domain: every trajectory from the claim's set converges to the equilibrium." + _SOS,
+    ),
     "counterexample-by-simulation": (
         "a counterexample: a start point in the claim's set whose trajectory does not converge",
         "The start point is exact; the trajectory is simulated (numerical evidence shown for "

@@ -61,7 +61,7 @@ def _check_consistent(cert: dict[str, Any], view: CertificateView, audit: AuditR
             raise ValueError(f"claim {c.statement!r} was not accepted by the audit")
 
 
-def _model_blocks(model: ModelView) -> list[Block]:
+def _model_blocks(model: ModelView, expressions: Any = None) -> list[Block]:
     states = list(model.states)
     out = [
         Block("heading", "The model", 2),
@@ -74,10 +74,9 @@ def _model_blocks(model: ModelView) -> list[Block]:
     ]
     fld = model.field
     if fld is None or fld.get("denominators") is not None:
-        note = model.field_note or "a rational field"
-        out.append(
-            para(t(f"The vector field is not polynomial with rational coefficients ({note})."))
-        )
+        from proofkit.report._claims_nonpoly import field_blocks
+
+        out += field_blocks(model, expressions)
     else:
         names = list(fld["variables"])
         out.append(para(t("Exact equations (uncertain parameters kept as symbols):")))
@@ -160,6 +159,14 @@ def _closing(meta: DocumentMeta, model: ModelView | None, appendix: list[Block])
     return out
 
 
+def _exact_point(entries: list[Any], k: int) -> Any:
+    """The claim's exactly known point (expression trees), if it states one."""
+    entry = entries[k] if k < len(entries) and isinstance(entries[k], dict) else {}
+    claim = entry.get("claim") if isinstance(entry.get("claim"), dict) else {}
+    eq = claim.get("equilibrium") if isinstance(claim.get("equilibrium"), dict) else {}
+    return eq.get("exact")
+
+
 def build_document(cert: dict[str, Any], audit: AuditReport, meta: DocumentMeta) -> list[Block]:
     """The proof document; raises ValueError if ``audit`` is not this certificate's report."""
     view = read(cert)
@@ -167,11 +174,14 @@ def build_document(cert: dict[str, Any], audit: AuditReport, meta: DocumentMeta)
     title = (view.model.name if view.model else None) or "polynomial certificate"
     blocks = [Block("heading", f"Proof document: {title}", 1), *_summary(view, audit)]
     if view.model is not None:
-        blocks += _model_blocks(view.model)
+        blocks += _model_blocks(view.model, (cert.get("model") or {}).get("expressions"))
     appendix: list[Block] = []
+    raw_model = cert.get("model") if isinstance(cert.get("model"), dict) else {}
+    entries = cert.get("claims") or []
     for k, (c, v) in enumerate(zip(view.claims, audit.claims, strict=True)):
         blocks.append(Block("heading", f"Claim {k + 1}: {c.statement}", 2))
         lead = {"refuted": "The audit checked that this is false: ", "proved": "Checked: "}
         blocks.append(para(t(lead.get(v.status, "Statement (nothing checked): ")), t(v.sentence)))
-        blocks += claim_blocks(c, v, view.model, appendix)
+        raw = {"expressions": raw_model.get("expressions"), "exact": _exact_point(entries, k)}
+        blocks += claim_blocks(c, v, view.model, appendix, raw)
     return blocks + _closing(meta, view.model, appendix)
