@@ -1,14 +1,18 @@
-"""Exact recast evidence from numerical hints: rounding, projection, exact LDL'.
+"""Exact recast evidence from numerical hints: rounding, division, projection, exact LDL'.
 
 ``V`` is rounded to dyadic rationals and fixed; each sum-of-squares
 multiplier's Gram matrix is rounded and shown PSD by exact LDL' (the
-multiplier is then ``b' G b`` exactly); free multipliers are rounded; every
-obligation's target is rebuilt exactly from the recast system
-(:mod:`proofkit.proofs._recast_system`, the field at each end of the
-enclosure of sqrt d), then its Gram matrix is rounded, projected exactly onto
-the target (Peyrl–Parrilo) and shown PSD. The result follows the audit's
-``recast-*`` schemas. Nothing here reads a float as evidence: a hint that
-does not survive the exact checks gives ``None``.
+multiplier is then ``b' G b`` exactly). Every obligation's target is rebuilt
+exactly from the recast system (:mod:`proofkit.proofs._recast_system`, the
+field at each end of the enclosure of sqrt d); the search matched it only
+modulo the circle relations, so for a rounded Gram matrix ``G0`` the exact
+difference ``target - b' G0 b`` is divided by the relations
+(:func:`proofkit.proofs._recast_nf.divide_circles`): the quotients become
+the certificate's free multipliers and the small remainder is absorbed by
+the orthogonal projection of ``G0`` (Peyrl–Parrilo), after which ``G`` is
+shown PSD. The result follows the audit's ``recast-*`` schemas. Nothing here
+reads a float as evidence: a hint that does not survive the exact checks
+gives a reason instead.
 """
 
 from __future__ import annotations
@@ -19,10 +23,13 @@ from typing import Any
 import flint
 import numpy as np
 
-from proofkit.exact import ldl_psd
-from proofkit.proofs._basin_exact import BITS, Gram, dyadic, fit_gram, gram_form, poly_json
+from proofkit.exact import ldl_psd, peyrl_parrilo_projection
+from proofkit.proofs._basin_exact import BITS, Gram, dyadic, gram_form, poly_json, round_matrix
+from proofkit.proofs._recast_nf import divide_circles
 
 __all__ = ["BITS", "exact_evidence", "poly_json", "round_poly"]
+
+Circles = list[tuple[str, flint.fmpq_mpoly]]
 
 
 def round_poly(ctx: Any, p: dict[tuple[int, ...], float], bits: int = 30) -> flint.fmpq_mpoly:
@@ -51,12 +58,14 @@ def _factor_round(q: np.ndarray, bits: int) -> Gram:
 
 
 def _repair(
-    ctx: Any, target: flint.fmpq_mpoly, basis: np.ndarray, equalities: list[tuple[str, Any]]
+    ctx: Any, target: flint.fmpq_mpoly, basis: np.ndarray, circles: Circles
 ) -> tuple[flint.fmpq_mpoly, dict[str, flint.fmpq_mpoly]]:
     """Cancel target terms outside the basis square exactly with the circle multipliers.
 
-    The circle ``S^2 + C^2 + 2 C`` has the term ``2 C``: a stray term ``r m`` with
-    ``C | m`` is removed by adding ``(r / 2)(m / C)`` to that circle's multiplier.
+    The relation ``S^2 + C^2 + 2 C`` has the term ``2 C``: a stray term ``r m`` with
+    ``C | m`` is removed by adding ``(r / 2)(m / C)`` to that relation's multiplier
+    (e.g. a lone ``C``, which a basis without the constant reaches only through
+    ``S * S``).
     """
     b = np.asarray(basis, np.int64)
     square = {
@@ -70,8 +79,8 @@ def _repair(
         if not stray:
             break
         for e, c in stray:
-            for label, h in equalities:
-                lin = [m for m, hc in zip(h.monoms(), h.coeffs(), strict=True) if sum(m) == 1]
+            for label, h in circles:
+                lin = [m for m in h.monoms() if sum(m) == 1]
                 if not lin:
                     continue
                 k = int(np.argmax(lin[0]))
@@ -87,14 +96,53 @@ def _repair(
     return target, fixes
 
 
+def _fit(
+    ctx: Any, target: flint.fmpq_mpoly, basis: np.ndarray, q: np.ndarray, circles: Circles
+) -> tuple[Gram, dict[str, flint.fmpq_mpoly]] | str:
+    """PSD ``G`` and free multipliers ``lam`` with ``target = b' G b + sum lam_k h_k``."""
+    why = "no Gram matrix"
+    for bits in BITS:
+        g0 = round_matrix(q, bits)
+        quot, _rest = divide_circles(target - gram_form(ctx, basis, g0), circles)
+        moved = target
+        for label, h in circles:
+            if label in quot:
+                moved = moved - quot[label] * h
+        moved, fixes = _repair(ctx, moved, basis, circles)
+        for label, add in fixes.items():
+            quot[label] = quot.get(label, ctx.constant(0)) + add
+        proj = peyrl_parrilo_projection(basis, g0, moved)
+        if isinstance(proj, str):
+            return proj
+        ldl = ldl_psd(proj)
+        if ldl.psd:
+            return proj, {k: p for k, p in quot.items() if not p.is_zero()}
+        why = f"the projected Gram matrix is not PSD ({ldl.reason})"
+    return why
+
+
 def _square(basis: np.ndarray, gram: Gram) -> dict[str, Any]:
     return {"basis": np.asarray(basis).tolist(), "gram": [[str(x) for x in r] for r in gram]}
+
+
+def _multipliers(ctx: Any, hint: dict[str, Any]) -> dict[str, tuple[Any, dict]] | str:
+    out = {}
+    for key, (basis, q) in hint["sos"].items():
+        if np.abs(q).max(initial=0.0) < 1e-10:
+            continue
+        g = _psd(q)
+        if g is None:
+            return f"the multiplier {key!r} did not round to a PSD Gram matrix"
+        p = gram_form(ctx, basis, g)
+        if not p.is_zero():
+            out[key] = (p, _square(basis, g))
+    return out
 
 
 def exact_evidence(
     ctx: Any,
     bases: dict[str, tuple[flint.fmpq_mpoly, list[tuple[str, flint.fmpq_mpoly]]]],
-    equalities: list[tuple[str, flint.fmpq_mpoly]],
+    circles: Circles,
     hint: dict[str, Any],
 ) -> tuple[dict[str, Any], dict[str, Any], dict[str, Any]] | str:
     """``(multipliers, free, squares)`` JSON, or why not.
@@ -104,22 +152,9 @@ def exact_evidence(
     sos_json: dict[str, Any] = {}
     free_json: dict[str, Any] = {}
     squares: dict[str, Any] = {}
-    exact_sos: dict[str, tuple[flint.fmpq_mpoly, dict[str, Any]]] = {}
-    for key, (basis, q) in hint["sos"].items():
-        if np.abs(q).max(initial=0.0) < 1e-10:
-            continue
-        g = _psd(q)
-        if g is None:
-            return f"the multiplier {key!r} did not round to a PSD Gram matrix"
-        p = gram_form(ctx, basis, g)
-        if not p.is_zero():
-            exact_sos[key] = (p, _square(basis, g))
-    exact_free: dict[str, flint.fmpq_mpoly] = {}
-    for key, (exps, c) in hint["free"].items():
-        terms = {tuple(int(x) for x in e): float(v) for e, v in zip(exps, c, strict=True)}
-        p = round_poly(ctx, terms, 36)
-        if not p.is_zero():
-            exact_free[key] = p
+    exact_sos = _multipliers(ctx, hint)
+    if isinstance(exact_sos, str):
+        return exact_sos
     for name, (base, ineqs) in bases.items():
         plain = name.removesuffix(" lo").removesuffix(" hi")
         target = base
@@ -129,23 +164,13 @@ def exact_evidence(
                 target = target - found[0] * g
                 sos_json[f"{name} * {label}"] = poly_json(found[0])
                 squares[f"{name} * {label}"] = found[1]
-        for label, h in equalities:
-            lam = exact_free.get(f"{plain} * {label}")
-            if lam is not None:
-                target = target - lam * h
-                free_json[f"{name} * {label}"] = poly_json(lam)
         basis, q = hint["grams"][plain]
-        target, fixes = _repair(ctx, target, basis, equalities)
-        for label, add in fixes.items():
-            key = f"{name} * {label}"
-            lam = exact_free.get(f"{plain} * {label}", ctx.constant(0)) + add
-            if lam.is_zero():
-                free_json.pop(key, None)
-            else:
-                free_json[key] = poly_json(lam)
-        gram = fit_gram(target, basis, q)
-        if isinstance(gram, str):
-            return f"the obligation {name!r} has no exact PSD Gram matrix near the hint: {gram}"
+        fitted = _fit(ctx, target, basis, q, circles)
+        if isinstance(fitted, str):
+            return f"the obligation {name!r} has no exact PSD Gram matrix near the hint: {fitted}"
+        gram, free = fitted
+        for label, lam in free.items():
+            free_json[f"{name} * {label}"] = poly_json(lam)
         squares[name] = _square(basis, gram)
     return sos_json, free_json, squares
 

@@ -15,14 +15,21 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from typing import Protocol
 
 import cvxpy as cp
 import numpy as np
 import scipy.sparse as sps
 
-__all__ = ["Affine", "NumPoly", "Unknown", "free_unknown", "gram_unknown", "poly_mul"]
+__all__ = ["Affine", "NumPoly", "Reducer", "Unknown", "free_unknown", "gram_unknown", "poly_mul"]
 
 NumPoly = dict[tuple[int, ...], float]
+
+
+class Reducer(Protocol):
+    """A linear normal-form map: ``matrix(keys) -> (normal-form keys, sparse map)``."""
+
+    def matrix(self, keys: np.ndarray) -> tuple[np.ndarray, sps.csr_matrix]: ...
 
 
 def poly_mul(p: NumPoly, q: NumPoly) -> NumPoly:
@@ -110,8 +117,13 @@ class Affine:
             self.parts.append((sub, exps, np.repeat(sub.cols, t), vals, None))
         return self
 
-    def constraint(self) -> cp.Constraint:
-        """``self == 0`` coefficient by coefficient, as one sparse equality."""
+    def constraint(self, reducer: Reducer | None = None) -> cp.Constraint:
+        """``self == 0`` coefficient by coefficient, as one sparse equality.
+
+        With ``reducer`` (``keys -> (normal-form keys, sparse map)``, e.g.
+        :class:`proofkit.proofs._recast_nf.CircleReduction`), the coefficients of
+        the normal forms are matched instead (an identity modulo an ideal).
+        """
         rows_all = [np.array(list(self.const.keys()), np.int64).reshape(-1, self.nvars)]
         rows_all += [p[1] for p in self.parts]
         allrows = np.vstack(rows_all)
@@ -122,6 +134,9 @@ class Affine:
         start = len(self.const)
         b_idx = inverse[:start]
         np.add.at(b, b_idx, np.array(list(self.const.values()), float))
+        red = None if reducer is None else reducer.matrix(keys)[1]
+        if red is not None:
+            b = red @ b
         expr = None
         by_var: dict[tuple[str, int], tuple[Unknown, list, list, list, object]] = {}
         for u, exps, cols, vals, param in self.parts:
@@ -137,6 +152,8 @@ class Affine:
                 (np.concatenate(vls), (np.concatenate(rws), np.concatenate(cls))),
                 shape=(nrow, size),
             )
+            if red is not None:
+                mat = red @ mat
             term = mat @ u.vec
             if param is not None:
                 term = param * term

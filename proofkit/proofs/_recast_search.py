@@ -1,20 +1,24 @@
 """Numerical search for recast Lyapunov certificates (floating point, never evidence).
 
 Two semidefinite programs over the recast variables ``z``
-(:mod:`proofkit.proofs._recast_system`):
+(:mod:`proofkit.proofs._recast_system`), every identity matched modulo the
+circle relations (normal forms, :mod:`proofkit.proofs._recast_nf`; Gram bases
+with each ``S`` of degree at most 1, no free multiplier per relation):
 
 * :func:`shape_step`: the multiplier of ``level - V`` fixed, find ``V`` with
   the ``positive`` and ``decrease`` identities (sums of squares modulo the
-  circle constraints and the Taylor bounds) that keeps as many sample points
-  as possible inside ``{V <= 1}`` (hinge loss on the samples);
+  circle relations and the Taylor bounds) that keeps as many sample points
+  as possible inside ``{V <= 1}`` (hinge loss on the samples); every
+  obligation's Gram matrix keeps a margin above zero so that the exact step
+  has room;
 * :func:`hint_step`: ``V`` fixed, every obligation of the audit's schema
-  with its multipliers free, maximising the smallest Gram eigenvalue so that
-  rounding and the exact projection have room.
+  with its multipliers free, maximising the smallest Gram eigenvalue.
 
-Obligation names and multiplier names are the audit's
-(``"<obligation> * <inequality>"``, ``"<obligation> * circle k"``).
-Nothing here decides anything; :mod:`proofkit.proofs._recast_exact` makes
-the result exact and checks it.
+Alternating the two is the usual bilinear iteration for regions of
+attraction (e.g. Jarvis-Wloszek, Packard et al., 2003; Topcu, Packard and
+Seiler, 2008). Obligation and multiplier names are the audit's
+(``"<obligation> * <inequality>"``). Nothing here decides anything;
+:mod:`proofkit.proofs._recast_exact` makes the result exact and checks it.
 """
 
 from __future__ import annotations
@@ -25,10 +29,11 @@ from dataclasses import dataclass, field
 import cvxpy as cp
 import numpy as np
 
-from proofkit.proofs._recast_lin import Affine, NumPoly, free_unknown, gram_unknown
-from proofkit.sos.basis import full_basis, newton_basis
+from proofkit.proofs._recast_lin import Affine, NumPoly, free_unknown, gram_unknown, poly_mul
+from proofkit.proofs._recast_nf import CircleReduction, normal_mask
+from proofkit.sos.basis import full_basis
 
-__all__ = ["Obligation", "SearchData", "hint_step", "numeric", "shape_step"]
+__all__ = ["Obligation", "SearchData", "hint_step", "numeric", "shape_step", "v_support"]
 
 
 def numeric(p: object) -> NumPoly:
@@ -54,96 +59,34 @@ class SearchData:
     nz: int
     n: int
     field: list[NumPoly]
-    equalities: list[tuple[str, NumPoly]]
+    pairs: list[tuple[int, int]]  # (S index, C index) of each circle relation
     obligations: list[Obligation] = field(default_factory=list)
+
+    def reducer(self) -> CircleReduction:
+        return CircleReduction(self.nz, self.pairs)
+
+    def basis(self, degree: int, low: int) -> np.ndarray:
+        """Gram basis: monomials of degree ``low..degree`` in normal form."""
+        b = full_basis(self.nz, max(degree, low), low)
+        return b[normal_mask(b, self.pairs)]
 
 
 def _deg(p: NumPoly) -> int:
     return max((sum(e) for e in p), default=0)
 
 
-def _support(aff: Affine, nz: int) -> np.ndarray:
-    rows = [np.array(list(aff.const.keys()), np.int64).reshape(-1, nz)]
-    rows += [p[1] for p in aff.parts]
-    return np.unique(np.vstack(rows), axis=0)
+def v_support(data: SearchData, degree: int) -> np.ndarray:
+    """Monomials of V: degree 1..degree in normal form; of degree 1 only the C's.
 
-
-def v_support(nz: int, n: int, degree: int) -> np.ndarray:
-    """Monomials of V: degree 1..degree, at most linear in each S (the circle gives S^2)."""
-    b = full_basis(nz, degree, 1)
-    mask = np.ones(len(b), bool)
-    for k in range(n, nz - 1, 2):  # S variables sit at n, n + 2, ... (E's have no circle)
-        mask &= b[:, k] <= 1
-    return b[mask]
-
-
-def _build(data: SearchData, v: object, degree: int, level: float, s0: dict[str, NumPoly] | None):
-    """Affine targets of every obligation with free multipliers; V unknown or fixed."""
-    nz = data.nz
-    one = {tuple([0] * nz): 1.0}
-    affs, grams, mults = {}, {}, {}
-    for ob in data.obligations:
-        top = degree + ob.extra
-        aff = Affine(nz).add_const(ob.base)
-        if isinstance(v, dict):
-            if ob.lie:
-                aff.add_const(_lie(v, data.field), -1.0)
-            if ob.v_sign:
-                aff.add_const(v, ob.v_sign)
-        else:
-            if ob.lie:
-                aff.add_lie(v, data.field, -1.0)
-            if ob.v_sign:
-                aff.add_product(v, one, ob.v_sign)
-        for label, g in ob.ineqs:
-            key = f"{ob.name} * {label}"
-            if label == "level":
-                if s0 is not None and key in s0:
-                    lv = {e: -c for e, c in (v.items() if isinstance(v, dict) else [])}
-                    if isinstance(v, dict):
-                        lv[tuple([0] * nz)] = lv.get(tuple([0] * nz), 0.0) + level
-                        aff.add_const(_mul(s0[key], lv), -1.0)
-                    else:
-                        aff.add_const(s0[key], -level).add_product(v, s0[key], 1.0)
-                    continue
-                if not isinstance(v, dict):
-                    continue
-                gv = {e: -c for e, c in v.items()}
-                gv[tuple([0] * nz)] = gv.get(tuple([0] * nz), 0.0) + level
-                g = gv
-            if label != "level" and _deg(g) > top:
-                continue  # a bound of higher degree than the target: no room for it
-            half = max(0, (top - _deg(g)) // 2)
-            low = 1 if (label == "level" and ob.lie) else 0  # decrease vanishes at the point
-            u = gram_unknown(_safe(key), full_basis(nz, max(half, low), low))
-            aff.add_product(u, g, -1.0)
-            mults[key] = u
-        for label, h in data.equalities:
-            key = f"{ob.name} * {label}"
-            lam = free_unknown(_safe(key), full_basis(nz, max(0, top - 2), 0))
-            aff.add_product(lam, h, -1.0)
-            mults[key] = lam
-        affs[ob.name] = aff
-    for name, aff in affs.items():
-        b = newton_basis(_support(aff, nz))
-        b = b[b.sum(axis=1) > 0] if not any(sum(e) == 0 for e in aff.const) else b
-        q = gram_unknown(_safe(name) + "_Q", b)
-        aff.add_product(q, one, -1.0)
-        grams[name] = q
-    return affs, grams, mults
-
-
-def _safe(name: str) -> str:
-    return "".join(ch if ch.isalnum() else "_" for ch in name)
-
-
-def _mul(p: NumPoly, q: NumPoly) -> NumPoly:
-    out: NumPoly = {}
-    for e1, c1 in p.items():
-        for e2, c2 in q.items():
-            k = tuple(a + b for a, b in zip(e1, e2, strict=True))
-            out[k] = out.get(k, 0.0) + c1 * c2
-    return out
+    V has a minimum at the point, so its terms linear in ``y`` (and in ``S``
+    and ``E``, which are ``y`` to first order) vanish; ``-C = 1 - cos(delta)``
+    is quadratic in ``y`` and stays.
+    """
+    b = data.basis(degree, 1)
+    keep = b.sum(axis=1) > 1
+    for _s, c in data.pairs:
+        keep |= b[:, c] == 1
+    return b[keep]
 
 
 def _lie(v: NumPoly, fld: list[NumPoly]) -> NumPoly:
@@ -160,6 +103,64 @@ def _lie(v: NumPoly, fld: list[NumPoly]) -> NumPoly:
     return out
 
 
+def _gap(v: NumPoly, level: float, nz: int) -> NumPoly:
+    gv = {e: -c for e, c in v.items()}
+    zero = tuple([0] * nz)
+    gv[zero] = gv.get(zero, 0.0) + level
+    return gv
+
+
+def _obligation(data: SearchData, ob: Obligation, v: object, degree: int, level: float, s0):
+    """The affine target of one obligation and its multipliers (V unknown or fixed)."""
+    nz = data.nz
+    one = {tuple([0] * nz): 1.0}
+    top = degree + ob.extra
+    aff = Affine(nz).add_const(ob.base)
+    fixed = isinstance(v, dict)
+    if ob.lie:
+        _ = aff.add_const(_lie(v, data.field), -1.0) if fixed else aff.add_lie(v, data.field, -1.0)
+    if ob.v_sign:
+        _ = aff.add_const(v, ob.v_sign) if fixed else aff.add_product(v, one, ob.v_sign)
+    mults = {}
+    for label, g in ob.ineqs:
+        key = f"{ob.name} * {label}"
+        if label == "level":
+            if s0 is not None and key in s0:
+                if fixed:
+                    aff.add_const(poly_mul(s0[key], _gap(v, level, nz)), -1.0)
+                else:
+                    aff.add_const(s0[key], -level).add_product(v, s0[key], 1.0)
+                continue
+            if not fixed:
+                continue
+            g = _gap(v, level, nz)
+        elif _deg(g) > top:
+            continue  # a bound of higher degree than the target: no room for it
+        half = max(0, (top - _deg(g)) // 2)
+        low = 1 if (label == "level" and ob.lie) else 0  # decrease vanishes at the point
+        u = gram_unknown(_safe(key), data.basis(half, low))
+        aff.add_product(u, g, -1.0)
+        mults[key] = u
+    low = 0 if any(sum(e) == 0 for e in aff.const) else 1
+    q = gram_unknown(_safe(ob.name) + "_Q", data.basis(top // 2, low))
+    aff.add_product(q, one, -1.0)
+    return aff, q, mults
+
+
+def _build(data: SearchData, v: object, degree: int, level: float, s0: dict | None):
+    """Affine targets of every obligation with free multipliers; V unknown or fixed."""
+    affs, grams, mults = {}, {}, {}
+    for ob in data.obligations:
+        aff, q, m = _obligation(data, ob, v, degree, level, s0)
+        affs[ob.name], grams[ob.name] = aff, q
+        mults.update(m)
+    return affs, grams, mults
+
+
+def _safe(name: str) -> str:
+    return "".join(ch if ch.isalnum() else "_" for ch in name)
+
+
 def _solve(prob: cp.Problem) -> bool:
     for solver, opts in (("CLARABEL", {}), ("SCS", {"max_iters": 20000, "eps_abs": 1e-7})):
         try:
@@ -174,15 +175,23 @@ def _solve(prob: cp.Problem) -> bool:
 
 
 def shape_step(
-    data: SearchData, degree: int, s0: dict[str, NumPoly], samples: np.ndarray
+    data: SearchData,
+    degree: int,
+    s0: dict[str, NumPoly],
+    samples: np.ndarray,
+    margin: float = 0.0,
 ) -> NumPoly | None:
     """V with the obligations at level 1 (the level multipliers fixed), samples inside."""
-    supp = v_support(data.nz, data.n, degree)
+    supp = v_support(data, degree)
     v = free_unknown("V", supp)
-    affs, _grams, _m = _build(data, v, degree, 1.0, s0)
+    affs, grams, _m = _build(data, v, degree, 1.0, s0)
+    red = data.reducer()
+    cons = [a.constraint(red) for a in affs.values()]
+    if margin > 0:
+        cons += [q.var - margin * np.eye(q.var.shape[0]) >> 0 for q in grams.values()]
     feats = np.prod(samples[:, None, :] ** supp[None, :, :], axis=2)
     objective = cp.Minimize(cp.sum(cp.pos(feats @ v.var - 1.0)) / max(len(samples), 1))
-    prob = cp.Problem(objective, [a.constraint() for a in affs.values()])
+    prob = cp.Problem(objective, cons)
     if not _solve(prob) or v.var.value is None:
         return None
     return {tuple(int(x) for x in e): float(c) for e, c in zip(supp, v.var.value, strict=True)}
@@ -191,8 +200,9 @@ def shape_step(
 def hint_step(data: SearchData, v: NumPoly, degree: int, level: float) -> dict | None:
     """Every multiplier and Gram matrix for a fixed V, with the largest eigenvalue margin."""
     affs, grams, mults = _build(data, v, degree, level, None)
+    red = data.reducer()
     t = cp.Variable()
-    cons = [a.constraint() for a in affs.values()]
+    cons = [a.constraint(red) for a in affs.values()]
     for q in grams.values():
         m = q.var.shape[0]
         cons.append(q.var - t * np.eye(m) >> 0)
@@ -203,8 +213,5 @@ def hint_step(data: SearchData, v: NumPoly, degree: int, level: float) -> dict |
     return {
         "margin": float(t.value),
         "grams": {k: (q.basis, np.asarray(q.var.value)) for k, q in grams.items()},
-        "sos": {
-            k: (u.basis, np.asarray(u.var.value)) for k, u in mults.items() if u.basis is not None
-        },
-        "free": {k: (u.exps, np.asarray(u.var.value)) for k, u in mults.items() if u.basis is None},
+        "sos": {k: (u.basis, np.asarray(u.var.value)) for k, u in mults.items()},
     }

@@ -45,6 +45,7 @@ __all__ = ["RecastResult", "attempt", "region_search"]
 EPS = Fraction(1, 1000)
 ENCLOSURE_BITS = 48
 LEVELS = (1.0, 0.9, 0.7, 0.5)
+MARGIN = 1e-6  # smallest Gram eigenvalue kept by the shape step (room for rounding)
 
 
 @dataclass(frozen=True)
@@ -119,8 +120,8 @@ class _Problem:
                 if strict:
                     base[zero] = base.get(zero, 0.0) - float(EPS)
                 obs.append(Obligation(f"domain {j + 1}", base, [("level", {}), *tay], extra=2))
-        eqs = [(lbl, numeric(h)) for lbl, h in s.equalities]
-        return SearchData(s.nz, s.n, s.numeric_field(), eqs, obs)
+        pairs = [(k, k + 1) for k in range(s.n, s.n + 2 * len(s.equalities), 2)]
+        return SearchData(s.nz, s.n, s.numeric_field(), pairs, obs)
 
     def exact_bases(self, v: flint.fmpq_mpoly, level: Fraction, attracts: bool) -> dict:
         ctx, eps = self.system.ctx, ctx_const(self.system.ctx, EPS)
@@ -182,7 +183,8 @@ def _initial_s0(data: SearchData, scale: float) -> dict[str, dict[tuple[int, ...
 
 def _certify(
     prob: _Problem, v_num: dict, degree: int, attracts: bool, say: Callable
-) -> RecastResult:
+) -> tuple[RecastResult, dict | None]:
+    """Exact evidence for ``V`` at the first level of LEVELS that works, and its hint."""
     ctx = prob.system.ctx
     v = round_poly(ctx, v_num, 30)
     v_float = numeric(v)
@@ -214,8 +216,32 @@ def _certify(
             "free": free,
             "squares": squares,
         }
-        return RecastResult(evidence, f"certified at level {level}", v_num, prob.system)
-    return RecastResult(None, why, v_num, prob.system)
+        res = RecastResult(evidence, f"certified at level {level}", v_float, prob.system)
+        return res, hint
+    return RecastResult(None, why, v_num, prob.system), None
+
+
+def _next_s0(hint: dict, level: float, fallback: dict) -> dict[str, dict[tuple[int, ...], float]]:
+    """The hint's level multipliers, rescaled for ``V / level`` at level 1."""
+    out = {}
+    for key, (basis, q) in hint["sos"].items():
+        if key.endswith("* level"):
+            exps = (basis[:, None, :] + basis[None, :, :]).reshape(-1, basis.shape[1])
+            poly: dict[tuple[int, ...], float] = {}
+            for e, c in zip(map(tuple, exps.tolist()), (q * level).ravel().tolist(), strict=True):
+                poly[e] = poly.get(e, 0.0) + c
+            out[key] = poly
+    return out or fallback
+
+
+def _inside(res: RecastResult, lifted: np.ndarray) -> float:
+    """Fraction of the (lifted) sample points in the certified ``{V <= level}``."""
+    assert res.evidence is not None and res.v is not None
+    level = float(Fraction(res.evidence["numbers"]["level"]))
+    exps = np.array(list(res.v.keys()), np.int64)
+    coef = np.array(list(res.v.values()))
+    vals = np.prod(lifted[:, None, :] ** exps[None, :, :], axis=2) @ coef
+    return float(np.mean(vals <= level)) if len(vals) else 0.0
 
 
 def region_search(
@@ -225,21 +251,42 @@ def region_search(
     *,
     degree: int = 4,
     order: int = 1,
+    rounds: int = 1,
+    margin: float = MARGIN,
     s0_scale: float = 0.1,
     progress: Callable[[str], None] | None = None,
 ) -> RecastResult:
-    """One search: V towards ``{V <= 1}`` holding the sample points, then exact evidence."""
+    """V towards ``{V <= 1}`` holding the sample points, then exact evidence; ``rounds`` passes.
+
+    Each round fixes the level multipliers of the last certificate's hint and
+    looks for a V that keeps more sample points inside (the bilinear
+    iteration); the certificate with the most sample points inside is kept.
+    ``res.v`` is then the certified V as floats (over the recast variables).
+    """
     say = progress or (lambda _m: None)
     prob = _problem(model, claim, order)
     if isinstance(prob, str):
         return RecastResult(None, prob)
     attracts = claim.kind == "attracts"
     data = prob.search_data(attracts, 1.0)
-    say(f"recast: searching V of degree {degree} in {', '.join(prob.system.names)}")
-    v_num = shape_step(data, degree, _initial_s0(data, s0_scale), prob.system.lift(samples_x))
-    if v_num is None:
-        return RecastResult(None, "the numerical search found no V", None, prob.system)
-    return _certify(prob, v_num, degree, attracts, say)
+    lifted = prob.system.lift(samples_x)
+    start = _initial_s0(data, s0_scale)
+    s0, best, score = start, RecastResult(None, "the numerical search found no V"), -1.0
+    for r in range(rounds):
+        say(f"recast: round {r + 1}: V of degree {degree} in {', '.join(prob.system.names)}")
+        v_num = shape_step(data, degree, s0, lifted, margin)
+        if v_num is None:
+            break
+        res, hint = _certify(prob, v_num, degree, attracts, say)
+        if res.evidence is None or hint is None:
+            best = best if best.evidence is not None else res
+            break
+        frac = _inside(res, lifted)
+        say(f"recast: round {r + 1}: {100 * frac:.1f} % of the sample points certified")
+        if frac > score:
+            best, score = res, frac
+        s0 = _next_s0(hint, float(Fraction(res.evidence["numbers"]["level"])), start)
+    return best
 
 
 def _samples(model: Model, claim: Claim, prob: _Problem, count: int = 400) -> np.ndarray:
