@@ -20,15 +20,17 @@ from __future__ import annotations
 import time
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
+from fractions import Fraction
 from typing import Any
 
 from proofkit.sos._ascent_maps import NumPoly
 
-__all__ = ["ClaimLog", "claim_iterates"]
+__all__ = ["ClaimLog", "claim_iterates", "set_leaves_domain"]
 
 TARGET = 0.995  # gamma / level below which the exact step is tried
 STALL_GAIN = 2e-3  # a round improving the ratio by less than this share counts as stalled
 STALL_ROUNDS = 3
+GROWTH = 4.0  # a degree is tried only if this many times the last degree's time is left
 
 
 @dataclass
@@ -80,11 +82,12 @@ def claim_iterates(
     out over ``degrees`` (time left over passes on to the next degree).
     """
     t0 = time.perf_counter()
-    it = start
+    it, last = start, 0.0
     for k, degree in enumerate(degrees):
+        t_degree = time.perf_counter()
         deadline = t0 + seconds * (k + 1) / len(degrees)
-        if time.perf_counter() > deadline:
-            log.stopped = f"time budget of {seconds:.0f} s used"
+        if t_degree - t0 + GROWTH * last > seconds:  # a higher degree costs more than the last
+            log.stopped = f"degree {degree} not tried within the budget of {seconds:.0f} s"
             return
         if degree != it.degree:
             nxt = search.raise_degree(it, degree)
@@ -108,3 +111,49 @@ def claim_iterates(
             say(f"degree {degree}, claim round {log.rounds}: the set reaches {ratio:.4g} x level")
             if ratio <= TARGET:
                 yield it
+        last = time.perf_counter() - t_degree
+
+
+def set_leaves_domain(setup: Any, states: Sequence[str], seed: int = 5) -> str | None:
+    """Why no sublevel set inside the domain can hold the claim's set, or None.
+
+    Samples the set; a sample outside the domain is rounded to a rational point and
+    checked exactly (in the set, some domain condition fails), then named.
+    """
+    import flint
+    import numpy as np
+
+    from proofkit.proofs._basin_sim import _sample_set, numeric
+
+    st = setup.setting
+    if not st.domain or not st.set_conds:
+        return None
+    n = st.n
+    conds = [(numeric([g], n)[0], strict) for g, strict in st.set_conds]
+    reach = max(float(s) for s in st.scale)
+    pts = _sample_set(conds, n, reach, np.random.default_rng(seed))
+    if len(pts) == 0:
+        return None
+    bad = np.zeros(len(pts), dtype=bool)
+    for h, strict in st.domain:
+        val = numeric([h], n)[0](pts)
+        bad |= val <= 0 if strict else val < 0
+    def inside(q: list) -> bool:
+        return all((g(*q) > 0) if s else (g(*q) >= 0) for g, s in st.set_conds)
+
+    for i, den in ((i, den) for i in np.flatnonzero(bad)[:10] for den in (10, 100, 1000)):
+        y = [Fraction(round(float(c) * den), den) for c in pts[i]]
+        q = [flint.fmpq(c.numerator, c.denominator) for c in y]
+        if not inside(q):
+            continue
+        for j, (h, strict) in enumerate(st.domain):
+            if (h(*q) <= 0) if strict else (h(*q) < 0):
+                at = ", ".join(
+                    f"{s} = {p + c}" for s, p, c in zip(states, setup.point, y, strict=True)
+                )
+                return (
+                    f"the claim's set leaves the domain: the point {at} lies in the set but "
+                    f"not in domain condition {j + 1} (checked exactly); claims are proved "
+                    "inside the domain"
+                )
+    return None

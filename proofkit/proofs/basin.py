@@ -63,6 +63,7 @@ DEGREES = (2, 4, 6, 8)
 MAX_STATES = 6
 MAX_GRAM = 120  # rows of one Gram matrix (the audit's limit too): bounds each solve
 CLAIM_BUDGET = 30.0  # seconds of search per attracts claim
+CLAIM_MAX_DEGREE = 6  # degree 8 costs ~30 s a round on 2 cores and rarely decides a claim
 DOMAIN_STEPS = 8  # levels tried (each 0.7 of the last) to fit {V <= level} into the domain
 Say = Callable[[str], None]
 
@@ -457,9 +458,12 @@ def attempt(model: Model, claim: Claim, progress: Say | None = None) -> ProofAtt
 
 def _search_claim(model: Model, claim: Claim, setup: BasinSetup, say: Say) -> ProofAttempt:
     """The Lyapunov-equation ``V`` first, then the claim-directed search, within CLAIM_BUDGET."""
-    from proofkit.proofs._basin_claim import ClaimLog, claim_iterates
+    from proofkit.proofs._basin_claim import ClaimLog, claim_iterates, set_leaves_domain
     from proofkit.proofs._basin_refute import refute
 
+    leaves = set_leaves_domain(setup, model.states)
+    if leaves:
+        return _not_proved(model, claim, leaves)
     t0 = time.perf_counter()
     search, it = start_search(setup, say, CLAIM_BUDGET, with_set=True)
     if it is None:
@@ -472,7 +476,8 @@ def _search_claim(model: Model, claim: Claim, setup: BasinSetup, say: Say) -> Pr
     log = ClaimLog()
     left = CLAIM_BUDGET - (time.perf_counter() - t0)
     if not isinstance(cert, BasinCertificate):
-        for nxt in claim_iterates(search, it, DEGREES, left, log, say):
+        degrees = tuple(d for d in DEGREES if d <= CLAIM_MAX_DEGREE)
+        for nxt in claim_iterates(search, it, degrees, left, log, say):
             cert = certify(setup, search, nxt)
             if isinstance(cert, BasinCertificate):
                 break
