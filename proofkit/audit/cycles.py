@@ -277,3 +277,7 @@ def _annulus_words(checks: Checks, num: dict[str, Fraction], nset: int, ndom: in
             f"within i / domain j: g - b1 (W - inner) - b2 (outer - W) (minus eps when strict) "
             f"for the set's {nset} and the domain's {ndom} condition(s): A lies in both"
         )
+
+
+# The same theorems for rational fields (multiplied through by a positive denominator).
+from proofkit.audit import _rational_cycles  # noqa: E402, F401

@@ -127,8 +127,15 @@ def _cloud(nf: NumericField, loop: np.ndarray, centre: np.ndarray, scale: float)
     return np.hstack([grid, near])
 
 
-def fit_annulus(nf: NumericField, cycle: Cycle, degree: int) -> FittedW | None:
-    """The linear program of the module docstring; None when ``delta`` is not positive."""
+def fit_annulus(
+    nf: NumericField, cycle: Cycle, degree: int, reach: float | None = None
+) -> FittedW | None:
+    """The linear program of the module docstring; None when ``delta`` is not positive.
+
+    ``reach``: the flow conditions outside the cycle are asked only within this
+    (scaled) distance of it, for cycles with equilibria outside them (the value
+    conditions stay on the whole grid; :func:`choose_levels` checks the crossings).
+    """
     from scipy.optimize import linprog
 
     loop = cycle.orbit[:, :-1]
@@ -158,7 +165,8 @@ def fit_annulus(nf: NumericField, cycle: Cycle, degree: int) -> FittedW | None:
         rhs.append(b)
 
     add(-feat[outer], -np.ones(outer.sum()), dist[outer])
-    add(lie[outer], np.zeros(outer.sum()), dist[outer])
+    flow = outer if reach is None else outer & (dist < reach)
+    add(lie[flow], np.zeros(flow.sum()), dist[flow])
     add(feat[inner], np.ones(inner.sum()), dist[inner])
     add(-lie[inner], np.zeros(inner.sum()), dist[inner])
     add(feat[ball], np.full(ball.sum(), _BALL), None)

@@ -32,6 +32,7 @@ __all__ = [
     "annulus_program",
     "dulac_program",
     "index_program",
+    "positive_program",
 ]
 
 
@@ -239,3 +240,26 @@ def annulus_program(pl: Planar, a: AnnulusData) -> Found:
         **_write(prog, exact, names, free=["p_o", "p_i"]),
     }
     return Found(ev)
+
+
+def positive_program(
+    pl: Planar, q: sp.Expr, eps: Fraction, conditions: Sequence[sp.Expr], extra: int = 0
+) -> Found:
+    """``denominator``: ``q - eps - sum_i t_i c_i`` and the ``t_i`` are sums of squares.
+
+    Shows ``q >= eps`` where every ``c_i >= 0`` (the set of a claim, or an annulus
+    ``W - inner >= 0``, ``outer - W >= 0``); ``extra`` raises the multipliers' degree.
+    """
+    prog = SearchProgram(pl.xs)
+    degree = _even(max([pl.degree(q)] + [pl.degree(c) for c in conditions])) + extra
+    target = prog.poly(sp.expand(q)) - sp.Rational(eps.numerator, eps.denominator)
+    names = []
+    for i, c in enumerate(conditions):
+        t = _sos(prog, f"t{i + 1}", degree - pl.degree(c))
+        target = target - t * c
+        names.append(t.name)
+    prog.require_sos(target, "denominator")
+    exact, why = _exact(prog)
+    if exact is None:
+        return Found(None, why)
+    return Found({"numbers": {"eps": str(eps)}, **_write(prog, exact, names)})

@@ -48,6 +48,7 @@ __all__ = ["DULAC_DEGREES", "TIME_BUDGET", "attempt", "planar_problem"]
 
 DULAC_DEGREES = (0, 1, 2, 3, 4)
 W_DEGREES = (2, 4, 6, 8)
+FIT_REACH = 0.35  # scaled distance: flow conditions outside the cycle when the full fit fails
 TIME_BUDGET = 90.0  # seconds per claim
 Progress = Callable[[str], None]
 
@@ -55,6 +56,10 @@ Progress = Callable[[str], None]
 def attempt(model: Model, claim: Claim, progress: Progress | None = None) -> ProofAttempt | None:
     """A certificate entry for a ``no cycle`` / ``cycle`` claim (None for other kinds)."""
     if claim.kind not in ("no cycle", "cycle"):
+        return None
+    from proofkit.proofs._nonpoly_cycles import applies
+
+    if applies(model):  # a rational field: proofs/_nonpoly_cycles.py multiplies it through
         return None
     say = progress or (lambda _m: None)
     prep = planar_problem(model, claim)
@@ -241,7 +246,7 @@ def _annulus_for(pl: Planar, nf: Any, cyc: Any, degree: int, say: Progress) -> d
     from proofkit.proofs._cycles_fit import choose_levels, fit_annulus
 
     say(f"cycle: fitting W of degree {degree} to the cycle of period {cyc.period:.6g}")
-    fit = fit_annulus(nf, cyc, degree)
+    fit = fit_annulus(nf, cyc, degree) or fit_annulus(nf, cyc, degree, reach=FIT_REACH)
     if fit is None:
         return f"degree {degree}: no W follows the cycle (linear program)"
     levels = choose_levels(fit, nf)
