@@ -175,10 +175,15 @@ def evaluate(expr: Expr, xs: list[Dual], bits: int) -> Dual:
     return d_round(d_apply(op, evaluate(expr[1], xs, bits), bits), bits)
 
 
-def _inputs(box: list[Interval], model: ModelData) -> list[Dual]:
+def _inputs(
+    box: list[Interval], model: ModelData, params: list[Interval] | None = None
+) -> list[Dual]:
     n = len(box)
     unit = [tuple(point(Fraction(int(i == j))) for j in range(n)) for i in range(n)]
     xs = [Dual(b, unit[i]) for i, b in enumerate(box)]
+    if params is not None:  # the uncertain parameters over intervals (no derivative)
+        require(len(params) == len(model.uncertain), "parameters", "one interval each")
+        return xs + [Dual(p, tuple(point(Fraction(0)) for _ in box)) for p in params]
     for p in model.uncertain:
         require(p.nominal is not None, "field", f"the nominal value of {p.name} is not rational")
         xs.append(Dual(point(p.nominal or Fraction(0)), tuple(point(Fraction(0)) for _ in box)))
@@ -186,12 +191,13 @@ def _inputs(box: list[Interval], model: ModelData) -> list[Dual]:
 
 
 def jacobian_enclosure(
-    model: ModelData, box: list[Interval], bits: int
+    model: ModelData, box: list[Interval], bits: int, params: list[Interval] | None = None
 ) -> tuple[list[Interval], list[list[Interval]]]:
-    """Enclosures of ``f`` and of ``df/dx`` over ``box`` (nominal parameter values)."""
+    """Enclosures of ``f`` and of ``df/dx`` over ``box`` (nominal parameter values, or the
+    uncertain parameters over the intervals ``params``)."""
     exprs = model_expressions(model)
     try:
-        duals = [evaluate(e, _inputs(box, model), bits) for e in exprs]
+        duals = [evaluate(e, _inputs(box, model, params), bits) for e in exprs]
     except Undefined as exc:
         raise Rejected("definedness", f"the field cannot be enclosed on the box: {exc}") from None
     return [d.v for d in duals], [list(d.d) for d in duals]
@@ -310,11 +316,17 @@ def _read_interval(data: Any, grid: int | None, where: str) -> Interval:
     return lo, hi
 
 
-def _conditions_on_box(model: ModelData, box: list[Interval]) -> None:
-    """Every condition where the field is defined holds on all of the box (interval bound)."""
+def _conditions_on_box(
+    model: ModelData, box: list[Interval], params: list[Interval] | None = None
+) -> None:
+    """Every condition where the field is defined holds on all of the box (interval bound);
+    the uncertain parameters at nominal, or over ``params``."""
+    if params is not None:
+        box = [*box, *params]
     n = len(box)
     values = [{tuple(int(i == j) for j in range(n)): Num.of(1)} for i in range(n)]
-    values += [poly_constant(Num.of(p.nominal or 0), n) for p in model.uncertain]
+    if params is None:
+        values += [poly_constant(Num.of(p.nominal or 0), n) for p in model.uncertain]
     for k, (g, strict) in enumerate(model.conditions):
         acc = point(Fraction(0))
         if len(model.variables) != len(values):  # no field variables: constant conditions
@@ -329,12 +341,19 @@ def _conditions_on_box(model: ModelData, box: list[Interval]) -> None:
         require(ok, "definedness", f"condition {k + 1} where the field is defined may fail in X")
 
 
-def _krawczyk(model: ModelData, box: list[Interval], y: list[list[Fraction]], bits: int) -> None:
-    """K(X) strictly inside X: exactly one zero of f in X (Krawczyk 1969, Moore 1977)."""
+def _krawczyk(
+    model: ModelData,
+    box: list[Interval],
+    y: list[list[Fraction]],
+    bits: int,
+    params: list[Interval] | None = None,
+) -> None:
+    """K(X) strictly inside X: exactly one zero of f in X (Krawczyk 1969, Moore 1977); with
+    ``params``, K(X, P) inside X gives exactly one zero in X for every p in P."""
     n = len(box)
     mid = [(lo + hi) / 2 for lo, hi in box]
-    fm, _ = jacobian_enclosure(model, [point(m) for m in mid], bits)
-    _, jx = jacobian_enclosure(model, box, bits)
+    fm, _ = jacobian_enclosure(model, [point(m) for m in mid], bits, params)
+    _, jx = jacobian_enclosure(model, box, bits, params)
     for i in range(n):
         k = point(mid[i])
         for j in range(n):
@@ -350,10 +369,29 @@ def _krawczyk(model: ModelData, box: list[Interval], y: list[list[Fraction]], bi
 def _enclosure_signs(model: ModelData, claim: ClaimData, checks: Checks) -> list[int]:
     ev, w = claim.evidence, f"{claim.where}.evidence"
     only_keys(ev, {"precision", "box", "preconditioner", "jacobian", "routh_signs"}, w)
-    n = len(model.states)
-    require(n <= MAX_STATES, "size", f"at most {MAX_STATES} states")
+    prec = read_precision(model, ev, w)
+    return piece_signs(model, claim, ev, prec, None, checks, w)
+
+
+def read_precision(model: ModelData, ev: dict[str, Any], w: str) -> int:
+    require(len(model.states) <= MAX_STATES, "size", f"at most {MAX_STATES} states")
     prec = get(ev, "precision", int, w)
     require(8 <= prec <= MAX_PRECISION, "precision", f"precision must be in 8..{MAX_PRECISION}")
+    return prec
+
+
+def piece_signs(
+    model: ModelData,
+    claim: ClaimData,
+    ev: dict[str, Any],
+    prec: int,
+    params: list[Interval] | None,
+    checks: Checks,
+    w: str,
+) -> list[int]:
+    """Check one enclosure (box, preconditioner, Jacobian, Routh signs) and return the
+    signs; the uncertain parameters at nominal, or over ``params``."""
+    n = len(model.states)
     bits = prec + GUARD
     x = _point_enclosure(claim, bits)
     raw_box = get(ev, "box", list, w)
@@ -368,12 +406,33 @@ def _enclosure_signs(model: ModelData, claim: ClaimData, checks: Checks) -> list
         f"expected {n} rows of {n} numbers",
     )
     y = [[read_number(v, 0, f"{w}.preconditioner").a for v in r] for r in raw_y]
-    _conditions_on_box(model, box)
-    _krawczyk(model, box, y, bits)
+    _conditions_on_box(model, box, params)
+    _krawczyk(model, box, y, bits, params)
+    if params is not None:  # one line for all the pieces, written by the range schema
+        _, jx = jacobian_enclosure(model, box, bits, params)
+        return _stated_signs(ev, prec, jx, n, w)
     checks.ok(
         "the field is defined on the box X and K(X) lies strictly inside X (Krawczyk): "
         "X holds exactly one equilibrium, and the claim's point lies in X"
     )
+    _, jx = jacobian_enclosure(model, box, bits)
+    signs = _stated_signs(ev, prec, jx, n, w)
+    checks.ok(
+        f"the stated Jacobian enclosure (bounds on the grid 2^-{prec}) contains the "
+        "audit's own interval enclosure of df/dx over X (Taylor series with remainder "
+        "bounds, rational arithmetic)"
+    )
+    checks.ok(
+        f"over the enclosure, det(sI - J) has Routh first-column signs {signs}, each "
+        "decided for every matrix in the enclosure (interval arithmetic)"
+    )
+    return signs
+
+
+def _stated_signs(
+    ev: dict[str, Any], prec: int, jx: list[list[Interval]], n: int, w: str
+) -> list[int]:
+    """The stated Jacobian enclosure contains ``jx``; its Routh signs are the stated ones."""
     raw_j = get(ev, "jacobian", list, w)
     require(
         len(raw_j) == n and all(isinstance(r, list) and len(r) == n for r in raw_j),
@@ -383,7 +442,6 @@ def _enclosure_signs(model: ModelData, claim: ClaimData, checks: Checks) -> list
     stated = [
         [_read_interval(v, prec, f"{w}.jacobian[{i}]") for v in r] for i, r in enumerate(raw_j)
     ]
-    _, jx = jacobian_enclosure(model, box, bits)
     for i in range(n):
         for j in range(n):
             (slo, shi), (lo, hi) = stated[i][j], jx[i][j]
@@ -393,11 +451,6 @@ def _enclosure_signs(model: ModelData, claim: ClaimData, checks: Checks) -> list
                 f"the stated enclosure of df{i + 1}/dx{j + 1} does not contain the audit's "
                 "own enclosure over the box",
             )
-    checks.ok(
-        f"the stated Jacobian enclosure (bounds on the grid 2^-{prec}) contains the "
-        "audit's own interval enclosure of df/dx over X (Taylor series with remainder "
-        "bounds, rational arithmetic)"
-    )
     signs = _interval_routh(_interval_char_poly(stated))
     require(
         signs == get(ev, "routh_signs", list, w),
@@ -405,10 +458,6 @@ def _enclosure_signs(model: ModelData, claim: ClaimData, checks: Checks) -> list
         f"the Routh first column over the enclosure has signs {signs}, not the stated ones",
     )
     require(0 not in signs, "routh", "a Routh first-column sign is not decided by the enclosure")
-    checks.ok(
-        f"over the enclosure, det(sI - J) has Routh first-column signs {signs}, each "
-        "decided for every matrix in the enclosure (interval arithmetic)"
-    )
     return signs
 
 
@@ -449,5 +498,6 @@ def enclosure_unstable(model: ModelData, claim: ClaimData, checks: Checks) -> No
     )
 
 
-# The region of attraction of rational fields registers its schema on import.
-from proofkit.audit import _rational_basin  # noqa: E402, F401
+# The region of attraction of rational fields and the enclosures over parameter ranges
+# register their schemas on import.
+from proofkit.audit import _ranges_enclosure, _rational_basin  # noqa: E402, F401

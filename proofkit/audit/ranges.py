@@ -334,7 +334,7 @@ def _grid_size(p: Q, nv: int) -> int:
     return size
 
 
-def _tiles(boxes: list[Box], full: Box) -> bool:
+def tiles(boxes: list[Box], full: Box) -> bool:
     """The closed boxes lie in ``full``, have disjoint interiors and full total volume."""
     axes = [i for i, (lo, hi) in enumerate(full) if hi > lo]
 
@@ -419,7 +419,7 @@ def _check_cover(
                     f"sub-box {k + 1}: a Bernstein coefficient has the wrong sign",
                 )
         boxes.append(box[: sys.m])
-    require(_tiles(boxes, full), "cover", "the sub-boxes do not tile the parameter box")
+    require(tiles(boxes, full), "cover", "the sub-boxes do not tile the parameter box")
     return len(boxes)
 
 

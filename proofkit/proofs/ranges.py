@@ -137,6 +137,11 @@ def attempt(
                 "the domain shown forward invariant, which is not certified yet",
             )
         return _by_lyapunov(model, claim, say, "")
+    from proofkit.proofs._ranges_enclosure import attempt_enclosure
+
+    by_enclosure = attempt_enclosure(model, claim, say)
+    if by_enclosure is not None:
+        return RangeAttempt(*by_enclosure)
     system = range_system(model, claim.target)
     if isinstance(system, str):
         result = _not_proved(model, claim, f"over the parameter ranges: {system}")

@@ -15,7 +15,7 @@ import sympy as sp
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from proofkit.audit.ranges import _tiles
+from proofkit.audit.ranges import tiles
 from proofkit.model import Param
 
 from .helpers import X, Y, build, certify, reaudit
@@ -80,10 +80,10 @@ def test_tiling_check() -> None:
     f = Fraction
     full = [(f(0), f(2)), (f(0), f(2))]
     quads = [[(f(a), f(a + 1)), (f(b), f(b + 1))] for a in (0, 1) for b in (0, 1)]
-    assert _tiles(quads, full)
-    assert not _tiles(quads[:3], full)
+    assert tiles(quads, full)
+    assert not tiles(quads[:3], full)
     # right total volume, but one box overlaps another and a gap remains
-    assert not _tiles([*quads[:3], [(f(1, 2), f(3, 2)), (f(1, 2), f(3, 2))]], full)
+    assert not tiles([*quads[:3], [(f(1, 2), f(3, 2)), (f(1, 2), f(3, 2))]], full)
 
 
 def test_two_parameter_oscillator() -> None:
