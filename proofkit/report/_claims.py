@@ -180,7 +180,7 @@ def _evidence_blocks(
         return nonpoly.rational_linearization_blocks(claim, model)
     if "jacobian" in ev and "routh" in ev:
         return linearization_blocks(claim, states)
-    if "squares" in ev:
+    if "squares" in ev and (claim.theorem in THEOREMS or claim.theorem is None):
         return sos_blocks(claim, model, appendix)
     if "cover" in ev:
         return range_blocks(claim)

@@ -60,7 +60,7 @@ def tree_sympy(tree: Any, symbols: Sequence[sp.Expr], atom: Any = None) -> sp.Ex
     """An expression tree of the certificate as an exact sympy expression (no text parsed).
 
     ``atom(op, argument_tree)``, when given, returns the replacement of a
-    ``sin``/``cos``/``exp`` node (the recast substitution) or None to keep it.
+    ``sin``/``cos``/``exp``/``tanh`` node (the recast substitution) or None to keep it.
     """
     if isinstance(tree, str):
         return _q(tree)
@@ -74,7 +74,7 @@ def tree_sympy(tree: Any, symbols: Sequence[sp.Expr], atom: Any = None) -> sp.Ex
         return sp.Add(*parts) if op == "+" else sp.Mul(*parts)
     if op == "^":
         return tree_sympy(tree[1], symbols, atom) ** int(tree[2])
-    if atom is not None and op in ("sin", "cos", "exp"):
+    if atom is not None and op in ("sin", "cos", "exp", "tanh"):
         found = atom(op, tree[1])
         if found is not None:
             return found

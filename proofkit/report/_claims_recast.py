@@ -54,25 +54,34 @@ class _System:
         self.rules: list[tuple[str, str]] = []  # (atom as written, substitution)
 
     def variable(self, k: int) -> tuple[sp.Symbol, sp.Symbol | None]:
-        """(S, C) of atom k when trigonometric, (E, None) when exponential."""
-        npairs = len(self.view.pairs)
-        if k < npairs:
-            return self.zs[2 * k], self.zs[2 * k + 1]
-        return self.zs[2 * npairs + k - npairs], None
+        """(S, C) of atom k when trigonometric, (E or T, None) otherwise."""
+        i = 0
+        for j, (kind, _d) in enumerate(self.view.atoms):
+            if j == k:
+                return (self.zs[i], self.zs[i + 1]) if kind == "trig" else (self.zs[i], None)
+            i += 2 if kind == "trig" else 1
+        raise IndexError(k)
+
+    def kind(self, k: int) -> tuple[str, int]:
+        """The atom's kind and its number among the atoms of that kind (1-based)."""
+        kinds = [kind for kind, _d in self.view.atoms]
+        return kinds[k], kinds[: k + 1].count(kinds[k])
 
     def atom(self, op: str, arg: Any) -> sp.Expr:
         a = sp.expand(tree_sympy(arg, self.at))
         q = a.coeff(sp.pi)
         delta = sp.expand(a - q * sp.pi)
-        pool = (
-            range(len(self.view.pairs))
-            if op != "exp"
-            else range(len(self.view.pairs), len(self.deltas))
+        want = {"exp": "exp", "tanh": "tanh"}.get(op, "trig")
+        k = next(
+            i
+            for i, d in enumerate(self.deltas)
+            if self.kind(i)[0] == want and sp.expand(d - delta) == 0
         )
-        k = next(i for i in pool if sp.expand(self.deltas[i] - delta) == 0)
         s, c = self.variable(k)
         if op == "exp":
             out = s + 1
+        elif op == "tanh":
+            out = s
         elif op == "sin":
             out = sp.sin(q * sp.pi) * (c + 1) + sp.cos(q * sp.pi) * s
         else:
@@ -85,7 +94,7 @@ class _System:
         written = f"\\{op}\\left({_latex(tree_sympy(arg, xs + self.at[len(xs) :]))}\\right)"
         s, c = self.variable(k)
         angle = sp.latex(q * sp.pi)
-        if op == "exp" or q == 0:
+        if op in ("exp", "tanh") or q == 0:
             middle = ""
         elif op == "sin":
             middle = f"\\sin({angle})\\,({_latex(c + 1)}) + \\cos({angle})\\,{_latex(s)} = "
@@ -104,9 +113,40 @@ class _System:
             s, c = self.variable(k)
             if c is not None:
                 out += [sp.expand((c + 1) * d), sp.expand(-s * d)]
+            elif self.kind(k)[0] == "tanh":
+                out.append(sp.expand((1 - s**2) * d))
             else:
                 out.append(sp.expand((s + 1) * d))
         return out
+
+    def constraints(
+        self, order: int
+    ) -> tuple[list[tuple[str, sp.Expr]], list[tuple[str, sp.Expr]]]:
+        """(equalities h = 0, inequalities g >= 0) with the audit's labels; delta_k symbolic."""
+        eqs, ineqs = [], []
+        for k in range(len(self.deltas)):
+            s, c = self.variable(k)
+            kind, num = self.kind(k)
+            dk = sp.Symbol(f"delta_{k + 1}", real=True)
+            if c is not None:
+                eqs.append((f"circle {num}", s**2 + c**2 + 2 * c))
+                bounds = []
+                for j in range(1, order + 1):
+                    bounds += [
+                        c + 1 - _series(dk, 2 * j, False),
+                        _series(dk, 2 * j + 1, False) - (c + 1),
+                        dk * s - dk * _series(dk, 2 * j, True),
+                        dk * _series(dk, 2 * j - 1, True) - dk * s,
+                    ]
+                ineqs += [(f"taylor {num}.{i + 1}", g) for i, g in enumerate(bounds)]
+            elif kind == "tanh":
+                bounds = [dk * s - s**2] + ([dk * s - dk**2 + dk**4 / 3] if order >= 1 else [])
+                ineqs += [(f"tanh {num}.{i + 1}", g) for i, g in enumerate(bounds)]
+            else:
+                for j in range(1, order + 1):
+                    g = s + 1 - sum(dk**i / sp.factorial(i) for i in range(2 * j))
+                    ineqs.append((f"exp {num}.{j}", g))
+        return eqs, ineqs
 
 
 def _latex(expr: sp.Expr) -> str:
@@ -152,14 +192,16 @@ def _variables_blocks(sys: _System) -> list[Block]:
         if c is not None:
             rows.append(((m(_latex(s)),), (m(f"\\sin {dk}"),), (m(arg),)))
             rows.append(((m(_latex(c)),), (m(f"\\cos {dk} - 1"),), (m(arg),)))
+        elif sys.kind(k)[0] == "tanh":
+            rows.append(((m(_latex(s)),), (m(f"\\tanh {dk}"),), (m(arg),)))
         else:
             rows.append(((m(_latex(s)),), (m(f"\\exp {dk} - 1"),), (m(arg),)))
     return [
         para(
             t(
-                "Recast variables. Each argument of sin, cos or exp, without its multiple of pi, "
-                "is a polynomial delta in the deviation y = x - x* (written with the state names) "
-                "that vanishes at the equilibrium; so does every new variable:"
+                "Recast variables. Each argument of sin, cos, exp or tanh, without its multiple "
+                "of pi, is a polynomial delta in the deviation y = x - x* (written with the "
+                "state names) that vanishes at the equilibrium; so does every new variable:"
             )
         ),
         Block("table", header=("variable", "stands for", "argument"), rows=tuple(rows)),
@@ -188,8 +230,10 @@ def _field_blocks(sys: _System, field: list[sp.Expr]) -> list[Block]:
             rules.append(
                 m(f"\\dot {sl} = ({cl} + 1)\\, {dd},\\; \\dot {cl} = -{sl}\\, {dd},\\; {dk}")
             )
+        elif sys.kind(k)[0] == "tanh":
+            rules.append(m(f"\\dot {sl} = (1 - {sl}^2)\\, {dd},\\; {dk}"))
         else:
-            rules.append(m(f"\\dot {_latex(s)} = ({_latex(s)} + 1)\\, D_{{{k + 1}}},\\; {dk}"))
+            rules.append(m(f"\\dot {sl} = ({sl} + 1)\\, {dd},\\; {dk}"))
     return [
         para(
             t(
@@ -211,28 +255,9 @@ def _series(delta: sp.Symbol, terms: int, odd: bool) -> sp.Expr:
 
 
 def _constraint_blocks(sys: _System, order: int) -> list[Block]:
-    eqs, ineqs = [], []
-    for k in range(len(sys.deltas)):
-        s, c = sys.variable(k)
-        dk = sp.Symbol(f"delta_{k + 1}", real=True)
-        if c is not None:
-            eqs.append(m(f"\\text{{circle {k + 1}}}:\\; {_latex(s**2 + c**2 + 2 * c)} = 0"))
-            for j in range(1, order + 1):
-                base = 4 * (j - 1)
-                bounds = (
-                    c + 1 - _series(dk, 2 * j, False),
-                    _series(dk, 2 * j + 1, False) - (c + 1),
-                    dk * s - dk * _series(dk, 2 * j, True),
-                    dk * _series(dk, 2 * j - 1, True) - dk * s,
-                )
-                ineqs += [
-                    m(f"\\text{{taylor {k + 1}.{base + i + 1}}}:\\; {_latex(g)} \\ge 0")
-                    for i, g in enumerate(bounds)
-                ]
-        else:
-            for j in range(1, order + 1):
-                g = s + 1 - sum(dk**i / sp.factorial(i) for i in range(2 * j))
-                ineqs.append(m(f"\\text{{exp {k + 1}.{j}}}:\\; {_latex(g)} \\ge 0"))
+    found = sys.constraints(order)
+    eqs = [m(f"\\text{{{h}}}:\\; {_latex(e)} = 0") for h, e in found[0]]
+    ineqs = [m(f"\\text{{{g}}}:\\; {_latex(e)} \\ge 0") for g, e in found[1]]
     out = []
     if eqs:
         out += [
@@ -253,13 +278,15 @@ def _constraint_blocks(sys: _System, order: int) -> list[Block]:
                     "negative term is a lower bound of cos, after a positive term an upper bound; "
                     "delta sin delta lies between delta times the sine series cut after a "
                     "negative and after a positive term; exp is at least its Taylor polynomial "
-                    "of odd degree (alternating series and Taylor's remainder):"
+                    "of odd degree (alternating series and Taylor's remainder); tanh delta has "
+                    "the sign of delta and |tanh delta| <= |delta| (tanh 1), and tanh delta >= "
+                    "delta - delta^3/3 for delta >= 0, as tanh is odd (tanh 2):"
                 )
             ),
             Block("items", items=tuple((g,) for g in ineqs)),
         ]
     else:
-        out.append(para(t("Taylor order 0: no Taylor inequalities are used.")))
+        out.append(para(t("Taylor order 0: no inequalities are used.")))
     return out
 
 

@@ -6,8 +6,9 @@
 This module re-describes, for a reader, the recast system the audit derives
 from them (Papachristodoulou and Prajna, 2005): which atom each recast
 variable stands for (``S = sin(delta)``, ``C = cos(delta) - 1``,
-``E = exp(delta) - 1``, in the audit's order: trigonometric pairs first, then
-exponentials, each in order of first appearance, depth first), the argument
+``E = exp(delta) - 1``, ``T = tanh(delta)``, in the audit's order:
+trigonometric pairs first, then exponentials, then tanh, each in order of
+first appearance, depth first), the argument
 ``delta`` of each as a polynomial in the deviation ``y = x - x*``, and the
 multiple of pi split off by angle addition. It also evaluates trees and
 recast variables with numpy, for drawing.
@@ -52,18 +53,25 @@ class RecastView:
     pairs: tuple[Poly, ...]  # delta of each trigonometric pair
     exps: tuple[Poly, ...]  # delta of each exponential atom
     occurrences: tuple[Occurrence, ...]
+    tanhs: tuple[Poly, ...] = ()  # delta of each tanh atom
 
     @property
     def atoms(self) -> tuple[tuple[str, Poly], ...]:
-        return tuple(("trig", p) for p in self.pairs) + tuple(("exp", p) for p in self.exps)
+        """(kind, delta) per atom: ``trig`` pairs, then ``exp``, then ``tanh``."""
+        return (
+            tuple(("trig", p) for p in self.pairs)
+            + tuple(("exp", p) for p in self.exps)
+            + tuple(("tanh", p) for p in self.tanhs)
+        )
 
     @property
     def names(self) -> tuple[str, ...]:
-        """``S1, C1, S2, C2, ..., E1, ...`` (the recast variables after the states)."""
+        """``S1, C1, S2, C2, ..., E1, ..., T1, ...`` (the recast variables after the states)."""
         out: list[str] = []
         for k in range(len(self.pairs)):
             out += [f"S{k + 1}", f"C{k + 1}"]
-        return tuple(out + [f"E{k + 1}" for k in range(len(self.exps))])
+        out += [f"E{k + 1}" for k in range(len(self.exps))]
+        return tuple(out + [f"T{k + 1}" for k in range(len(self.tanhs))])
 
 
 # --- polynomials over the deviation, exact ------------------------------------------
@@ -94,6 +102,7 @@ class _Walk:
         self.n, self.point, self.nominal = n, list(point), list(nominal)
         self.pairs: list[Poly] = []
         self.exps: list[Poly] = []
+        self.tanhs: list[Poly] = []
         self.occurrences: list[Occurrence] = []
         self.nodes = 0
 
@@ -127,7 +136,7 @@ class _Walk:
             for _ in range(int(e[2])):
                 acc = _mul(acc, base)
             return acc
-        if op in ("sin", "cos", "exp"):
+        if op in ("sin", "cos", "exp", "tanh"):
             self._atom(op, e[1])
             return None
         if op == "sqrt" and isinstance(e[1], str):
@@ -170,7 +179,7 @@ class _Walk:
         delta, q = self.angle(arg)
         if delta.get(tuple([0] * self.n)):
             raise NotRecast("an argument that does not vanish at the point")
-        table = self.exps if op == "exp" else self.pairs
+        table = {"exp": self.exps, "tanh": self.tanhs}.get(op, self.pairs)
         if delta not in table:
             table.append(delta)
         self.occurrences.append(Occurrence(op, table.index(delta), q))
@@ -194,13 +203,11 @@ def recast_view(
             walk.poly(e)
     except (NotRecast, ValueError, TypeError, IndexError, ZeroDivisionError):
         return None
-    occ = tuple(
-        Occurrence(o.op, o.atom + (len(walk.pairs) if o.op == "exp" else 0), o.q)
-        for o in walk.occurrences
-    )
-    if not walk.pairs and not walk.exps:
+    offset = {"exp": len(walk.pairs), "tanh": len(walk.pairs) + len(walk.exps)}
+    occ = tuple(Occurrence(o.op, o.atom + offset.get(o.op, 0), o.q) for o in walk.occurrences)
+    if not walk.pairs and not walk.exps and not walk.tanhs:
         return None
-    return RecastView(n, tuple(walk.pairs), tuple(walk.exps), occ)
+    return RecastView(n, tuple(walk.pairs), tuple(walk.exps), occ, tuple(walk.tanhs))
 
 
 # --- numpy evaluation (drawing only) ---------------------------------------------------
@@ -254,7 +261,7 @@ def _poly_value(p: Poly, ys: Sequence[Any]) -> Any:
 
 
 def recast_values(view: RecastView, ys: Sequence[Any]) -> list[Any]:
-    """The recast variables (``S, C`` per pair, then ``E``) at the deviations ``ys``."""
+    """The recast variables (``S, C`` per pair, then ``E``, then ``T``) at the deviations."""
     import numpy as np
 
     out: list[Any] = []
@@ -264,4 +271,6 @@ def recast_values(view: RecastView, ys: Sequence[Any]) -> list[Any]:
             out += [np.sin(v), np.cos(v) - 1.0]
         for delta in view.exps:
             out.append(np.expm1(_poly_value(delta, ys)))
+        for delta in view.tanhs:
+            out.append(np.tanh(_poly_value(delta, ys)))
     return out

@@ -1,0 +1,246 @@
+"""Proof documents of the non-polynomial steps: what a reviewer reads, and that it is true.
+
+The recast section must describe exactly the system the audit derives (its
+variables, substitutions, derivative rules, circle equalities and Taylor
+inequalities): it is compared with the audit's own derivation and with numpy.
+The rational-field section must state Q and G = f Q correctly (checked against
+the model's formula in numpy); the enclosure section shows the box, the
+Krawczyk condition and Routh data containing the true values; a method no
+section knows gets an honest listing. Check values carry their source.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from fractions import Fraction
+from pathlib import Path
+from types import SimpleNamespace
+
+import numpy as np
+import pytest
+import sympy as sp
+
+import proofkit
+from proofkit.audit import audit_text
+from proofkit.certificate import model_section, read
+from proofkit.proofs import prove_model
+from proofkit.report import DocumentMeta, render_latex, render_markdown
+
+ROOT = Path(__file__).resolve().parents[2]
+
+# invented: a field with every recast atom kind; f(0) = -sin(pi/6) + 1/2 = 0
+MIXED = """system mixed
+state x, y
+dx/dt = y
+dy/dt = -sin(x + pi/6) + 1/2 - y*exp(x - y) + y*cos(x) - tanh(x + y)
+equilibrium o at x = 0, y = 0
+"""
+
+# the chemostat of tests/nonpoly (Monod uptake s/(1 + s), D = 1/2, feed 4), with a basin claim
+CHEMOSTAT = """system chemostat
+parameter D = 1/2
+parameter ks = 1
+parameter s0 = 4
+state s, b
+let growth = s/(ks + s)
+ds/dt = D*(s0 - s) - growth*b
+db/dt = growth*b - D*b
+equilibrium coexist at s = 1, b = 3
+domain s >= 0 and b >= 0 and s <= 10 and b <= 10
+claim coexist attracts (s - 1)^2 + (b - 3)^2 <= 1/4
+"""
+
+
+def _meta() -> DocumentMeta:
+    return DocumentMeta(command="proofkit prove m.pk", certificate_sha256="0" * 64, version="t")
+
+
+@pytest.fixture(scope="module")
+def swing() -> tuple[dict, str]:
+    text = (ROOT / "worked" / "swing_machine.certificate.json").read_text(encoding="utf-8")
+    cert = json.loads(text)
+    return cert, render_markdown(cert, audit_text(text, 300), _meta())
+
+
+def test_recast_document_names_every_step(swing) -> None:
+    _cert, md = swing
+    part = md[md.index("## Claim 2") :]
+    for shown in (
+        "| $S_{1}$ | $\\sin \\delta_{1}$ | $\\delta_{1} = d$ |",
+        "| $C_{1}$ | $\\cos \\delta_{1} - 1$ | $\\delta_{1} = d$ |",
+        "\\sin\\left(d + \\frac{\\pi}{3}\\right) = \\sin(\\frac{\\pi}{3})",  # angle addition
+        "\\dot S_{1} = (C_{1} + 1)\\, D_{1}",  # derivative rules
+        "\\text{circle 1}:\\; C_{1}^{2} + 2 C_{1} + S_{1}^{2} = 0",
+        "\\text{taylor 1.4}",
+        "\\sqrt{3} \\in [",  # the enclosure, and why both ends suffice
+        "checking both ends suffices",
+        "| decrease lo |",
+        "| decrease hi |",
+        "W(x) = V(x - x*, recast(x))",
+    ):
+        assert shown in part, shown
+    assert "u_{1}" not in md and "u1" not in md  # no anonymous variables any more
+    assert len(md) < 1_000_000  # long LDL' squares are described, not printed
+
+
+def _system(cert: dict, order: int):
+    from proofkit.report._claims_recast import _System
+    from proofkit.report._trees import recast_view
+
+    comps = cert["model"]["expressions"]["components"]
+    states = list(cert["model"]["states"])
+    view = recast_view(comps, len(states), ["0"] * len(states))
+    sys = _System(view, states, ["0"] * len(states), [])
+    return sys, sys.field(comps), sys.constraints(order)
+
+
+def test_recast_description_is_the_audits_derivation() -> None:
+    from proofkit.audit._recast_field import derive
+    from proofkit.audit.enclosures import read_expressions
+    from proofkit.audit.numbers import Num
+
+    model = proofkit.parse(MIXED, "mixed.pk")
+    cert = {"model": model_section(model)}
+    exprs = read_expressions(cert["model"]["expressions"], ["x", "y"], [])
+    for order in (1, 2):
+        audit = derive(
+            exprs, [Num.of(0)] * 2, [], {"taylor_order": order, "enclosure": ["1", "2"]}, "e"
+        )
+        sys, field, (eqs, ineqs) = _system(cert, order)
+        assert tuple(sys.names[2:]) == audit.names[2:] == ("S1", "C1", "E1", "T1")
+        assert [h for h, _e in eqs] == [h for h, _p in audit.equalities]
+        assert [g for g, _e in ineqs] == [g for g, _p in audit.inequalities]
+        syms = sys.ys + sys.zs
+        deltas = {sp.Symbol(f"delta_{k + 1}", real=True): d for k, d in enumerate(sys.deltas)}
+        ours = [*field, *(e.subs(deltas) for _h, e in eqs), *(e.subs(deltas) for _g, e in ineqs)]
+        theirs = [
+            *audit.field,
+            *(p for _h, p in audit.equalities),
+            *(p for _g, p in audit.inequalities),
+        ]
+        for mine, poly in zip(ours, theirs, strict=True):
+            assert _as_pairs(mine, syms) == {e: (c.a, c.b) for e, c in poly.items()}
+
+
+def _as_pairs(expr: sp.Expr, syms: list[sp.Symbol]) -> dict:
+    out = {}
+    for exps, c in sp.Poly(sp.expand(expr), *syms).terms():
+        b = sp.expand(c).coeff(sp.sqrt(3))
+        a = sp.expand(c - b * sp.sqrt(3))
+        out[tuple(exps)] = (Fraction(str(a)), Fraction(str(b)))
+    return out
+
+
+def test_recast_field_and_bounds_agree_with_numpy() -> None:
+    model = proofkit.parse(MIXED, "mixed.pk")
+    sys, field, (_eqs, ineqs) = _system({"model": model_section(model)}, 2)
+    rng = np.random.default_rng(5)
+    syms = sys.ys + sys.zs
+    fns = [sp.lambdify(syms, f, "numpy") for f in field]
+    for x, y in rng.uniform(-2.5, 2.5, size=(20, 2)):
+        # computed (numpy): the model's formula, the recast variables at (x, y), chain rule
+        z = [x, y, math.sin(x), math.cos(x) - 1, math.exp(x - y) - 1, math.tanh(x + y)]
+        f2 = -math.sin(x + math.pi / 6) + 0.5 - y * math.exp(x - y) + y * math.cos(x)
+        f2 -= math.tanh(x + y)
+        dx, dy = y, f2
+        expected = [dx, dy, math.cos(x) * dx, -math.sin(x) * dx]
+        expected += [math.exp(x - y) * (dx - dy), (1 - math.tanh(x + y) ** 2) * (dx + dy)]
+        assert [fn(*z) for fn in fns] == pytest.approx(expected, abs=1e-9)
+    # computed (numpy): every stated inequality holds for every real argument
+    d = np.linspace(-25.0, 25.0, 20001)
+    for label, g in ineqs:
+        (delta,) = [s for s in g.free_symbols if s.name.startswith("delta")]
+        k = int(delta.name.split("_")[1]) - 1
+        kind = sys.kind(k)[0]
+        s, c = sys.variable(k)
+        subs = {s: np.sin(d) if kind == "trig" else np.expm1(d) if kind == "exp" else np.tanh(d)}
+        if c is not None:
+            subs[c] = np.cos(d) - 1
+        fn = sp.lambdify([delta, *subs], g, "numpy")
+        with np.errstate(over="ignore", invalid="ignore"):
+            vals = np.asarray(fn(d, *subs.values()), dtype=float)
+        ok = np.isfinite(vals)
+        assert np.all(vals[ok] >= -1e-9 * (1 + np.abs(d[ok]) ** 8)), label
+
+
+def test_enclosure_document_shows_box_krawczyk_and_routh(swing) -> None:
+    _cert, md = swing
+    part = md[md.index("## Claim 1") : md.index("## Claim 2")]
+    assert "| state | box X |" in part and "K(X) = m - Y f(m) + (I - Y J(X))(X - m)" in part
+    assert "\\partial f_{2} / \\partial d" in part and "[+, +, +]" in part
+    # computed by hand: J(0) = [[0, 1], [-cos(pi/3), -1/2]], so -(J11 + J22) = 1/2 and
+    # J11 J22 - J12 J21 = cos(pi/3) = 1/2; the shown intervals must contain them
+    lo, hi = _last_two_intervals(part)
+    assert lo[0] <= Fraction(1, 2) <= lo[1] and hi[0] <= Fraction(1, 2) <= hi[1]
+
+
+def _last_two_intervals(text: str) -> list[tuple[Fraction, Fraction]]:
+    import re
+
+    line = next(ln for ln in text.splitlines() if ln.startswith("For two states"))
+    found = re.findall(r"\$\[(.*?)\] \\approx", line)
+    return [tuple(_tex_fraction(x) for x in f.split(", ")) for f in found[-2:]]
+
+
+def _tex_fraction(tex: str) -> Fraction:
+    import re
+
+    m = re.fullmatch(r"(-?)\\frac\{(\d+)\}\{(\d+)\}", tex.strip())
+    if m:
+        return Fraction(int(m.group(2)), int(m.group(3))) * (-1 if m.group(1) else 1)
+    return Fraction(tex.strip())
+
+
+@pytest.fixture(scope="module")
+def chemostat():
+    run = prove_model(proofkit.parse(CHEMOSTAT, "chemostat.pk"))
+    assert run.outcomes[0].status == "proved" and run.outcomes[0].method == "sublevel-set-rational"
+    return run
+
+
+def test_rational_basin_document_states_q_g_and_the_positivity(chemostat) -> None:
+    md = render_markdown(chemostat.certificate, chemostat.audit, _meta())
+    part = md[md.index("## Claim 1") :]
+    assert "Q = 2 s + 2" in part  # 2 (ks + s) with ks = 1, computed by hand from the model
+    assert "reparametrised" in part and "d\\tau = dt / Q(x(t))" in part
+    assert "Q(x^* + y) - \\varepsilon_Q - t\\,(\\mathrm{level} - V)" in part
+    assert "\\dot V = \\nabla V \\cdot G(x^* + y)" in part
+    assert "\\frac{-s^{2} - 2 s b + 3 s + 4}{2 s + 2}" in md  # the field as N/D
+    tex = render_latex(chemostat.certificate, chemostat.audit, _meta())
+    assert "Q = 2 s + 2" in tex
+
+
+def test_rational_g_is_f_times_q_in_numpy(chemostat) -> None:
+    from proofkit.report._claims_nonpoly import _q_and_g
+
+    view = read(chemostat.certificate)
+    xs, q, g = _q_and_g(view.model, ["1", "3"])
+    rng = np.random.default_rng(3)
+    for s, b in rng.uniform(0.1, 9.0, size=(12, 2)):
+        # computed (numpy): the model's formula with D = 1/2, ks = 1, s0 = 4
+        f = (0.5 * (4 - s) - s / (1 + s) * b, s / (1 + s) * b - 0.5 * b)
+        qv = float(q.subs({xs[0]: s, xs[1]: b}))
+        assert qv > 0
+        got = [float(gi.subs({xs[0]: s, xs[1]: b})) for gi in g]
+        assert got == pytest.approx([qv * fi for fi in f], rel=1e-12)
+
+
+def test_an_unknown_method_is_listed_honestly() -> None:
+    from proofkit.report._claims import claim_blocks
+    from proofkit.report.writers import to_markdown
+
+    entry = {
+        "claim": {"kind": "stable", "equilibrium": {"name": "o", "point": ["0", "0"]},
+                  "set": None, "scope": "nominal"},
+        "statement": "o stable", "status": "proved", "method": "mystery-method",
+        "theorem": "mystery-theorem",
+        "evidence": {"V": [[[2, 0], "1"]], "parts": {"squares": {"inner": {}}},
+                     "squares": {"positive": {"basis": [[1, 0]], "gram": [["1"]]}}},
+    }  # fmt: skip
+    view = read({"proofkit_certificate": 2, "model": None, "claims": [entry]})
+    verdict = SimpleNamespace(status="proved", checked=("the audit's hypothesis",))
+    md = to_markdown(claim_blocks(view.claims[0], verdict, None, []))
+    assert "Method mystery-method, theorem mystery-theorem" in md
+    assert "no line-by-line section" in md and "parts: inner, positive" in md
+    assert "- [x] the audit's hypothesis" in md
