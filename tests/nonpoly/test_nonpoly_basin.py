@@ -4,12 +4,16 @@ from __future__ import annotations
 
 import copy
 import json
+from fractions import Fraction
+from pathlib import Path
 
+import numpy as np
 import pytest
 
 import proofkit
 from proofkit.audit import audit_certificate
 from proofkit.errors import InputError
+from proofkit.proofs import prove_model
 
 from .conftest import CULTURE, full_audit_ok, prove_text
 
@@ -68,3 +72,50 @@ def test_condition_other_than_a_denominator_rejected(basin_run) -> None:
     cert["model"]["conditions"].append({"g": [[[1, 0], "1"]], "strict": False})  # s >= 0
     verdict = audit_certificate(cert).claims[0]
     assert verdict.status == "rejected" and verdict.failed_step == "definedness"
+
+
+WORKED_CULTURE = Path(__file__).resolve().parents[2] / "worked" / "culture_uptake.pk"
+
+
+@pytest.fixture(scope="module")
+def worked_culture_run():
+    return prove_model(proofkit.load(WORKED_CULTURE))
+
+
+def test_worked_culture_basin_claim_proved_and_audited(worked_culture_run) -> None:
+    outcome = next(o for o in worked_culture_run.outcomes if "attracts" in o.claim)
+    assert outcome.status == "proved", outcome.detail
+    assert outcome.method == "sublevel-set-rational"
+    assert outcome.seconds < 30  # was "not proved" after 1 min 43 s
+    assert full_audit_ok(worked_culture_run.text)
+
+
+def test_worked_culture_set_lies_in_the_box_and_holds_the_disc(worked_culture_run) -> None:
+    cert = json.loads(worked_culture_run.text)
+    entry = next(c for c in cert["claims"] if c.get("method") == "sublevel-set-rational")
+    inner = entry["evidence"]["reparametrized"]
+    v = {tuple(e): float(Fraction(c)) for e, c in inner["V"]}
+    level = float(Fraction(inner["numbers"]["level"]))
+
+    def values(pts: np.ndarray) -> np.ndarray:
+        y = pts - np.array([1.0, 2.0])  # the equilibrium steady (worked file)
+        return sum(c * y[:, 0] ** e[0] * y[:, 1] ** e[1] for e, c in v.items())
+
+    t = np.linspace(0.1, 6, 300)  # the box 1/10 <= s, x <= 6 of the worked file
+    lo, hi = np.full_like(t, 0.1), np.full_like(t, 6.0)
+    faces = np.vstack([np.column_stack(p) for p in ((lo, t), (hi, t), (t, lo), (t, hi))])
+    assert (values(faces) > level).all()
+    th = np.linspace(0, 2 * np.pi, 360)
+    disc = np.column_stack([1 + 0.5 * np.cos(th), 2 + 0.5 * np.sin(th)])
+    assert (values(disc) <= level).all()
+
+
+def test_rational_reason_is_the_rational_provers() -> None:
+    # the disc of radius 1 reaches s = 0 < 1/10: outside the domain (worked file's box)
+    text = WORKED_CULTURE.read_text().replace("<= 1/4", "<= 1")
+    run = prove_text(text, "culture_wide.pk")
+    outcome = next(o for o in run.outcomes if "attracts" in o.claim)
+    assert outcome.status == "not proved"
+    assert outcome.detail.startswith("on the field multiplied by its denominators")
+    assert "leaves the domain" in outcome.detail
+    assert "not polynomial" not in outcome.detail
