@@ -28,6 +28,7 @@ from typing import Any
 import flint
 import sympy as sp
 
+from proofkit.analysis._parametric_cover import simplest_between
 from proofkit.analysis.enclosure import _ball, _bounds, _centre, _routh_signs, expression_json
 from proofkit.analysis.intervals import int_power
 
@@ -46,6 +47,7 @@ class RangeEnclosure:
     pieces: tuple[dict[str, Any], ...] = ()
     reason: str = ""
     where: Box | None = None  # a parameter piece that could not be decided
+    witness: dict[str, Any] | None = None  # a piece at one value where the claim fails
 
     def evidence(self) -> dict[str, Any]:
         return {"precision": PRECISION, "pieces": list(self.pieces)}
@@ -164,6 +166,10 @@ def _piece(trees: list[Any], centre: list[Fraction], params: Box, kind: str) -> 
     return "the Krawczyk test fails on the piece (the parameters move the Jacobian too much)"
 
 
+def _other(kind: str) -> str:
+    return "unstable" if kind == "stable" else "stable"
+
+
 def _inverse_mid(jac: list[list[tuple[Fraction, Fraction]]]) -> list[list[Fraction]] | None:
     mids = sp.Matrix([[sp.Rational((lo + hi) / 2) for lo, hi in row] for row in jac])
     if mids.det() == 0:
@@ -216,7 +222,13 @@ def range_enclosure(
                 pieces.append(found)
                 continue
             if "stable on the piece" in found:  # decided against the claim on all of p
-                return RangeEnclosure(reason=found, where=p)
+                value = tuple(simplest_between(lo, hi) for lo, hi in p)
+                witness = _piece(trees, centre, tuple((v, v) for v in value), _other(kind))
+                return RangeEnclosure(
+                    reason=found,
+                    where=p,
+                    witness=witness if isinstance(witness, dict) else None,
+                )
             j = max(range(len(p)), key=lambda i: (p[i][1] - p[i][0]) / (widths[i] or 1))
             if p[j][1] - p[j][0] <= widths[j] / 2**12:
                 return RangeEnclosure(reason=found, where=p)

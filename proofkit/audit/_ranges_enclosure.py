@@ -40,7 +40,14 @@ from proofkit.audit.ranges import tiles
 from proofkit.audit.read import get, only_keys, read_vector
 from proofkit.audit.schemas import Checks, ClaimData, ModelData, require, schema
 
-__all__ = ["MAX_PIECES", "METHOD", "range_enclosure_stable", "range_enclosure_unstable"]
+__all__ = [
+    "MAX_PIECES",
+    "METHOD",
+    "range_enclosure_refute_stable",
+    "range_enclosure_refute_unstable",
+    "range_enclosure_stable",
+    "range_enclosure_unstable",
+]
 
 METHOD = "range-enclosure"
 MAX_PIECES = 256
@@ -59,8 +66,11 @@ def _read_parameters(data: Any, box: list[Interval], where: str) -> list[Interva
     return out
 
 
-def _pieces(model: ModelData, claim: ClaimData, checks: Checks) -> list[list[int]]:
-    """Check every piece; the Routh signs of each, in order."""
+def _pieces(
+    model: ModelData, claim: ClaimData, checks: Checks, tiling: bool = True
+) -> list[list[int]]:
+    """Check every piece; the Routh signs of each, in order. ``tiling``: the pieces must
+    tile the parameter box; otherwise (a refutation) one piece at one parameter value."""
     ev, w = claim.evidence, f"{claim.where}.evidence"
     only_keys(ev, {"precision", "pieces"}, w)
     require(claim.moving is None, "equilibrium", "the point must not move with the parameters")
@@ -77,6 +87,18 @@ def _pieces(model: ModelData, claim: ClaimData, checks: Checks) -> list[list[int
         sub = _read_parameters(get(piece, "parameters", list, pw), box, f"{pw}.parameters")
         signs.append(piece_signs(model, claim, piece, prec, sub, checks, pw))
         subs.append(sub)
+    if not tiling:
+        one = len(subs) == 1 and all(lo == hi for lo, hi in subs[0])
+        require(one, "value", "a refutation states one piece at one parameter value")
+        at = ", ".join(
+            f"{p.name} = {v}" for p, (v, _) in zip(model.uncertain, subs[0], strict=True)
+        )
+        checks.ok(
+            f"at {at} (inside the ranges) the field is defined on X, K(X) lies strictly inside "
+            "X (one equilibrium in X, the claim's point lies in X), the stated Jacobian "
+            "enclosure contains the audit's own and its Routh signs are decided"
+        )
+        return signs
     require(tiles(subs, box), "cover", "the pieces do not tile the parameter box")
     names = ", ".join(
         f"{p.name} in [{lo}, {hi}]" for p, (lo, hi) in zip(model.uncertain, box, strict=True)
@@ -112,4 +134,39 @@ def range_enclosure_unstable(model: ModelData, claim: ClaimData, checks: Checks)
     checks.ok(
         "every piece has a sign change in the first column: for every parameter value the "
         "equilibrium has an eigenvalue with positive real part"
+    )
+
+
+@schema(
+    "stable",
+    METHOD,
+    "indirect-method-instability-at-a-value-by-enclosure",
+    scopes=("range",),
+    refutes=True,
+)
+def range_enclosure_refute_stable(model: ModelData, claim: ClaimData, checks: Checks) -> None:
+    """At one parameter value an eigenvalue has positive real part: not stable for all."""
+    (signs,) = _pieces(model, claim, checks, tiling=False)
+    changes = sum(1 for a, b in itertools.pairwise(signs) if a != b)
+    require(changes >= 1, "theorem", "no sign change: no root in the right half plane shown")
+    checks.ok(
+        f"{changes} eigenvalue(s) with positive real part there: the equilibrium is unstable "
+        "at that value, so not stable for every value"
+    )
+
+
+@schema(
+    "unstable",
+    METHOD,
+    "indirect-method-stability-at-a-value-by-enclosure",
+    scopes=("range",),
+    refutes=True,
+)
+def range_enclosure_refute_unstable(model: ModelData, claim: ClaimData, checks: Checks) -> None:
+    """At one parameter value every eigenvalue has negative real part."""
+    (signs,) = _pieces(model, claim, checks, tiling=False)
+    require(all(s > 0 for s in signs), "theorem", "a first-column sign is not positive")
+    checks.ok(
+        "every first-column sign is positive there: the equilibrium is stable at that value, "
+        "so not unstable for every value"
     )

@@ -27,6 +27,34 @@ THEOREM = {
     "stable": "range-indirect-method-stability-by-enclosure",
     "unstable": "range-indirect-method-instability-by-enclosure",
 }
+REFUTING = {
+    "stable": "indirect-method-instability-at-a-value-by-enclosure",
+    "unstable": "indirect-method-stability-at-a-value-by-enclosure",
+}
+
+
+def _refuted(
+    model: Model, claim: Claim, uncertain: list[Any], piece: dict[str, Any]
+) -> tuple[dict[str, Any], str]:
+    """A refutation at the one parameter value of ``piece``."""
+    from proofkit.analysis._enclosure_ranges import PRECISION
+
+    at = ", ".join(
+        f"{p.name} = {lo}" for p, (lo, _hi) in zip(uncertain, piece["parameters"], strict=True)
+    )
+    evidence = {"precision": PRECISION, "pieces": [piece]}
+    entry = claim_entry(
+        model, claim, "refuted", method=METHOD, theorem=REFUTING[claim.kind], evidence=evidence
+    )
+    what = (
+        "an eigenvalue with positive real part"
+        if claim.kind == "stable"
+        else "every eigenvalue in the left half plane"
+    )
+    return (
+        entry,
+        f"it breaks at {at}: the linearization has {what} there",
+    )
 
 
 def _point(model: Model, claim: Claim) -> list[Any] | None:
@@ -64,6 +92,8 @@ def attempt_enclosure(
     found = range_enclosure(
         field, model.state_symbols, [p.symbol for p in uncertain], point, pbox, claim.kind
     )
+    if not found.pieces and found.witness is not None:
+        return _refuted(model, claim, uncertain, found.witness)
     if not found.pieces:
         where = ", ".join(
             f"{p.name} in [{lo}, {hi}]"

@@ -48,13 +48,19 @@ def test_swing_stable_and_saddle_unstable_for_every_damping() -> None:
         assert max(_eigen(c, -0.5).real) > 0
 
 
-def test_negative_damping_in_the_range_is_never_proved_stable() -> None:
-    # computed (numpy): with damping -1/4 the operating point has eigenvalues with real
-    # part +1/8, so "stable for every damping in [-1/2, 1]" is false.
-    assert max(_eigen(-0.25, 0.5).real) > 0
+def test_negative_damping_in_the_range_is_refuted_at_a_value() -> None:
+    # computed (numpy): with damping -1/2 the operating point has eigenvalues with real
+    # part +1/4, so "stable for every damping in [-1/2, 1]" is false.
+    assert max(_eigen(-0.5, 0.5).real) > 0
     run = _run("-1/2", "1")
-    assert run.outcomes[0].status != "proved"
-    assert "damping" in run.outcomes[0].detail
+    outcome = run.outcomes[0]
+    assert outcome.status == "refuted" and "damping = -1/2" in outcome.detail
+    assert run.audit.claims[0].status == "refuted"
+    # the same evidence moved to a value outside the ranges is rejected
+    moved = _tampered(
+        run.text, lambda ev: ev["pieces"][0].__setitem__("parameters", [["-1", "-1"]])
+    )
+    assert audit_text(moved).claims[0].status == "rejected"
 
 
 def _tampered(text: str, change) -> str:
