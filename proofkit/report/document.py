@@ -142,7 +142,17 @@ def _closing(meta: DocumentMeta, model: ModelView | None, appendix: list[Block])
     out: list[Block] = []
     if meta.figure:
         out.append(Block("heading", "Phase portrait", 2))
-        out.append(para(t("Illustration only (floating-point streamlines); not evidence.")))
+        out.append(
+            para(
+                t(
+                    "Illustration only (floating-point streamlines and trajectories); not "
+                    "evidence. Shaded: the certified sets of the claims the audit accepted, "
+                    "drawn by evaluating the certified function in floating point (for a "
+                    "recast proof W(x) = V(x - x*, recast(x))); dashed: the claims' sets; "
+                    "dotted: the domain."
+                )
+            )
+        )
         out.append(Block("figure", meta.figure))
     out.append(Block("heading", "Cautions", 2))
     out.append(Block("items", items=tuple((t(c),) for c in CAUTIONS)))
