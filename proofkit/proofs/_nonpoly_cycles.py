@@ -198,11 +198,14 @@ def _with_sign(
         say(f"no cycle: Q = {q} > 0 on the set")
         den = _denominator(q, pl, [g for g, _s in pl.conditions], 0)
         if den is None:
-            return f"the denominator product Q = {q} could not be shown positive on the set"
+            return (
+                f"the denominator product Q = {q} could not be shown positive on the set "
+                "(a pole on or near it?)"
+            )
     inner = cycles.attempt(g_model, claim, say)
     if inner is None or inner.entry["status"] != "proved":
         why = inner.detail if inner is not None else "no cycle method applies"
-        return f"on the field multiplied by its denominators (Q = {q}): {why}"
+        return f"on G = f Q with Q = {q} (the same orbits; times and periods are G's): {why}"
     ev = inner.entry["evidence"]
     if den is None:
         xs = pl.xs
@@ -218,4 +221,6 @@ def _with_sign(
     entry = claim_entry(
         model, claim, "proved", method=method, theorem=THEOREMS[method], evidence=evidence
     )
-    return ProofAttempt(entry, f"{inner.detail}, for f Q with Q = {q} > 0 there", inner.trace)
+    said = inner.detail.replace("div(B f)", "div(B G)").replace("period ", "G's period ")
+    detail = f"on G = f Q with Q = {q} > 0 there: {said}"
+    return ProofAttempt(entry, detail, inner.trace)
