@@ -1,6 +1,6 @@
 """Benchmark: certified region of attraction of the damped swing equation, by recasting.
 
-    python tests/perf/bench_swing.py [--degree 4] [--order 1] [--rounds 3] [--grid 101]
+    python tests/perf/bench_swing.py [--degree 4] [--order 2] [--rounds 12] [--grid 101]
 
 Model: ``dx1/dt = x2, dx2/dt = -x2/2 - (sin(x1 + pi/3) - sin(pi/3))`` (the
 target of the non-polynomial issue). The box is ours:
@@ -34,8 +34,7 @@ import numpy as np
 import proofkit
 from proofkit.audit import audit_certificate
 from proofkit.certificate import claim_entry, model_section, new_certificate
-from proofkit.proofs._recast_search import hint_step, shape_step
-from proofkit.proofs.recast import _initial_s0, _problem, region_search
+from proofkit.proofs.recast import region_search
 
 SOURCE = """system swing_benchmark
 state x1, x2
@@ -45,6 +44,7 @@ equilibrium E at x1 = 0, x2 = 0
 claim E attracts x1^2 + x2^2 <= 1/100
 """
 BOX = (-2.0, 3.0, -3.0, 1.5)
+ROUNDS = 12
 
 
 def _rhs(a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -96,8 +96,9 @@ def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawTextHelpFormatter)
     ap.add_argument("--degree", type=int, default=4)
     ap.add_argument("--order", type=int, default=2)
-    ap.add_argument("--rounds", type=int, default=9)
+    ap.add_argument("--rounds", type=int, default=ROUNDS)
     ap.add_argument("--grid", type=int, default=101)
+    ap.add_argument("--quiet", action="store_true", help="no progress on stderr")
     args = ap.parse_args()
     t0 = time.perf_counter()
     pts, inside = true_region(args.grid)
@@ -108,23 +109,15 @@ def main() -> int:
     claim = model.claims[0]
     target = pts[inside][:: max(1, int(inside.sum()) // 400)]
     t1 = time.perf_counter()
-    res = region_search(model, claim, target, degree=args.degree, order=args.order)
-    best = res
-    prob = _problem(model, claim, args.order)
-    for _ in range(args.rounds - 1):
-        if best.evidence is None or isinstance(prob, str):
-            break
-        data = prob.search_data(True, 1.0)
-        hint = hint_step(data, best.v, args.degree, float(eval_level(best)))
-        if hint is None:
-            break
-        v = shape_step(data, args.degree, _s0_from(hint, data, best), prob.system.lift(target))
-        if v is None:
-            break
-        nxt = _certify_again(prob, v, args.degree)
-        if nxt.evidence is None:
-            break
-        best = nxt
+
+    def say(msg: str) -> None:
+        if not args.quiet:
+            print(f"[{time.perf_counter() - t1:6.1f} s] {msg}", file=sys.stderr, flush=True)
+
+    best = region_search(
+        model, claim, target, degree=args.degree, order=args.order, rounds=args.rounds,
+        progress=say,
+    )  # fmt: skip
     t_search = time.perf_counter() - t1
     if best.evidence is None:
         print(f"not proved: {best.reason} ({t_search:.1f} s)")
@@ -151,26 +144,6 @@ def main() -> int:
 def eval_level(res: object) -> float:
     num, _, den = res.evidence["numbers"]["level"].partition("/")  # type: ignore[attr-defined]
     return int(num) / int(den or 1)
-
-
-def _s0_from(hint: dict, data: object, res: object) -> dict:
-    level = eval_level(res)
-    out = {}
-    for key, (basis, q) in hint["sos"].items():
-        if key.endswith("* level"):
-            poly: dict = {}
-            for i, bi in enumerate(basis):
-                for j, bj in enumerate(basis):
-                    e = tuple(int(a + b) for a, b in zip(bi, bj, strict=True))
-                    poly[e] = poly.get(e, 0.0) + float(q[i, j]) * level
-            out[key] = poly
-    return out or _initial_s0(data, 0.1)  # type: ignore[arg-type]
-
-
-def _certify_again(prob: object, v: dict, degree: int) -> object:
-    from proofkit.proofs.recast import _certify
-
-    return _certify(prob, v, degree, True, lambda _m: None)  # type: ignore[arg-type]
 
 
 if __name__ == "__main__":
