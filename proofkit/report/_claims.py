@@ -28,6 +28,7 @@ from proofkit.report._theorems import THEOREMS
 __all__ = ["APPENDIX_SIZE", "THEOREMS", "claim_blocks"]
 
 MAX_TRACE_ROWS = 12
+RATIONAL_CYCLES = ("no-equilibrium-rational", "dulac-rational", "annulus-rational")
 
 
 def _counterexample(claim: Any, states: list[str]) -> list[Block]:
@@ -165,6 +166,7 @@ def _evidence_blocks(
     claim: Any, model: Any, appendix: list[Block], raw: Mapping[str, Any]
 ) -> list[Block]:
     from proofkit.report import _claims_nonpoly as nonpoly
+    from proofkit.report import _claims_rational as rational
 
     ev, states = claim.evidence, list(model.states) if model is not None else []
     method = claim.method
@@ -173,11 +175,13 @@ def _evidence_blocks(
 
         return recast_blocks(claim, model, appendix, raw.get("expressions"))
     if model is not None and method == "sublevel-set-rational":
-        return nonpoly.rational_basin_blocks(claim, model, appendix)
+        return rational.rational_basin_blocks(claim, model, appendix)
+    if model is not None and method in RATIONAL_CYCLES:
+        return rational.rational_cycle_blocks(claim, model, appendix)
     if method == "linearization-enclosure":
         return nonpoly.enclosure_blocks(claim, model, raw.get("exact"))
     if model is not None and method == "linearization-rational" and "jacobian" in ev:
-        return nonpoly.rational_linearization_blocks(claim, model)
+        return rational.rational_linearization_blocks(claim, model)
     if "jacobian" in ev and "routh" in ev:
         return linearization_blocks(claim, states)
     if "squares" in ev and (claim.theorem in THEOREMS or claim.theorem is None):

@@ -1,13 +1,7 @@
-"""Claim sections of the non-polynomial steps: rational fields and interval enclosures.
+"""The field of a non-polynomial model written out, and interval-enclosure claim sections.
 
 - The model's field written out: numerators over denominators, or the
   expression trees of ``model.expressions`` (sin, cos, exp, ..., pi).
-- ``linearization-rational``: why the Jacobian of ``N_i / D_i`` at the point
-  is that of the polynomial field ``N_i / D_i(x*)``.
-- ``sublevel-set-rational``: ``Q`` (the product of the distinct
-  denominators, signed positive at the point), ``G = f Q``, the time
-  reparametrisation, the region-of-attraction evidence for ``G`` and the
-  certificate that ``Q > 0`` on the sublevel set.
 - ``linearization-enclosure``: the box, the Krawczyk condition, the
   Jacobian enclosure and the Routh signs as a reviewer reads them.
 
@@ -27,18 +21,10 @@ from typing import Any
 import sympy as sp
 
 from proofkit.report._blocks import Block, m, para, t
-from proofkit.report._claims_linear import linearization_blocks
-from proofkit.report._claims_sos import SosView, _expr, _q, sos_blocks
+from proofkit.report._claims_sos import _q
 from proofkit.report._math import latex_matrix, latex_name, latex_number, latex_poly
-from proofkit.report._theorems import OBLIGATIONS
 
-__all__ = [
-    "enclosure_blocks",
-    "field_blocks",
-    "rational_basin_blocks",
-    "rational_linearization_blocks",
-    "tree_sympy",
-]
+__all__ = ["enclosure_blocks", "field_blocks", "tree_sympy"]
 
 _FUNCTIONS = {
     "sin": sp.sin,
@@ -49,11 +35,6 @@ _FUNCTIONS = {
     "sqrt": sp.sqrt,
     "tanh": sp.tanh,
 }
-
-
-_QUOTIENT_RULE = (
-    "\\partial f_i / \\partial x_j (x^*) = \\partial N_i / \\partial x_j (x^*) / D_i(x^*)"
-)
 
 
 def tree_sympy(tree: Any, symbols: Sequence[sp.Expr], atom: Any = None) -> sp.Expr:
@@ -116,168 +97,6 @@ def field_blocks(model: Any, expressions: Mapping[str, Any] | None) -> list[Bloc
         para(t(f"The vector field is not polynomial ({what}); exactly, with fixed parameters:")),
         Block("math", "\\begin{aligned} " + " \\\\ ".join(lines) + " \\end{aligned}"),
     ]
-
-
-# --- rational fields -------------------------------------------------------------------
-def _rational_parts(model: Any) -> tuple[list[sp.Symbol], list[sp.Expr], list[sp.Expr]] | None:
-    """States, numerators and denominators at the nominal parameter values."""
-    fld = model.field if model is not None else None
-    if not fld or fld.get("denominators") is None:
-        return None
-    names = list(fld["variables"])
-    xs = _symbols(names)
-    nominal = {p["name"]: p.get("nominal") for p in model.parameters}
-    if any(nominal.get(v, "") is None for v in names):
-        return None
-    subs = {x: _q(nominal[v]) for x, v in zip(xs, names, strict=True) if v in nominal}
-    nums = [_expr(p, xs).subs(subs) for p in fld["numerators"]]
-    dens = [_expr(p, xs).subs(subs) for p in fld["denominators"]]
-    return xs[: len(model.states)], nums, dens
-
-
-def rational_linearization_blocks(claim: Any, model: Any) -> list[Block]:
-    """Why the linearization of N/D at the point is that of a polynomial field."""
-    parts = _rational_parts(model)
-    out: list[Block] = []
-    if parts is not None and claim.point is not None:
-        xs, _nums, dens = parts
-        at = dict(zip(xs, (_q(c) for c in claim.point), strict=True))
-        values = ",\\; ".join(
-            f"D_{{{i + 1}}}(x^*) = {sp.latex(sp.expand(d.subs(at)))}" for i, d in enumerate(dens)
-        )
-        out.append(
-            para(
-                t("Each component is a quotient "),
-                m("f_i = N_i / D_i"),
-                t(". At the point the denominators are nonzero: "),
-                m(values),
-                t(", and every numerator vanishes, "),
-                m("N_i(x^*) = 0"),
-                t(
-                    ". Hence the partial derivatives there are those of the numerators divided "
-                    "by these constants, "
-                ),
-                m(_QUOTIENT_RULE),
-                t(
-                    ": the Jacobian below is that of the polynomial field "
-                    "N_i / D_i(x*), which has the same zero and the same linearization."
-                ),
-            )
-        )
-    return out + linearization_blocks(claim, list(model.states) if model is not None else [])
-
-
-def _q_and_g(model: Any, point: Sequence[Any]) -> tuple[list[sp.Symbol], sp.Expr, list[sp.Expr]]:
-    """Q (distinct denominators multiplied, signed positive at the point) and G = f Q."""
-    parts = _rational_parts(model)
-    if parts is None:
-        raise ValueError("not a rational field")
-    xs, nums, dens = parts
-    distinct: list[sp.Expr] = []
-    for d in dens:
-        if not any(sp.expand(d - e) == 0 for e in distinct):
-            distinct.append(d)
-    q = sp.expand(sp.Mul(*distinct))
-    at = dict(zip(xs, (_q(c) for c in point), strict=True))
-    sign = 1 if q.subs(at) > 0 else -1
-    g = [
-        sp.expand(sign * n * sp.Mul(*[e for e in distinct if sp.expand(e - d) != 0]))
-        for n, d in zip(nums, dens, strict=True)
-    ]
-    return xs, sp.expand(sign * q), g
-
-
-def _poly_terms(expr: sp.Expr, xs: Sequence[sp.Symbol]) -> list[list[Any]]:
-    poly = sp.Poly(sp.expand(expr), *xs)
-    return [[list(e), str(c)] for e, c in poly.terms() if c != 0]
-
-
-def rational_basin_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Block]:
-    """Q, G = f Q, the reparametrized region of attraction, and Q > 0 on the sublevel set."""
-    ev = claim.evidence
-    inner, den = ev.get("reparametrized") or {}, ev.get("denominator") or {}
-    states = list(model.states)
-    try:
-        xs, q, g = _q_and_g(model, claim.point or ())
-    except (ValueError, TypeError):
-        return _listing(claim)
-    names = [x.name for x in xs]
-    g_lines = " \\\\ ".join(
-        f"G_{{{i + 1}}} &= {latex_poly(_poly_terms(gi, xs), names)}" for i, gi in enumerate(g)
-    )
-    out = [
-        para(
-            t(
-                "Multiplying through by the denominators. Let Q be the product of the distinct "
-                "denominators at the nominal parameter values, its sign chosen so that "
-            ),
-            m("Q(x^*) > 0"),
-            t(", and "),
-            m("G = f\\,Q"),
-            t(" (each component's own denominator cancels, so G is a polynomial field):"),
-        ),
-        Block("math", f"Q = {latex_poly(_poly_terms(q, xs), names)}"),
-        Block("math", "\\begin{aligned} " + g_lines + " \\end{aligned}"),
-        para(
-            t(
-                "The audit builds Q and G itself from the certificate's numerators and "
-                "denominators. Where Q > 0 the two fields point the same way: "
-            ),
-            m("f = G / Q"),
-            t(
-                " differs from G by the positive factor 1/Q, so the orbits of f are those of G "
-                "traversed at another (positive) speed: time is reparametrised by "
-            ),
-            m("d\\tau = dt / Q(x(t))"),
-            t(
-                ". Sets invariant for one are invariant for the other, and a trajectory of G "
-                "that converges to the point is, reparametrised, one of f (1/Q is bounded on a "
-                "compact set where Q >= eps > 0)."
-            ),
-        ),
-        para(t("Region of attraction for G (the evidence under reparametrized):")),
-    ]
-    shifted = [
-        gi.subs({x: x + _q(c) for x, c in zip(xs, claim.point, strict=True)}, simultaneous=True)
-        for gi in g
-    ]
-    view = SosView(
-        evidence=inner,
-        names=states,
-        field=shifted,
-        field_text="G(x^* + y)",
-        field_words="G (the field multiplied through by Q)",
-        targets=OBLIGATIONS["region-of-attraction"],
-    )
-    out += sos_blocks(claim, model, appendix, view)
-    out += _denominator_blocks(claim, model, den, inner, appendix)
-    return out
-
-
-def _denominator_blocks(
-    claim: Any, model: Any, den: Mapping[str, Any], inner: Mapping[str, Any], appendix: list[Block]
-) -> list[Block]:
-    eps = (den.get("numbers") or {}).get("eps", "?")
-    level = (inner.get("numbers") or {}).get("level", "?")
-    out = [
-        para(
-            t("Q is positive on the sublevel set (the evidence under denominator): with "),
-            m(f"\\varepsilon_Q = {latex_number(eps)}"),
-            t(" and the level "),
-            m(latex_number(level)),
-            t(" of V above, the obligation "),
-            m("Q(x^* + y) - \\varepsilon_Q - t\\,(\\mathrm{level} - V)"),
-            t(" and the multiplier t are sums of squares. Where "),
-            m("V \\le \\mathrm{level}"),
-            t(" this gives "),
-            m("Q \\ge \\varepsilon_Q + t\\,(\\mathrm{level} - V) \\ge \\varepsilon_Q > 0"),
-            t(": no denominator vanishes on the certified set, and f = G/Q there."),
-        )
-    ]
-    targets = {"denominator": "Q(x^* + y) - \\varepsilon_Q - t\\,(\\mathrm{level} - V)"}
-    part = {k: v for k, v in den.items() if k != "numbers"}  # eps_Q is stated above
-    view = SosView(evidence=part, names=list(model.states), targets=targets)
-    return out + sos_blocks(claim, model, appendix, view)
 
 
 # --- interval enclosures ---------------------------------------------------------------
@@ -392,10 +211,3 @@ def _routh_sign_blocks(jac: Sequence[Any], signs: list[int]) -> list[Block]:
             )
         )
     return out
-
-
-# --- an evidence kind no section knows ---------------------------------------------------
-def _listing(claim: Any) -> list[Block]:
-    from proofkit.report._claims import generic_blocks
-
-    return generic_blocks(claim)

@@ -144,7 +144,7 @@ def _function_blocks(
         if fld is None:
             continue
         lie = _lie(ev[key], list(fld), names)
-        field = "f(x)" if cycle else view.field_text
+        field = view.field_text if view.field is not None else "f(x)" if cycle else "f(x^* + y)"
         body = f"\\dot {key} = \\nabla {key} \\cdot {field} = " + latex_poly(lie, names)
         if len(lie) <= MAX_INLINE_TERMS:
             out.append(para(t(f"Its derivative along {view.field_words}, expanded exactly:")))

@@ -114,6 +114,34 @@ THEOREMS: dict[str, tuple[str, str]] = {
         "trajectories of f there are those of G at the positive speed 1/Q, so every trajectory "
         "of f from the claim's set converges to the equilibrium." + _SOS,
     ),
+    "index-no-equilibrium-rational-field": (
+        "index theory for the field multiplied through by its denominators",
+        "If G = f Q has no zero on a convex set where Q > 0, neither has f, and a closed orbit "
+        "of f in the set would enclose an equilibrium." + _SOS,
+    ),
+    "bendixson-dulac-rational-field": (
+        "the Bendixson–Dulac criterion for the field multiplied through by its denominators",
+        "If div(B G) > 0 on a convex set where Q > 0, then B Q is a Dulac function for "
+        "f = G/Q there, and no closed orbit of f lies in the set." + _SOS,
+    ),
+    "poincare-bendixson-rational-field": (
+        "the Poincaré–Bendixson theorem on a trapping annulus of the field times its denominators",
+        "A compact annulus that traps the orbits of G = f Q, holds no zero of G and on which "
+        "Q > 0 traps the orbits of f too and contains a closed orbit of f." + _SOS,
+    ),
+    "range-indirect-method-stability-by-enclosure": (
+        "Lyapunov's indirect method over parameter boxes, with verified interval enclosures",
+        "On every piece of a tiling of the parameter box, one equilibrium lies in the state box "
+        "for every parameter value (parametric Krawczyk test) and the Routh first column over "
+        "the Jacobian enclosure is positive: the equilibrium is locally exponentially stable "
+        "for every parameter value in the ranges." + _ROUTH,
+    ),
+    "range-indirect-method-instability-by-enclosure": (
+        "Lyapunov's indirect method (instability) over parameter boxes, with interval enclosures",
+        "On every piece of a tiling of the parameter box the Routh first column over the "
+        "Jacobian enclosure has a sign change: the equilibrium is unstable for every parameter "
+        "value in the ranges." + _ROUTH,
+    ),
     "recast-lyapunov-local": (
         "Lyapunov's theorem on a sublevel set of the recast system (recasting, S-procedure)",
         "If V(y, z) >= eps |y|^2 and its derivative along the recast field is <= -eps |y|^2 "

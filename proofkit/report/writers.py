@@ -12,11 +12,11 @@ from proofkit.report._blocks import Block, Seg
 __all__ = ["to_latex", "to_markdown"]
 
 
-def _md_segs(segs: tuple[Seg, ...]) -> str:
+def _md_segs(segs: tuple[Seg, ...], cell: bool = False) -> str:
     out = []
     for kind, text in segs:
         if kind == "m":
-            out.append(f"${text}$")
+            out.append("$" + (text.replace("|", "\\vert ") if cell else text) + "$")
         else:
             out.append(text.replace("$", "\\$").replace("|", "\\|"))
     return "".join(out)
@@ -39,7 +39,7 @@ def to_markdown(blocks: list[Block]) -> str:
         elif b.kind == "table":
             lines.append("| " + " | ".join(b.header) + " |")
             lines.append("|" + "---|" * len(b.header))
-            lines += ["| " + " | ".join(_md_segs(c) for c in r) + " |" for r in b.rows]
+            lines += ["| " + " | ".join(_md_segs(c, cell=True) for c in r) + " |" for r in b.rows]
             lines.append("")
         elif b.kind == "figure":
             lines += [f"![phase portrait]({b.text})", ""]

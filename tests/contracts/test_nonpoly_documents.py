@@ -212,7 +212,7 @@ def test_rational_basin_document_states_q_g_and_the_positivity(chemostat) -> Non
 
 
 def test_rational_g_is_f_times_q_in_numpy(chemostat) -> None:
-    from proofkit.report._claims_nonpoly import _q_and_g
+    from proofkit.report._claims_rational import _q_and_g
 
     view = read(chemostat.certificate)
     xs, q, g = _q_and_g(view.model, ["1", "3"])
@@ -244,3 +244,35 @@ def test_an_unknown_method_is_listed_honestly() -> None:
     assert "Method mystery-method, theorem mystery-theorem" in md
     assert "no line-by-line section" in md and "parts: inner, positive" in md
     assert "- [x] the audit's hypothesis" in md
+
+
+# van der Pol (mu = 1) slowed by 1/(1 + x^2), as in tests/nonpoly_cycles: same orbits, so its
+# cycle (published amplitude 2.0086, Hairer & Wanner) lies in the disc of radius 4
+SLOW_VDP = """system van_der_pol_slowed
+state x, y
+dx/dt = y/(1 + x^2)
+dy/dt = ((1 - x^2)*y - x)/(1 + x^2)
+claim cycle in x^2 + y^2 <= 16
+"""
+
+
+def test_rational_cycle_document_states_q_g_and_the_annulus() -> None:
+    from proofkit.report._claims_rational import _q_and_g
+
+    run = prove_model(proofkit.parse(SLOW_VDP, "vdp.pk"))
+    assert run.outcomes[0].status == "proved" and run.outcomes[0].method == "annulus-rational"
+    md = render_markdown(run.certificate, run.audit, _meta())
+    assert "Q = x^{2} + 1" in md  # computed by hand: the common denominator
+    assert "G_{2} &= -x^{2} y - x + y" in md  # the van der Pol field itself
+    assert "Q - \\varepsilon_Q - t_1 (W - \\mathrm{inner}) - t_2 (\\mathrm{outer} - W)" in md
+    assert "traversed at another (positive) speed" in md
+    assert "the Poincaré–Bendixson theorem on a trapping annulus of the field" in md
+    view = read(run.certificate)
+    sign = run.certificate["claims"][0]["evidence"]["denominator"]["sign"]
+    xs, q, g = _q_and_g(view.model, None, sign)
+    for x, y in np.random.default_rng(2).uniform(-4.0, 4.0, size=(10, 2)):
+        # computed (numpy): the model's formula times Q
+        f = (y / (1 + x * x), ((1 - x * x) * y - x) / (1 + x * x))
+        qv = float(q.subs({xs[0]: x, xs[1]: y}))
+        got = [float(gi.subs({xs[0]: x, xs[1]: y})) for gi in g]
+        assert got == pytest.approx([qv * fi for fi in f], rel=1e-12)
