@@ -180,6 +180,8 @@ def _evidence_blocks(
         return rational.rational_cycle_blocks(claim, model, appendix)
     if method == "linearization-enclosure":
         return nonpoly.enclosure_blocks(claim, model, raw.get("exact"))
+    if method == "range-enclosure" and "pieces" in ev:
+        return nonpoly.range_enclosure_blocks(claim, model, raw.get("exact"))
     if model is not None and method == "linearization-rational" and "jacobian" in ev:
         return rational.rational_linearization_blocks(claim, model)
     if "jacobian" in ev and "routh" in ev:

@@ -276,3 +276,28 @@ def test_rational_cycle_document_states_q_g_and_the_annulus() -> None:
         qv = float(q.subs({xs[0]: x, xs[1]: y}))
         got = [float(gi.subs({xs[0]: x, xs[1]: y})) for gi in g]
         assert got == pytest.approx([qv * fi for fi in f], rel=1e-12)
+
+
+# the damped swing equation with the damping over a range (as in tests/ranges)
+SWING_RANGE = """system swing_range
+parameter damping = 1/2 in [1/5, 1]
+state d, w
+dd/dt = w
+dw/dt = -damping*w - (sin(d + pi/3) - sin(pi/3))
+equilibrium saddle at d = pi/3, w = 0
+claim saddle unstable
+"""
+
+
+def test_range_enclosure_document_lists_the_pieces() -> None:
+    run = prove_model(proofkit.parse(SWING_RANGE, "swing_range.pk"))
+    assert run.outcomes[0].method == "range-enclosure"
+    md = render_markdown(run.certificate, run.audit, _meta())
+    assert "Equilibrium saddle: $d = \\frac{\\pi}{3}, w = 0$" in md  # the exact point
+    assert "| piece | parameters P | state box X | Routh signs |" in md
+    pieces = run.certificate["claims"][0]["evidence"]["pieces"]
+    rows = [ln for ln in md.splitlines() if ln.startswith("| ") and "\\times" in ln]
+    assert len(rows) == len(pieces) >= 1
+    # computed by hand: at d = pi/3, J = [[0, 1], [1/2, -c]], det(sI - J) = s^2 + c s - 1/2,
+    # Routh first column 1, c, -1/2: one sign change for every damping c > 0
+    assert all(row.rstrip(" |").endswith("+, +, -") for row in rows)
