@@ -175,13 +175,17 @@ def _not_proved(model: Model, claim: Claim, reason: str) -> ProofAttempt:
     return ProofAttempt(not_proved_entry(model, claim, reason), reason)
 
 
-def _denominator(q: sp.Expr, pl: Any, conditions: list[sp.Expr], extra: int) -> dict | None:
+def _denominator(
+    q: sp.Expr, pl: Any, conditions: list[sp.Expr], extras: tuple[int, ...] = (0,)
+) -> dict | None:
+    """Evidence that ``q >= eps`` where the conditions hold (smallest multipliers first)."""
     from proofkit.proofs._cycles_search import positive_program
 
-    for eps in _EPS:
-        found = positive_program(pl, q, eps, conditions, extra)
-        if found.evidence is not None:
-            return found.evidence
+    for extra in extras:
+        for eps in _EPS:
+            found = positive_program(pl, q, eps, conditions, extra)
+            if found.evidence is not None:
+                return found.evidence
     return None
 
 
@@ -196,7 +200,7 @@ def _with_sign(
     den = None
     if claim.kind == "no cycle":
         say(f"no cycle: Q = {q} > 0 on the set")
-        den = _denominator(q, pl, [g for g, _s in pl.conditions], 0)
+        den = _denominator(q, pl, [g for g, _s in pl.conditions])
         if den is None:
             return (
                 f"the denominator product Q = {q} could not be shown positive on the set "
@@ -213,7 +217,7 @@ def _with_sign(
         num = ev["numbers"]
         lo, hi = sp.Rational(num["inner"]), sp.Rational(num["outer"])
         say(f"cycle: Q = {q} > 0 on the annulus")
-        den = _denominator(q, pl, [sp.expand(w - lo), sp.expand(hi - w)], 2)
+        den = _denominator(q, pl, [sp.expand(w - lo), sp.expand(hi - w)], (0, 2))
         if den is None:
             return f"the denominator product Q = {q} could not be shown positive on the annulus"
     method = METHODS[inner.entry["method"]]
