@@ -174,6 +174,10 @@ def _evidence_blocks(
         from proofkit.report._claims_recast import recast_blocks
 
         return recast_blocks(claim, model, appendix, raw.get("expressions"))
+    if model is not None and method == "taylor-model":
+        from proofkit.report._claims_taylor import taylor_model_blocks
+
+        return taylor_model_blocks(claim, model, appendix, raw.get("expressions"))
     if model is not None and method == "sublevel-set-rational":
         return rational.rational_basin_blocks(claim, model, appendix)
     if model is not None and method in RATIONAL_CYCLES:

@@ -307,7 +307,7 @@ def _enclosure_blocks(block: Mapping[str, Any], d: int) -> list[Block]:
             ),
             t(", which the audit checks exactly by "),
             m(f"0 \\le \\mathrm{{lo}},\\; \\mathrm{{lo}}^2 \\le {d} \\le \\mathrm{{hi}}^2"),
-            t(f". The recast field is affine in r = sqrt {d}, "),
+            t(f". The field F is affine in r = sqrt {d} (the constants enter linearly), "),
             m("F = F_0 + r F_1"),
             t(", and V does not depend on r, so the decrease target "),
             m("T(r) = -\\nabla V \\cdot (F_0 + r F_1) - \\varepsilon |y|^2"),
@@ -316,7 +316,7 @@ def _enclosure_blocks(block: Mapping[str, Any], d: int) -> list[Block]:
             t(" with "),
             m("\\lambda = (\\mathrm{hi} - r)/(\\mathrm{hi} - \\mathrm{lo}) \\in [0, 1]"),
             t(
-                ". The obligations decrease lo and decrease hi show T(lo) >= 0 and T(hi) >= 0 "
+                ". The decrease obligations at lo and at hi show T(lo) >= 0 and T(hi) >= 0 "
                 f"wherever V <= level (with their own multipliers), so T(sqrt {d}) >= 0 there "
                 "too: checking both ends suffices, with rational arithmetic only."
             ),
@@ -325,14 +325,15 @@ def _enclosure_blocks(block: Mapping[str, Any], d: int) -> list[Block]:
 
 
 def _obligation_table(
-    ev: Mapping[str, Any], domain: Sequence[Any] | None
+    ev: Mapping[str, Any], domain: Sequence[Any] | None, arg: str = "z"
 ) -> tuple[Block, dict[str, str]]:
+    """The obligations with their multipliers' labels, and the LaTeX target of each."""
     sos, free = ev.get("multipliers") or {}, ev.get("free") or {}
     rows, targets = [], {}
     for name in ev.get("squares") or {}:
         if name in sos:
             continue
-        base = _base(name, domain)
+        base = _base(name, domain, arg)
         ins = [k.split(" * ", 1)[1] for k in sos if k.startswith(name + " * ")]
         eqs = [k.split(" * ", 1)[1] for k in free if k.startswith(name + " * ")]
         targets[name] = (
@@ -352,13 +353,13 @@ def _obligation_table(
     return Block("table", header=header, rows=tuple(rows)), targets
 
 
-def _base(name: str, domain: Sequence[Any] | None) -> str:
+def _base(name: str, domain: Sequence[Any] | None, arg: str = "z") -> str:
     if name == "positive":
         return "V - \\varepsilon |y|^2"
     if name.startswith("decrease"):
         end = name.split(" ", 1)[1] if " " in name else ""
         sub = f"_{{\\mathrm{{{end}}}}}" if end else ""
-        return f"-\\nabla V \\cdot F{sub}(z) - \\varepsilon |y|^2"
+        return f"-\\nabla V \\cdot F{sub}({arg}) - \\varepsilon |y|^2"
     if name == "inside":
         return "\\mathrm{level} - V"
     if name.startswith("domain ") and name[7:].isdigit() and domain:

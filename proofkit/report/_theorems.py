@@ -142,6 +142,18 @@ THEOREMS: dict[str, tuple[str, str]] = {
         "Jacobian enclosure has a sign change: the equilibrium is unstable for every parameter "
         "value in the ranges." + _ROUTH,
     ),
+    "taylor-model-lyapunov-local": (
+        "Lyapunov's theorem on a sublevel set, with Taylor models of the field (S-procedure)",
+        "If V(y) >= eps |y|^2 and grad V . F_v <= -eps |y|^2 where V <= level for every vertex "
+        "field F_v of the Taylor models, the derivative along the true field (a convex "
+        "combination of the vertex fields) is <= -eps |y|^2 there, and the equilibrium is "
+        "locally asymptotically stable." + _SOS,
+    ),
+    "taylor-model-region-of-attraction": (
+        "a forward-invariant sublevel set, with Taylor models of the field (S-procedure)",
+        "As for the local theorem, and the claim's set lies in {V <= level}, which lies in the "
+        "domain: every trajectory from the claim's set converges to the equilibrium." + _SOS,
+    ),
     "recast-lyapunov-local": (
         "Lyapunov's theorem on a sublevel set of the recast system (recasting, S-procedure)",
         "If V(y, z) >= eps |y|^2 and its derivative along the recast field is <= -eps |y|^2 "
