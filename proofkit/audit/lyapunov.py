@@ -13,7 +13,10 @@ stability. ``lyapunov-local``: the same decrease on the sublevel set
 stability. ``region-of-attraction``: moreover the claim's set lies in
 {V <= level} and {V <= level} lies in the domain; {V <= level} is compact and
 forward invariant and every trajectory in it tends to the equilibrium, so the
-set lies in the region of attraction.
+set lies in the region of attraction. ``lyapunov-global-in-domain``: the
+domain is forward invariant (strict Nagumo condition on each face, by the
+S-procedure with the face as an equality) and the two Lyapunov inequalities
+hold on it, so every trajectory starting in the domain tends to the point.
 
 This module must never import anything outside the standard library and
 :mod:`proofkit.audit`, and never use floating point.
@@ -54,8 +57,10 @@ from proofkit.audit.schemas import (
 
 __all__ = [
     "another_equilibrium",
+    "invariance_names",
     "lie_derivative",
     "lyapunov_global",
+    "lyapunov_in_domain",
     "lyapunov_local",
     "region_of_attraction",
 ]
@@ -155,6 +160,56 @@ def lyapunov_local(model: ModelData, claim: ClaimData, checks: Checks) -> None:
         "and s0 a sum of squares (S-procedure): lie(V) < 0 on {V <= level} away from the point"
     )
     check_squares(s.targets, claim.evidence, s.n, checks, s.w)
+
+
+def invariance_names(m: int) -> list[str]:
+    """Multiplier names of ``lyapunov-global-in-domain`` for ``m`` domain conditions."""
+    names = [f"{x}{j + 1}" for x in ("p", "q", "u") for j in range(m)]
+    return names + [f"r{j + 1}_{k + 1}" for j in range(m) for k in range(m)]
+
+
+@schema("globally stable", "lyapunov-domain", "lyapunov-global-in-domain")
+def lyapunov_in_domain(model: ModelData, claim: ClaimData, checks: Checks) -> None:
+    """D = {h_j >= 0} forward invariant; V >= eps|y|^2 and -lie(V) >= eps|y|^(2m) on D.
+
+    Forward invariance (Nagumo's condition, strict): at a first exit time T some
+    ``h_j(x(T)) = 0`` while every ``h_k >= 0``; there ``lie(h_j) >= eps > 0``, so
+    every active ``h_j`` grows and the others stay positive just after T: no exit.
+    Then V decreases along every trajectory in D and ``V >= eps|y|^2`` bounds it,
+    so the trajectory exists for all time and ``y -> 0`` (the decrease is
+    integrable and the derivative of ``|y|^2`` bounded on the bounded orbit).
+    """
+    require(model.domain is not None, "domain", "this theorem needs a declared domain")
+    s = _Setup(model, claim, checks, {"eps"})
+    dom = model.domain or ()
+    m = len(dom)
+    mult = read_multipliers(claim.evidence, invariance_names(m), s.n, s.w)
+    hs = [s.unshift(h) for h, _strict in dom]
+    eps = Num.of(s.num["eps"])
+    for j, h in enumerate(hs):
+        s.targets["positive"] = poly_add(
+            s.targets["positive"], _neg(poly_mul(mult[f"p{j + 1}"], h))
+        )
+        s.targets["decrease"] = poly_add(
+            s.targets["decrease"], _neg(poly_mul(mult[f"q{j + 1}"], h))
+        )
+        target = poly_add(lie_derivative(h, s.g), poly_constant(-eps, s.n))
+        target = poly_add(target, poly_mul(mult[f"u{j + 1}"], h))
+        for k, hk in enumerate(hs):
+            target = poly_add(target, _neg(poly_mul(mult[f"r{j + 1}_{k + 1}"], hk)))
+        s.targets[f"invariant {j + 1}"] = target
+    s.targets.update(mult)
+    checks.ok(
+        f"positive: V - eps|y|^2 - sum p_j h_j, decrease: -lie(V) - eps (|y|^2)^m - sum q_j h_j "
+        f"over the {m} domain condition(s), p_j, q_j sums of squares: on the domain V >= "
+        "eps|y|^2 and V strictly decreases away from the point"
+    )
+    checks.ok(
+        "invariant j: lie(h_j) - eps + u_j h_j - sum_k r_jk h_k with u_j, r_jk sums of "
+        "squares: lie(h_j) >= eps > 0 where h_j = 0 in the domain, so no trajectory leaves it"
+    )
+    check_squares(s.targets, claim.evidence, s.n, checks, s.w)
+    checks.ok("every trajectory starting in the domain stays there and tends to the point")
 
 
 def _set_multipliers(conditions: tuple[Condition, ...], prefix: str) -> list[str]:

@@ -433,6 +433,10 @@ def attempt(model: Model, claim: Claim, progress: Say | None = None) -> ProofAtt
     polynomial), so that its reason is the one the user sees.
     """
     say = progress or (lambda _m: None)
+    if claim.kind == "globally stable":  # inside a domain (without one: proofs/lyapunov.py)
+        from proofkit.proofs._basin_invariant import attempt as in_domain
+
+        return in_domain(model, claim, say)
     if claim.kind != "attracts" or claim_scope(model, claim) != "nominal":
         return None
     if not model.is_polynomial():
