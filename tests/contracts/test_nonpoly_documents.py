@@ -301,3 +301,52 @@ def test_range_enclosure_document_lists_the_pieces() -> None:
     # computed by hand: at d = pi/3, J = [[0, 1], [1/2, -c]], det(sI - J) = s^2 + c s - 1/2,
     # Routh first column 1, c, -1/2: one sign change for every damping c > 0
     assert all(row.rstrip(" |").endswith("+, +, -") for row in rows)
+
+
+def test_taylor_model_section_states_the_models_and_the_field() -> None:
+    """Rendering only (the audit's verdict is given): the models and F(y, u) as stated."""
+    from proofkit.report._claims import claim_blocks
+    from proofkit.report.writers import to_markdown
+
+    model = proofkit.parse(MIXED.replace("- y*exp(x - y) + y*cos(x) - tanh(x + y)", ""), "p.pk")
+    section = model_section(model)
+    sin_model = {
+        "function": "sin",
+        "argument": [[[1, 0], "1"]],
+        "order": 3,
+        "polynomial": ["0", "1", "0", "-1/6"],
+        "remainder": "1/24",
+    }
+    cos_model = {
+        "function": "cos",
+        "argument": [[[1, 0], "1"]],
+        "order": 2,
+        "polynomial": ["1", "0", "-1/2"],
+        "remainder": "1/6",
+    }
+    entry = {
+        "claim": {"kind": "stable", "equilibrium": {"name": "o", "point": ["0", "0"]},
+                  "set": None, "scope": "nominal"},
+        "statement": "o stable", "status": "proved", "method": "taylor-model",
+        "theorem": "taylor-model-lyapunov-local",
+        "evidence": {"taylor_model": {"atoms": [sin_model, cos_model], "enclosure": ["1", "2"]},
+                     "V": [[[2, 0], "1"], [[0, 2], "1"]],
+                     "numbers": {"eps": "1/1000", "level": "1"},
+                     "multipliers": {"decrease lo (+1, +1) * level": [[[0, 0], "1"]]},
+                     "squares": {"positive": {"basis": [[1, 0]], "gram": [["1"]]},
+                                 "decrease lo (+1, +1)": {"basis": [[1, 0]], "gram": [["1"]]},
+                                 "decrease lo (+1, +1) * level": {"basis": [[0, 0]],
+                                                                  "gram": [["1"]]}}},
+    }  # fmt: skip
+    view = read({"proofkit_certificate": 2, "model": section, "claims": [entry]})
+    verdict = SimpleNamespace(status="proved", checked=("checked",))
+    raw = {"expressions": section["expressions"]}
+    md = to_markdown(claim_blocks(view.claims[0], verdict, view.model, [], raw))
+    assert "| $\\sin \\delta_{1}$ | $\\delta_{1} = x$ |" in md
+    assert "\\frac{1}{24}\\, \\delta_{1}^{4} u_{1}" in md
+    # computed by hand: -sin(x + pi/6) + 1/2 = -(sqrt3/2) sin x - (1/2)(cos x - 1), with
+    # sin x = x - x^3/6 + x^4 u1/24 and cos x - 1 = -x^2/2 + x^3 u2/6
+    assert "\\dot{y} &= \\left(-\\frac{1}{48}\\sqrt{3}\\right) x^{4} u_{1}" in md
+    assert "u_{1} - \\frac{1}{12} x^{3} u_{2} + \\left(\\frac{1}{12}\\sqrt{3}\\right) x^{3}" in md
+    assert "| decrease lo (+1, +1) | $-\\nabla V \\cdot F_{\\mathrm{lo (+1, +1)}}(y)" in md
+    assert "Why the vertex fields suffice" in md and "plain sublevel set in the states" in md
