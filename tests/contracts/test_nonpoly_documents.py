@@ -246,8 +246,8 @@ def test_an_unknown_method_is_listed_honestly() -> None:
     assert "- [x] the audit's hypothesis" in md
 
 
-# van der Pol (mu = 1) slowed by 1/(1 + x^2), as in tests/nonpoly_cycles: same orbits, so its
-# cycle (published amplitude 2.0086, Hairer & Wanner) lies in the disc of radius 4
+# van der Pol (mu = 1) slowed by 1/(1 + x^2), as in tests/nonpoly_cycles (where the sources
+# of its cycle's amplitude are named): the same orbits, so the cycle lies in the disc
 SLOW_VDP = """system van_der_pol_slowed
 state x, y
 dx/dt = y/(1 + x^2)
