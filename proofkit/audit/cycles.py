@@ -279,5 +279,6 @@ def _annulus_words(checks: Checks, num: dict[str, Fraction], nset: int, ndom: in
         )
 
 
-# The same theorems for rational fields (multiplied through by a positive denominator).
-from proofkit.audit import _rational_cycles  # noqa: E402, F401
+# The same theorems for rational fields (multiplied through by a positive denominator),
+# and Bendixson–Dulac for sin/cos/exp/tanh fields in recast variables.
+from proofkit.audit import _rational_cycles, _recast_cycles  # noqa: E402, F401

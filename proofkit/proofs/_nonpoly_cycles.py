@@ -62,9 +62,16 @@ def _rational_field(model: Model) -> dict[str, Any] | None:
     return field
 
 
+def _trees(model: Model) -> bool:
+    if model.is_polynomial():
+        return False
+    return bool((model_section(model).get("expressions") or {}).get("components"))
+
+
 def applies(model: Model) -> bool:
-    """True when the field is rational (numerators over denominators) and not polynomial."""
-    return _rational_field(model) is not None
+    """True when this module answers the model's cycle claims: a rational field that is
+    not polynomial, or a field given by expression trees (sin, cos, exp, tanh)."""
+    return _rational_field(model) is not None or _trees(model)
 
 
 def _poly_expr(terms: list[Any], xs: list[sp.Symbol]) -> sp.Expr:
@@ -138,12 +145,13 @@ def _signs_on_set(q: sp.Expr, pl: Any) -> tuple[set[int], str]:
 
 
 def attempt(model: Model, claim: Claim, progress: Progress | None = None) -> ProofAttempt | None:
-    """Evidence for ``no cycle in SET`` / ``cycle in SET`` on a rational field, or None."""
+    """Evidence for ``no cycle in SET`` / ``cycle in SET`` on a rational field (or, for
+    ``no cycle``, a sin/cos/exp/tanh field: :mod:`proofkit.proofs._cycles_recast`), or None."""
     if claim.kind not in ("no cycle", "cycle"):
         return None
     field = _rational_field(model)
     if field is None:
-        return None
+        return _not_rational(model, claim, progress)
     from proofkit.proofs.cycles import planar_problem
 
     say = progress or (lambda _m: None)
@@ -169,6 +177,21 @@ def attempt(model: Model, claim: Claim, progress: Progress | None = None) -> Pro
         if signs:
             break
     return _not_proved(model, claim, notes[0])
+
+
+def _not_rational(model: Model, claim: Claim, progress: Progress | None) -> ProofAttempt | None:
+    """Fields given by expression trees: Dulac in recast variables (``no cycle`` only)."""
+    if not _trees(model):
+        return None
+    if claim.kind == "cycle":
+        why = (
+            "cycle claims are proved for polynomial and rational fields only (the annulus "
+            "search needs one); this field has sin, cos, exp or tanh terms"
+        )
+        return _not_proved(model, claim, why)
+    from proofkit.proofs import _cycles_recast
+
+    return _cycles_recast.attempt(model, claim, progress)
 
 
 def _not_proved(model: Model, claim: Claim, reason: str) -> ProofAttempt:

@@ -1,0 +1,211 @@
+"""``no cycle in SET`` for planar sin/cos/exp/tanh fields: a Dulac function in recast variables.
+
+Recasting (Papachristodoulou and Prajna, 2005) around a rational zero of the
+field (:func:`proofkit.proofs._recast_system.build_system`): ``z = (y, S, C,
+..., E, ..., T, ...)`` with ``f_i(x) = F_i(z(x))``. A polynomial ``B`` over
+``z`` is searched with ``P - 1 - sum s_i g_i - sum lambda_k circle_k`` a sum of
+squares, where ``P`` is ``div(B(z(x)) f(x))`` written by the chain rule
+(``dS/dx_i = (C + 1) d delta/dy_i``, ``dC/dx_i = -S d delta/dy_i``, ``dE/dx_i
+= (E + 1) d delta/dy_i``, ``dT/dx_i = (1 - T^2) d delta/dy_i``), ``g_i`` the
+claim set's conditions and ``circle_k = S_k^2 + C_k^2 + 2 C_k`` (free
+multipliers ``lambda_k``). The audit schema ``bendixson-dulac-recast``
+(``proofkit/audit/_recast_cycles.py``) derives the recast system and ``P``
+itself.
+
+This module proposes evidence only (the audit decides) and never evaluates user text.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from fractions import Fraction
+from typing import Any
+
+import sympy as sp
+
+from proofkit.certificate import claim_entry, claim_structure, model_section, not_proved_entry
+from proofkit.model import Claim, Model
+from proofkit.proofs import ProofAttempt
+
+__all__ = ["B_DEGREES", "METHOD", "THEOREM", "attempt"]
+
+METHOD = "dulac-recast"
+THEOREM = "bendixson-dulac-recast"
+B_DEGREES = (0, 1, 2)
+Progress = Callable[[str], None]
+
+
+def _sym(p: Any, zs: list[sp.Symbol]) -> sp.Expr:
+    """A flint polynomial over z as a sympy expression."""
+    out = sp.Integer(0)
+    for e, c in zip(p.monoms(), p.coeffs(), strict=True):
+        q = Fraction(int(c.p), int(c.q))
+        out += sp.Rational(q.numerator, q.denominator) * sp.Mul(
+            *[z**k for z, k in zip(zs, e, strict=False)]
+        )
+    return out
+
+
+def _poly(terms: list[Any], xs: list[sp.Expr]) -> sp.Expr:
+    out = sp.Integer(0)
+    for exps, c in terms:
+        q = Fraction(c)
+        out += sp.Rational(q.numerator, q.denominator) * sp.Mul(
+            *[x**k for x, k in zip(xs, exps, strict=True)]
+        )
+    return out
+
+
+def _origins(section: dict[str, Any]) -> list[list[Fraction]]:
+    """Declared rational equilibria, then the origin of the state space."""
+    out = []
+    for eq in section.get("equilibria") or []:
+        pt = eq.get("point")
+        if pt is not None and all(isinstance(c, str) for c in pt):
+            out.append([Fraction(c) for c in pt])
+    zero = [Fraction(0)] * len(section["states"])
+    return [*out, zero] if zero not in out else out
+
+
+def _rules(system: Any, zs: list[sp.Symbol]) -> list[tuple[int, sp.Expr, sp.Expr]]:
+    """(index in z, derivative rule, delta over z) per recast variable, in z order."""
+    n, out, k = system.n, [], system.n
+    for kind, dz in system.deltas:
+        delta = _sym(dz, zs)
+        if kind == "trig":
+            s, c = zs[k], zs[k + 1]
+            out += [(k, c + 1, delta), (k + 1, -s, delta)]
+            k += 2
+        elif kind == "exp":
+            out.append((k, zs[k] + 1, delta))
+            k += 1
+        else:
+            out.append((k, 1 - zs[k] ** 2, delta))
+            k += 1
+    assert k == system.nz and n == len(system.point)
+    return out
+
+
+def dulac_search(system: Any, conds: list[sp.Expr], degree: int) -> dict[str, Any] | str:
+    """Exact evidence for ``div(B f) >= 1`` on the set in recast variables, or the reason."""
+    from proofkit.exact import solve_exactly
+    from proofkit.exact.rounding import unknown_poly
+    from proofkit.proofs._cycles_search import _poly_json, _write
+    from proofkit.sos import SearchProgram, full_basis
+
+    nz = system.nz
+    zs = list(sp.symbols(f"z0:{nz}", real=True))
+    prog = SearchProgram(zs)
+    b = prog.free("B", full_basis(nz, degree))
+    field = [_sym(a, zs) for a, _b in system.field[: system.n]]
+    rules = _rules(system, zs)
+    div = None
+    for i in range(system.n):
+        h = b * field[i]
+        term = h.diff(i)
+        for j, rule, delta in rules:
+            dd = sp.expand(sp.diff(delta, zs[i]) * rule)
+            if dd != 0:
+                term = term + h.diff(j) * dd
+        div = term if div is None else div + term
+    target = div - 1
+    fdeg = max(sp.Poly(f, *zs).total_degree() for f in field if f != 0)
+    top = 2 * ((degree + fdeg + 2) // 2)
+    mults = []
+    for i, g in enumerate(conds):
+        gdeg = sp.Poly(g, *zs).total_degree()
+        s = prog.sos(f"s{i + 1}", full_basis(nz, max(top - gdeg, 0) // 2))
+        target = target - s * g
+        mults.append(s.name)
+    free = []
+    for label, h in system.equalities:
+        lam = prog.free(label, full_basis(nz, max(top - 2, 0)))
+        target = target - lam * _sym(h, zs)
+        free.append(label)
+    prog.require_sos(target, "divergence")
+    out = solve_exactly(prog)
+    if not out.found:
+        return out.reason or "no exact solution"
+    bpoly = unknown_poly(prog.space, b, out.exact.values["B"])
+    if bpoly.is_zero():
+        return "the Dulac function came out zero"
+    ev = {"B": _poly_json(bpoly), "numbers": {"eps": "1"}}
+    return {**ev, **_write(prog, out.exact, mults, free)}
+
+
+def attempt(model: Model, claim: Claim, progress: Progress | None = None) -> ProofAttempt | None:
+    """Evidence for ``no cycle in SET`` on a planar sin/cos/exp/tanh field, or None."""
+    if claim.kind != "no cycle":
+        return None
+    section = model_section(model)
+    trees = (section.get("expressions") or {}).get("components")
+    if not trees:
+        return None
+    why = _problem(model, claim)
+    if why:
+        return ProofAttempt(not_proved_entry(model, claim, why), why)
+    return _search(model, claim, section, trees, progress or (lambda _m: None))
+
+
+def _problem(model: Model, claim: Claim) -> str:
+    from proofkit.certificate import claim_scope
+
+    if claim_scope(model, claim) != "nominal":
+        return "cycle claims are proved at the nominal parameter values only"
+    if len(model.states) != 2:
+        return "cycle claims are proved for planar systems (two states) only"
+    if any(not p.nominal.is_Rational for p in model.params if p.is_uncertain):
+        return "a nominal parameter value is not rational"
+    if claim_structure(model, claim).get("set") is None:
+        return "the claim's set is not given by polynomial conditions"
+    return ""
+
+
+def _search(
+    model: Model, claim: Claim, section: dict[str, Any], trees: list[Any], say: Progress
+) -> ProofAttempt:
+    from proofkit.proofs._cycles_search import Planar
+    from proofkit.proofs._recast_system import Unsupported, build_system
+    from proofkit.proofs.cycles import _convex
+
+    nominal = [Fraction(int(p.nominal.p), int(p.nominal.q)) for p in model.params if p.is_uncertain]
+    raw = claim_structure(model, claim)["set"]
+    xs = list(sp.symbols("x0:2", real=True))
+    conds = [(_poly(c["g"], xs), bool(c["strict"])) for c in raw]
+    why = _convex(Planar((xs[0], xs[1]), (sp.Integer(0), sp.Integer(0)), tuple(conds)))
+    if why is not None:
+        return ProofAttempt(not_proved_entry(model, claim, why), why)
+    notes = []
+    for origin in _origins(section):
+        try:
+            system = build_system(trees, origin, nominal, 0)
+        except Unsupported as exc:
+            notes.append(f"around {tuple(map(str, origin))}: {exc}")
+            continue
+        if system.d != 0:
+            notes.append("constants in Q(sqrt d) are not handled by the recast Dulac search")
+            break
+        zs = list(sp.symbols(f"z0:{system.nz}", real=True))
+        shift = {
+            x: z + sp.Rational(o.numerator, o.denominator)
+            for x, z, o in zip(xs, zs, origin, strict=False)
+        }
+        shifted = [sp.expand(g.subs(shift, simultaneous=True)) for g, _s in conds]
+        for degree in B_DEGREES:
+            say(f"no cycle: Dulac function of degree {degree} in {', '.join(system.names)}")
+            found = dulac_search(system, shifted, degree)
+            if isinstance(found, dict):
+                evidence = {
+                    "origin": [str(o) for o in origin],
+                    "recast": {"taylor_order": 0, "enclosure": None},
+                    **found,
+                }
+                entry = claim_entry(
+                    model, claim, "proved", method=METHOD, theorem=THEOREM, evidence=evidence
+                )
+                detail = f"Dulac function B(z) of degree {degree} in {', '.join(system.names)}"
+                return ProofAttempt(entry, detail)
+        notes.append(f"no Dulac function of degree <= {B_DEGREES[-1]} in the recast variables")
+        break
+    reason = "; ".join(notes[-2:]) or "no rational zero of the field to recast around"
+    return ProofAttempt(not_proved_entry(model, claim, reason), reason)
