@@ -18,6 +18,12 @@ are those of ``G`` traversed with the positive speed ``1/Q`` (bounded on the
 compact set), so the set is forward invariant for ``f`` and every trajectory
 in it converges to the point.
 
+Theorem ``lyapunov-global-in-domain-rational-field`` (method
+``lyapunov-domain-rational``, claim ``globally stable`` inside the domain): the
+``lyapunov-global-in-domain`` evidence for ``G`` under ``reparametrized``, and
+under ``denominator`` ``Q(x* + y) - eps - sum_j w_j h_j(x* + y)`` and the
+``w_j`` sums of squares (``Q > 0`` on the domain).
+
 This module must never import anything outside the standard library and
 :mod:`proofkit.audit`, and never use floating point.
 """
@@ -35,7 +41,7 @@ from proofkit.audit.algebra import (
     poly_scale,
     poly_substitute,
 )
-from proofkit.audit.lyapunov import region_of_attraction
+from proofkit.audit.lyapunov import lyapunov_in_domain, region_of_attraction
 from proofkit.audit.numbers import Num
 from proofkit.audit.read import get, only_keys
 from proofkit.audit.schemas import (
@@ -50,7 +56,7 @@ from proofkit.audit.schemas import (
     schema,
 )
 
-__all__ = ["region_of_attraction_rational"]
+__all__ = ["lyapunov_in_domain_rational", "region_of_attraction_rational"]
 
 
 def _nominal(p: Poly, model: ModelData) -> Poly:
@@ -111,6 +117,14 @@ def _proportional(p: Poly, q: Poly) -> bool:
     return len(ratios) == 1 and next(iter(ratios)) > 0
 
 
+def _shift(point: list[Num], n: int) -> list[Poly]:
+    """The substitution ``x -> x* + y``."""
+    return [
+        poly_add({tuple(int(i == j) for j in range(n)): Num.of(1)}, poly_constant(c, n))
+        for i, c in enumerate(point)
+    ]
+
+
 @schema("attracts", "sublevel-set-rational", "region-of-attraction-rational-field")
 def region_of_attraction_rational(model: ModelData, claim: ClaimData, checks: Checks) -> None:
     """A region of attraction of G = f Q, and Q > 0 on it: the same for f."""
@@ -133,11 +147,7 @@ def region_of_attraction_rational(model: ModelData, claim: ClaimData, checks: Ch
     eps = read_numbers(den, {"eps"}, wd)["eps"]
     require(eps > 0, "numbers", "the denominator's eps must be positive")
     t = read_multipliers(den, ["t"], n, wd)["t"]
-    point = list(claim.point or ())
-    shift = [
-        poly_add({tuple(int(i == j) for j in range(n)): Num.of(1)}, poly_constant(c, n))
-        for i, c in enumerate(point)
-    ]
+    shift = _shift(list(claim.point or ()), n)
     gap = poly_add(poly_constant(Num.of(level), n), poly_scale(v, Num.of(-1)))
     target = poly_add(poly_substitute(q, shift, n), poly_constant(Num.of(-eps), n))
     target = poly_add(target, poly_scale(poly_mul(t, gap), Num.of(-1)))
@@ -146,4 +156,46 @@ def region_of_attraction_rational(model: ModelData, claim: ClaimData, checks: Ch
         f"Q - eps - t (level - V) with eps = {eps} and t sums of squares: Q > 0 on "
         "{V <= level}, so there f = G/Q is defined, lie_f(V) = lie_G(V)/Q < 0 away from the "
         "point, and the trajectories of f are those of G at positive speed"
+    )
+
+
+@schema("globally stable", "lyapunov-domain-rational", "lyapunov-global-in-domain-rational-field")
+def lyapunov_in_domain_rational(model: ModelData, claim: ClaimData, checks: Checks) -> None:
+    """The domain invariant and V decreasing for G = f Q, and Q > 0 on the domain: the same for f.
+
+    On the domain ``Q >= eps > 0``, so f = G/Q is defined there, ``lie_f(h_j) =
+    lie_G(h_j)/Q > 0`` where ``h_j = 0`` (the domain stays forward invariant) and
+    ``lie_f(V) = lie_G(V)/Q <= -eps|y|^(2m)/Q``, with Q bounded above on the bounded
+    orbit ({V <= V(x0)} in the domain is bounded), so every trajectory tends to the point.
+    """
+    ev, w = claim.evidence, f"{claim.where}.evidence"
+    only_keys(ev, {"reparametrized", "denominator"}, w)
+    require(claim.point is not None and claim.d == 0, "equilibrium", "needs a rational point")
+    require(model.domain is not None, "domain", "this theorem needs a declared domain")
+    view, q = reparametrized(model, list(claim.point or ()))
+    checks.ok(
+        "G = f Q with Q = +-(the product of the distinct denominators), positive at the "
+        "point, is a polynomial field (built by the audit)"
+    )
+    inner = get(ev, "reparametrized", dict, w)
+    lyapunov_in_domain(view, replace(claim, evidence=inner, where=f"{w}.reparametrized"), checks)
+    n, wd = len(model.states), f"{w}.denominator"
+    den = get(ev, "denominator", dict, w)
+    only_keys(den, {"numbers", "multipliers", "squares"}, wd)
+    eps = read_numbers(den, {"eps"}, wd)["eps"]
+    require(eps > 0, "numbers", "the denominator's eps must be positive")
+    dom = model.domain or ()
+    names = [f"w{j + 1}" for j in range(len(dom))]
+    mult = read_multipliers(den, names, n, wd)
+    shift = _shift(list(claim.point or ()), n)
+    target = poly_add(poly_substitute(q, shift, n), poly_constant(Num.of(-eps), n))
+    for j, (h, _strict) in enumerate(dom):
+        hj = poly_substitute(_nominal(h, model), shift, n)
+        target = poly_add(target, poly_scale(poly_mul(mult[f"w{j + 1}"], hj), Num.of(-1)))
+    check_squares({"denominator": target, **mult}, den, n, checks, wd)
+    checks.ok(
+        f"Q - eps - sum_j w_j h_j with eps = {eps} and w_j sums of squares: Q > 0 on the "
+        "domain, so there f = G/Q is defined and its trajectories are those of G at "
+        "positive speed: the domain is forward invariant for f and every trajectory "
+        "starting in it tends to the point"
     )

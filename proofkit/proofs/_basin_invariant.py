@@ -35,7 +35,7 @@ from proofkit.certificate import claim_entry, claim_scope, not_proved_entry
 from proofkit.model import Claim, Model
 from proofkit.proofs import ProofAttempt
 
-__all__ = ["METHOD", "THEOREM", "attempt"]
+__all__ = ["METHOD", "THEOREM", "attempt", "positive_on_domain"]
 
 METHOD, THEOREM = "lyapunov-domain", "lyapunov-global-in-domain"
 MAX_CONDITIONS = 6  # m^2 + 3m + 2 obligations: 56 at m = 6 (the audit takes 64)
@@ -190,6 +190,32 @@ def _project(p0: Any, blocks: list, x0: list) -> list | str:
     return out
 
 
+def positive_on_domain(setup: Any, q_y: Any) -> dict[str, Any] | str:
+    """Evidence that ``Q(x* + y) - eps - sum_j w_j h_j`` and the ``w_j`` are sums of squares."""
+    from proofkit.proofs.basin import _sq
+
+    st = setup.setting
+    hs = [h for h, _strict in st.domain]
+    q0 = q_y.coeffs()[q_y.monoms().index((0,) * st.n)] if (0,) * st.n in q_y.monoms() else 0
+    if not q0 > 0:
+        return "Q is not positive at the point"
+    why = "no certificate"
+    for share in (16, 4, 64):
+        eps = flint.fmpq(q0) / share
+        mb, gb = _bases(_deg(q_y), [_deg(h) for h in hs], st.n)
+        fit = _joint_fit(
+            st, q_y - st.space.const(eps), [(-h, b) for h, b in zip(hs, mb, strict=True)], gb
+        )
+        if isinstance(fit, str):
+            why = fit
+            continue
+        mults = {f"w{j + 1}": _poly_json(s) for j, (s, _b, _g) in enumerate(fit[0])}
+        squares = {f"w{j + 1}": _sq(b, g) for j, (_s, b, g) in enumerate(fit[0])}
+        squares["denominator"] = _sq(gb, fit[1])
+        return {"numbers": {"eps": str(eps)}, "multipliers": mults, "squares": squares}
+    return why
+
+
 def _poly_json(p: flint.fmpq_mpoly) -> list:
     from proofkit.proofs._basin_exact import poly_json
 
@@ -318,7 +344,7 @@ def attempt(model: Model, claim: Claim, say: Say) -> ProofAttempt | None:
             ev = {"V": ev.pop("V"), **ev}
             entry = claim_entry(model, claim, "proved", method=METHOD, theorem=THEOREM, evidence=ev)
             detail = f"the domain is forward invariant and a degree-{degree} V decreases on it"
-            return ProofAttempt(entry, detail)
+            return ProofAttempt(entry, detail, trace=setup)
         tried.append(f"degree {degree}: {why}")
     return _not_proved(
         model, claim, "the domain is forward invariant, but no Lyapunov function on it was "

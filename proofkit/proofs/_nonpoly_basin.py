@@ -32,10 +32,19 @@ from proofkit.certificate import (
 from proofkit.model import Claim, Model
 from proofkit.proofs import ProofAttempt
 
-__all__ = ["METHOD", "THEOREM", "attempt", "reparametrized_model"]
+__all__ = [
+    "IN_DOMAIN_METHOD",
+    "IN_DOMAIN_THEOREM",
+    "METHOD",
+    "THEOREM",
+    "attempt",
+    "reparametrized_model",
+]
 
 METHOD = "sublevel-set-rational"
 THEOREM = "region-of-attraction-rational-field"
+IN_DOMAIN_METHOD = "lyapunov-domain-rational"
+IN_DOMAIN_THEOREM = "lyapunov-global-in-domain-rational-field"
 _T_SHARES = (0, Fraction(1, 2), Fraction(3, 4), Fraction(1, 4), Fraction(7, 8))  # t level / Q(x*)
 
 
@@ -114,8 +123,10 @@ def _denominator_evidence(
 def attempt(
     model: Model, claim: Claim, progress: Callable[[str], None] | None = None
 ) -> ProofAttempt | None:
-    """Evidence for ``claim E attracts SET`` on a rational field, or None if n/a."""
-    if claim.kind != "attracts" or model.is_polynomial():
+    """Evidence for ``attracts`` or ``globally stable`` (domain) on a rational field, or None."""
+    if claim.kind not in ("attracts", "globally stable") or model.is_polynomial():
+        return None
+    if claim.kind == "globally stable" and model.domain is None:
         return None
     field = model_section(model).get("field")
     if field is None or field.get("denominators") is None or claim_scope(model, claim) != "nominal":
@@ -130,6 +141,8 @@ def attempt(
     g_model, q = reparametrized_model(model, point)
     if progress:
         progress(f"multiplying through by the denominators: Q = {q}")
+    if claim.kind == "globally stable":
+        return _in_domain(model, claim, g_model, q, point, progress)
     inner = basin.attempt(g_model, claim, progress)
     if inner is None or inner.entry["status"] != "proved":
         why = inner.detail if inner is not None else "no basin method applies"
@@ -142,3 +155,36 @@ def attempt(
     evidence = {"reparametrized": inner.entry["evidence"], "denominator": den}
     entry = claim_entry(model, claim, "proved", method=METHOD, theorem=THEOREM, evidence=evidence)
     return ProofAttempt(entry, f"{inner.detail}, for f Q with Q = {q} > 0 on it", inner.trace)
+
+
+def _in_domain(
+    model: Model,
+    claim: Claim,
+    g_model: Model,
+    q: sp.Expr,
+    point: list[Fraction],
+    progress: Callable[[str], None] | None,
+) -> ProofAttempt:
+    """``globally stable`` inside the domain for ``G = f Q``, and ``Q > 0`` on the domain."""
+    from proofkit.proofs import _basin_invariant
+
+    say = progress or (lambda _m: None)
+    inner = _basin_invariant.attempt(g_model, claim, say)
+    if inner is None or inner.entry["status"] != "proved":
+        why = inner.detail if inner is not None else "no method applies"
+        reason = f"on the field multiplied by its denominators: {why}"
+        return ProofAttempt(not_proved_entry(model, claim, reason), reason)
+    setup = inner.trace
+    xs = model.state_symbols
+    shift = {x: x + sp.Rational(p.numerator, p.denominator) for x, p in zip(xs, point, strict=True)}
+    q_y = setup.setting.space.coerce(sp.expand(q.subs(shift, simultaneous=True)))
+    den = _basin_invariant.positive_on_domain(setup, q_y)
+    if isinstance(den, str):
+        reason = f"the denominators could not be shown positive on the domain: {den}"
+        return ProofAttempt(not_proved_entry(model, claim, reason), reason)
+    evidence = {"reparametrized": inner.entry["evidence"], "denominator": den}
+    entry = claim_entry(
+        model, claim, "proved", method=IN_DOMAIN_METHOD, theorem=IN_DOMAIN_THEOREM,
+        evidence=evidence,
+    )  # fmt: skip
+    return ProofAttempt(entry, f"{inner.detail}, for f Q with Q = {q} > 0 on the domain")

@@ -119,3 +119,45 @@ def test_rational_reason_is_the_rational_provers() -> None:
     assert outcome.detail.startswith("on the field multiplied by its denominators")
     assert "leaves the domain" in outcome.detail
     assert "not polynomial" not in outcome.detail
+
+
+# Invented for this test: Q = 2 - x >= 1 on the box; the field points strictly inward on every
+# face (computed by hand: on x = 1, dx/dt = -1; on x = -1, 1/3; on y = 2, dy/dt <= -2 + 1;
+# on y = -2, dy/dt >= 2), so the box is forward invariant.
+RATIONAL_BOX = """state x, y
+dx/dt = -x/(2 - x)
+dy/dt = -y + x^2/(2 - x)
+domain x >= -1 and x <= 1 and y >= -2 and y <= 2
+equilibrium o at x = 0, y = 0
+claim o globally stable
+"""
+
+
+def test_rational_globally_stable_in_an_invariant_box() -> None:
+    run = prove_text(RATIONAL_BOX, "rational_box.pk")
+    outcome = run.outcomes[0]
+    assert outcome.status == "proved", outcome.detail
+    assert outcome.method == "lyapunov-domain-rational"
+    assert full_audit_ok(run.text)
+    cert = json.loads(run.text)
+    for mutate in ("eps", "w1", "invariant"):
+        bad = copy.deepcopy(cert)
+        ev = bad["claims"][0]["evidence"]
+        if mutate == "eps":
+            ev["denominator"]["numbers"]["eps"] = "100"  # Q = 2 - x is 1 at x = 1
+        elif mutate == "w1":
+            ev["denominator"]["multipliers"]["w1"] = []
+        else:
+            gram = ev["reparametrized"]["squares"]["invariant 1"]["gram"]
+            gram[0][0] = str(Fraction(gram[0][0]) + 1)
+        assert audit_certificate(bad).claims[0].status == "rejected", mutate
+
+
+def test_rational_domain_through_a_pole_never_proved() -> None:
+    # the pole x = 1003/3000 lies inside the box between grid points; for x past it
+    # dx/dt > 0 (computed by hand), so the box is not invariant and the claim is false
+    text = RATIONAL_BOX.replace("-x/(2 - x)", "x/(x - 1/3 - 1/1000)").replace("x^2/(2 - x)", "0")
+    text = text.replace("x >= -1 and x <= 1", "x >= -1/2 and x <= 1/2")
+    run = prove_text(text, "rational_pole_box.pk")
+    assert run.outcomes[0].status != "proved"
+    assert full_audit_ok(run.text)
