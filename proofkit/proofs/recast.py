@@ -22,6 +22,7 @@ proved by itself.
 
 from __future__ import annotations
 
+import time
 from collections.abc import Callable
 from dataclasses import dataclass
 from fractions import Fraction
@@ -45,7 +46,9 @@ __all__ = ["RecastResult", "attempt", "region_search"]
 EPS = Fraction(1, 1000)
 ENCLOSURE_BITS = 48
 LEVELS = (1.0, 0.9, 0.7, 0.5)
-MARGIN = 1e-6  # smallest Gram eigenvalue kept by the shape step (room for rounding)
+MARGIN = 3e-5  # smallest Gram eigenvalue kept by the shape step (room for rounding) ...
+MIN_MARGIN = 1e-6  # ... divided by 3 after a round that gained less than SLOW_GAIN, down to this
+SLOW_GAIN = 0.01
 
 
 @dataclass(frozen=True)
@@ -253,6 +256,7 @@ def region_search(
     order: int = 1,
     rounds: int = 1,
     margin: float = MARGIN,
+    time_limit: float | None = None,
     s0_scale: float = 0.1,
     progress: Callable[[str], None] | None = None,
 ) -> RecastResult:
@@ -272,7 +276,11 @@ def region_search(
     lifted = prob.system.lift(samples_x)
     start = _initial_s0(data, s0_scale)
     s0, best, score = start, RecastResult(None, "the numerical search found no V"), -1.0
+    clock = time.monotonic()
     for r in range(rounds):
+        if time_limit is not None and r and time.monotonic() - clock > time_limit:
+            say(f"recast: time limit of {time_limit:g} s reached after {r} round(s)")
+            break
         say(f"recast: round {r + 1}: V of degree {degree} in {', '.join(prob.system.names)}")
         v_num = shape_step(data, degree, s0, lifted, margin)
         if v_num is None:
@@ -283,6 +291,8 @@ def region_search(
             break
         frac = _inside(res, lifted)
         say(f"recast: round {r + 1}: {100 * frac:.1f} % of the sample points certified")
+        if frac - score < SLOW_GAIN:  # small steps: let the shape step go closer to the edge
+            margin = max(margin / 3, MIN_MARGIN)
         if frac > score:
             best, score = res, frac
         s0 = _next_s0(hint, float(Fraction(res.evidence["numbers"]["level"])), start)
