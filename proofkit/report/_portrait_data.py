@@ -181,9 +181,11 @@ def model_portrait_data(
 
     points = _points(survey, names, fixed)
     regions: tuple[PortraitRegion, ...] = ()
+    outlines: tuple[PortraitRegion, ...] = ()
     if certificate is not None and len(m.states) == 2:
         drawn = certificate_data(dict(certificate))
         regions = drawn.regions if drawn is not None else ()
+        outlines = drawn.outlines if drawn is not None else ()
     domain = _domain_fn(m, names, fixed)
     box = _box(points, domain, [*cycles, *region_extents(regions, points)])
     where = ", ".join(f"{s} = {v:g}" for s, v in fixed.items())
@@ -194,7 +196,16 @@ def model_portrait_data(
         note = "nominal parameter values; " + note
     title = f"phase portrait of {model.name or 'the model'}"
     return PortraitData(
-        title, names, field, box, points, regions, tuple(cycles), note, domain=domain
+        title,
+        names,
+        field,
+        box,
+        points,
+        regions,
+        tuple(cycles),
+        note,
+        domain=domain,
+        outlines=outlines,
     )
 
 
@@ -329,12 +340,16 @@ def _cert_regions(
     if kind == "no cycle" and conds:
         return [PortraitRegion("certified free of periodic orbits", _outside(conds), 0.0)]
     found = _sublevel_set(entry, xy, model or {})
-    if found is None:
+    return [] if found is None else [found]
+
+
+def _claim_outline(entry: dict[str, Any]) -> list[PortraitRegion]:
+    """The set of a proved ``attracts`` claim, to outline (``{max_i -g_i <= 0}``)."""
+    claim = entry.get("claim") if isinstance(entry.get("claim"), dict) else {}
+    conds = claim.get("set") if claim else None
+    if entry.get("status") != "proved" or claim.get("kind") != "attracts" or not conds:
         return []
-    out = [found]
-    if kind == "attracts" and conds:
-        out.append(PortraitRegion("the claim's set", _outside(conds), 0.0, outline=True))
-    return out
+    return [PortraitRegion("the claim's set", _outside(conds), 0.0)]
 
 
 def _sublevel_set(
@@ -418,10 +433,12 @@ def certificate_data(cert: dict[str, Any]) -> PortraitData | None:
         return None
     verdicts: dict[tuple[float, float], tuple[str | None, str]] = {}
     regions: list[PortraitRegion] = []
+    outlines: list[PortraitRegion] = []
     for entry in cert.get("claims", []):
         found = _cert_point(entry)
         xy = found[1] if found else None
         regions += _cert_regions(entry, xy, model)
+        outlines += _claim_outline(entry)
         if found is None:
             continue
         kind = entry["claim"]["kind"] if isinstance(entry.get("claim"), dict) else entry.get("kind")
@@ -443,6 +460,7 @@ def certificate_data(cert: dict[str, Any]) -> PortraitData | None:
         tuple(regions),
         note="marks: verdicts the audit accepted in this certificate",
         domain=domain,
+        outlines=tuple(outlines),
     )
 
 

@@ -63,16 +63,12 @@ class PortraitPoint:
 
 @dataclass(frozen=True)
 class PortraitRegion:
-    """The set ``{func <= level}`` (or the band ``level <= func <= upper``) to shade.
-
-    ``outline``: only its boundary is drawn (dashed), e.g. a claim's set.
-    """
+    """The set ``{func <= level}`` (or the band ``level <= func <= upper``) to shade."""
 
     label: str
     func: Scalar
     level: float
     upper: float | None = None
-    outline: bool = False
 
 
 @dataclass(frozen=True)
@@ -89,6 +85,7 @@ class PortraitData:
     note: str = ""
     trajectories: int = 4
     domain: Scalar | None = None  # True inside the model's domain (outlined when bounded)
+    outlines: tuple[PortraitRegion, ...] = ()  # claims' sets: boundary only, dashed
     extra: dict[str, Any] = field(default_factory=dict, compare=False)
 
 
@@ -309,8 +306,7 @@ def _draw_regions(ax: Any, data: PortraitData) -> list[Any]:
 
     gx, gy = _grid(data.box, 160)
     handles, colours = [], ("tab:green", "tab:purple", "tab:orange", "tab:cyan")
-    shaded = [r for r in data.regions if not r.outline]
-    for i, r in enumerate(shaded):
+    for i, r in enumerate(data.regions):
         colour = colours[i % len(colours)]
         z = _on_grid(r.func, gx, gy)
         if not np.isfinite(z).any():
@@ -351,8 +347,8 @@ def _draw_outlines(ax: Any, data: PortraitData, gx: Any, gy: Any) -> list[Any]:
     from matplotlib.lines import Line2D
 
     handles = []
-    for r in data.regions:
-        z = _on_grid(r.func, gx, gy) if r.outline else np.array([np.nan])
+    for r in data.outlines:
+        z = _on_grid(r.func, gx, gy)
         if not np.isfinite(z).any() or not (z <= r.level).any() or not (z > r.level).any():
             continue
         cs = ax.contour(

@@ -253,7 +253,7 @@ def test_swing_machine_certified_region_holds_the_disc_and_not_the_saddle() -> N
     assert region.contains_points(disc * 0.97).all() and region.contains_points([[0.0, 0.0]])[0]
     # computed (sin(d + pi/3) = sin(pi/3) at d = pi/3, w = 0): the saddle of the swing equation
     assert not region.contains_points([[math.pi / 3, 0.0], [math.pi / 3 - 0.1, 0.0]]).any()
-    [shaded] = [r for r in data.regions if not r.outline]
+    [shaded] = data.regions
     assert shaded.func(math.pi / 3, 0.0) > shaded.level >= float(np.max(shaded.func(*disc.T)))
     outline = [c for c in ax.collections if c.get_gid() == "outline the claim's set"]
     assert len(outline) == 1  # the claim's disc is drawn as well
