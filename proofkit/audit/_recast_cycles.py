@@ -96,6 +96,9 @@ def atom_rules(
         t = _var(base + k, nz)
         rules.append((base + k, poly_add(one, poly_scale(poly_mul(t, t), Num.of(-1))), delta))
     require(len(rules) == nz - n, "recast", "the atoms do not match the recast variables")
+    letters = "".join(rc.names[j][0] for j, _r, _d in rules)
+    expected = "SC" * len(walk.pairs) + "E" * len(walk.exps) + "T" * len(walk.tanhs)
+    require(letters == expected, "recast", "the atoms do not match the recast variables")
     return rules
 
 
