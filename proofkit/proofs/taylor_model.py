@@ -1,0 +1,304 @@
+"""Lyapunov and region-of-attraction proofs for sin/cos fields by Taylor models.
+
+A Taylor model of an atom is its Taylor polynomial plus a rigorously bounded
+remainder: ``sin(delta) = T_k(delta) + delta^(k+1)/(k+1)! u`` with
+``|u| <= 1`` for every real ``delta`` (Lagrange's remainder; every derivative
+of sin and cos is at most 1), the same for cos. The field becomes a
+polynomial in the deviation ``y`` and the remainders ``u``, affine in each
+``u``; the remainders are a bounded uncertainty, handled by requiring the
+decrease at every *vertex field* (each ``u = +-1``; ``sqrt d`` at both ends
+of a rational enclosure when constants lie in Q(sqrt d)) with the level's
+S-procedure multiplier. ``V`` is a polynomial in ``y`` only, so the
+certified set ``{V <= level}`` is a plain sublevel set in the states. Never a
+truncated Taylor polynomial treated as the field.
+
+Public: :func:`attempt` (the prover interface of :mod:`proofkit.proofs`,
+tried after the recast) and :func:`region_search` (one region-of-attraction
+search towards given sample points, e.g. a simulated region). Searching is
+numerical (:mod:`proofkit.proofs._taylor_search`, cvxpy + Clarabel); the
+entry is exact (:mod:`proofkit.proofs._taylor_exact`) and only the audit
+(schemas ``taylor-model-lyapunov-local``, ``taylor-model-region-of-attraction``)
+decides. This module never marks a claim proved by itself.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from fractions import Fraction
+from math import ceil, log2
+from typing import TYPE_CHECKING, Any
+
+import flint
+import numpy as np
+
+from proofkit.certificate import claim_entry, claim_scope, claim_structure, model_section
+from proofkit.proofs._taylor_exact import ExactProblem, exact_evidence
+from proofkit.proofs._taylor_search import Hint, TaylorSearch
+from proofkit.proofs._taylor_system import Unsupported, taylor_system
+
+if TYPE_CHECKING:
+    from proofkit.model import Claim, Model
+    from proofkit.proofs import ProofAttempt
+
+__all__ = ["TaylorResult", "attempt", "region_search"]
+
+EPS = Fraction(1, 1000)
+METHOD = "taylor-model"
+NumPoly = dict[tuple[int, ...], float]
+
+
+@dataclass(frozen=True)
+class TaylorResult:
+    """Exact evidence (or None with the reason), the numerical V (in y) and the rounds run."""
+
+    evidence: dict[str, Any] | None
+    reason: str
+    rounds: int = 0
+
+
+def _q(x: Fraction) -> flint.fmpq:
+    return flint.fmpq(x.numerator, x.denominator)
+
+
+def _state_poly(ctx: Any, point: tuple[Fraction, ...], data: list[Any]) -> flint.fmpq_mpoly:
+    """A POLY over the states, at ``x* + y``."""
+    g = ctx.gens()
+    acc = ctx.constant(0)
+    for exps, coef in data:
+        term = ctx.constant(_q(Fraction(coef)))
+        for i, k in enumerate(exps):
+            if k:
+                term = term * (g[i] + ctx.constant(_q(point[i]))) ** k
+        acc = acc + term
+    return acc
+
+
+def _problem(
+    model: Model, claim: Claim, orders: tuple[int, int], scale: tuple[Fraction, ...] | None
+) -> ExactProblem | str:
+    if claim.kind not in ("stable", "attracts"):
+        return "Taylor models prove stable and attracts claims"
+    if claim_scope(model, claim) != "nominal":
+        return "Taylor models prove claims at the nominal parameter values only"
+    section = model_section(model)
+    trees = (section.get("expressions") or {}).get("components")
+    if not trees:
+        return "the field is polynomial or rational, or has no expression trees"
+    eq = claim_structure(model, claim).get("equilibrium") or {}
+    pt = eq.get("point")
+    if pt is None or not all(isinstance(x, str) for x in pt):
+        return "Taylor models need a rational equilibrium point"
+    nominal = []
+    for p in model.params:
+        if p.is_uncertain:
+            if not p.nominal.is_Rational:
+                return f"the nominal value of {p.name} is not rational"
+            nominal.append(Fraction(int(p.nominal.p), int(p.nominal.q)))
+    point = [Fraction(x) for x in pt]
+    try:
+        system = taylor_system(trees, point, nominal, orders)
+    except Unsupported as exc:
+        return f"no Taylor model: {exc}"
+    ctx, pnt = system.ctx, system.point
+    structure = claim_structure(model, claim)
+    sets = tuple(_state_poly(ctx, pnt, c["g"]) for c in structure.get("set") or [])
+    dom = tuple((_state_poly(ctx, pnt, c["g"]), c["strict"]) for c in section.get("domain") or [])
+    return ExactProblem(system, scale or tuple([Fraction(1)] * len(point)), EPS, sets, dom)
+
+
+def _to_z(p: flint.fmpq_mpoly, scale: np.ndarray, divide: float = 1.0) -> NumPoly:
+    return {
+        tuple(map(int, e)): float(c) * float(np.prod(scale ** np.array(e, float))) / divide
+        for e, c in p.terms()
+    }
+
+
+def _search_problem(prob: ExactProblem, degree: int) -> TaylorSearch:
+    d = np.array([float(x) for x in prob.scale])
+    n = prob.system.n
+    fields = [
+        (lbl, [_to_z(fi, d, d[i]) for i, fi in enumerate(fld)]) for lbl, fld in prob.system.vertices
+    ]
+    slack = 1.5 * float(EPS)  # the search asks a little more than the certificate states
+    norm = {tuple(2 * int(i == j) for j in range(n)): slack * d[i] ** 2 for i in range(n)}
+    sets = [_to_z(g, d) for g in prob.sets]
+    dom = []
+    for h, strict in prob.domain:
+        hz = _to_z(h, d)
+        if strict:
+            zero = tuple([0] * n)
+            hz[zero] = hz.get(zero, 0.0) - float(EPS)
+        dom.append(hz)
+    return TaylorSearch(n, fields, norm, sets, dom, degree)
+
+
+def _initial_v(search: TaylorSearch) -> NumPoly | None:
+    """``z' P z`` with ``A' P + P A = -I`` for the linear part (a hint only)."""
+    from scipy.linalg import solve_continuous_lyapunov
+
+    n = search.n
+    a = np.zeros((n, n))
+    for i, fi in enumerate(search.fields[0][1]):
+        for j in range(n):
+            a[i, j] = fi.get(tuple(int(k == j) for k in range(n)), 0.0)
+    if np.max(np.linalg.eigvals(a).real) >= 0:
+        return None
+    p = solve_continuous_lyapunov(a.T, -np.eye(n))
+    v: NumPoly = {}
+    for i in range(n):
+        for j in range(n):
+            e = tuple(int(k == i) + int(k == j) for k in range(n))
+            v[e] = v.get(e, 0.0) + float(p[i, j])
+    return v
+
+
+def _scale(samples_y: np.ndarray) -> tuple[Fraction, ...]:
+    top = np.max(np.abs(samples_y), axis=0) if len(samples_y) else np.ones(samples_y.shape[1])
+    return tuple(Fraction(2) ** ceil(log2(max(float(t), 2.0**-10))) for t in top)
+
+
+def _iterate(
+    search: TaylorSearch, samples_z: np.ndarray, rounds: int, say: Callable[[str], None]
+) -> tuple[NumPoly, Hint] | str:
+    v = _initial_v(search)
+    if v is None:
+        return "the linearization is not Hurwitz (a strict Lyapunov function cannot exist)"
+    best: tuple[float, NumPoly, Hint] | None = None
+    c_hint = 1.0
+    for k in range(rounds):
+        hint = search.level(v, c_hint)
+        if hint is None:
+            break
+        exps = np.array(list(v), dtype=np.int64)
+        feats = np.prod(samples_z[:, None, :] ** exps[None, :, :], axis=2)
+        vals = feats @ np.array(list(v.values()))
+        cover = float(np.mean(vals <= hint.c))
+        say(f"taylor-model: round {k + 1}: level {hint.c:.4g}, {100 * cover:.1f} % of the samples")
+        if best is None or cover > best[0]:
+            best = (cover, v, hint)
+        if k + 1 == rounds or cover >= 1.0:
+            break
+        nxt = search.shape(hint, samples_z)
+        if nxt is None:
+            break
+        v, c_hint = nxt, hint.c
+    if best is None:
+        return "no decreasing level found for the numerical V"
+    return best[1], best[2]
+
+
+def _certify(
+    prob: ExactProblem, search: TaylorSearch, v: NumPoly, hint: Hint, say: Callable[[str], None]
+) -> dict[str, Any] | str:
+    why = "no level could be certified"
+    for shrink in (1.0, 0.9, 0.7):
+        level = Fraction(hint.c * shrink).limit_denominator(1000)
+        say(f"taylor-model: exact certificate at level {level}")
+        h = search.hint(v, float(level))
+        if h is None:
+            why = f"no multipliers with a positive margin at level {level}"
+            continue
+        inside = None
+        if prob.sets:
+            inside = search.inside_hint(v, float(level))
+            if inside is None:
+                return f"the claim's set does not lie in the certified level set {{V <= {level}}}"
+        out = exact_evidence(prob, v, level, h, inside)
+        if isinstance(out, dict):
+            return out
+        why = out
+    return why
+
+
+def region_search(
+    model: Model,
+    claim: Claim,
+    samples_x: np.ndarray,
+    *,
+    degree: int = 6,
+    orders: tuple[int, int] = (8, 9),
+    rounds: int = 6,
+    progress: Callable[[str], None] | None = None,
+) -> TaylorResult:
+    """V of ``degree`` towards ``{V <= level}`` holding the sample points; exact evidence.
+
+    ``orders`` are the Taylor orders of the sin and cos models; ``rounds`` the
+    V-s iterations. The evidence (when found) follows the audit's
+    ``taylor-model-*`` schema for this claim; only the audit decides.
+    """
+    say = progress or (lambda _m: None)
+    first = _problem(model, claim, orders, None)
+    if isinstance(first, str):
+        return TaylorResult(None, first)
+    point = np.array([float(x) for x in first.system.point])
+    samples_y = np.asarray(samples_x, float) - point
+    prob = _problem(model, claim, orders, _scale(samples_y))
+    assert not isinstance(prob, str)
+    search = _search_problem(prob, degree)
+    d = np.array([float(x) for x in prob.scale])
+    found = _iterate(search, samples_y / d, rounds, say)
+    if isinstance(found, str):
+        return TaylorResult(None, found)
+    v, hint = found
+    out = _certify(prob, search, v, hint, say)
+    if isinstance(out, str):
+        return TaylorResult(None, out, rounds)
+    return TaylorResult(out, f"certified at level {out['numbers']['level']}", rounds)
+
+
+def _samples(prob: ExactProblem, claim: Claim, count: int = 300) -> np.ndarray:
+    """Points of the claim's set (attracts) or of a small box (stable) around the point."""
+    n = prob.system.n
+    center = np.array([float(x) for x in prob.system.point])
+    rng = np.random.default_rng(11)
+    if claim.kind == "stable":
+        return center + 0.05 * rng.uniform(-1, 1, (count, n))
+    for half in (4.0, 1.0, 0.25, 0.0625):  # shrink the box until the set is well sampled
+        y = rng.uniform(-half, half, (count * 20, n))
+        keep = np.ones(len(y), bool)
+        for g in prob.sets:
+            gz = _to_z(g, np.ones(n))
+            exps = np.array(list(gz), dtype=np.int64).reshape(-1, n)
+            vals = np.prod(y[:, None, :] ** exps[None, :, :], axis=2) @ np.array(list(gz.values()))
+            keep &= vals >= 0
+        if keep.sum() >= count // 4:
+            break
+    return center + (y[keep][:count] if keep.any() else np.zeros((1, n)))
+
+
+# (degree of V, (order of sin, order of cos), rounds): tried in turn by attempt
+SETTINGS = {"stable": ((2, (2, 3), 1),), "attracts": ((4, (4, 5), 3), (6, (6, 7), 3))}
+
+
+def attempt(model: Model, claim: Claim, progress: Callable[[str], None]) -> ProofAttempt | None:
+    """The prover interface: an entry to be audited for stable/attracts claims, or None."""
+    from proofkit.certificate import not_proved_entry
+    from proofkit.proofs import ProofAttempt
+
+    first = _problem(model, claim, (2, 3), None)
+    if isinstance(first, str):
+        return None
+    if model.at_nominal().definedness:
+        reason = "Taylor-model certificates state the field on the whole space (no conditions)"
+        return ProofAttempt(not_proved_entry(model, claim, reason), reason)
+    theorem = (
+        "taylor-model-lyapunov-local"
+        if claim.kind == "stable"
+        else "taylor-model-region-of-attraction"
+    )
+    samples = _samples(first, claim)
+    why = "no certificate found"
+    for degree, orders, rounds in SETTINGS[claim.kind]:
+        res = region_search(
+            model, claim, samples, degree=degree, orders=orders, rounds=rounds, progress=progress
+        )
+        if res.evidence is not None:
+            entry = claim_entry(
+                model, claim, "proved", method=METHOD, theorem=theorem, evidence=res.evidence
+            )
+            detail = f"taylor-model: V of degree {degree}, orders {orders}, {res.reason}"
+            return ProofAttempt(entry, detail)
+        why = res.reason
+    reason = f"Taylor models found no certificate: {why}"
+    return ProofAttempt(not_proved_entry(model, claim, reason), reason)
