@@ -37,6 +37,7 @@ PROVERS = (
     "_nonpoly_basin",
     "_nonpoly_cycles",
     "recast",
+    "taylor_model",
 )
 NO_METHOD = "no method for this claim kind yet"
 AUDIT_SECONDS = 300.0  # prove audits its own certificate: a generous budget (audit: 8 s)
