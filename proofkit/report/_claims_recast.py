@@ -371,7 +371,8 @@ def _base(name: str, domain: Sequence[Any] | None, arg: str = "z") -> str:
 
 _MEANING = (
     "What this proves for the states. Put W(x) = V(x - x*, recast(x)), the recast variables "
-    "evaluated at x (S = sin delta(x - x*), C = cos delta(x - x*) - 1, E = exp delta(x - x*) - 1). "
+    "evaluated at x (S = sin delta, C = cos delta - 1, E = exp delta - 1, T = tanh delta, each "
+    "delta at x - x*). "
     "For every state x the point z = recast(x) satisfies every equality and every Taylor "
     "inequality above, so each obligation, a sum of squares plus multiples of constraints that "
     "are >= 0 (sum-of-squares multipliers) or = 0 (free multipliers) at z, is >= 0 at z. Along a "
