@@ -284,6 +284,7 @@ def _set_obligations(setting: ExactSetting, v: Any, level: Fraction, ev: dict) -
         eps = sp_.const(flint.fmpq(setting.eps.numerator, setting.eps.denominator))
         p0 = hj - eps if strict else hj
         top = max(dv, _degree(hj))
+        top += top % 2  # as the level probe's domain blocks (sos/ascent.py)
         fit = _obligation(setting, p0, [(-gap, _half_basis(n, top - dv))], _half_basis(n, top))
         if isinstance(fit, str):
             return f"{{V <= level}} is not shown inside domain condition {j + 1}: {fit}"
