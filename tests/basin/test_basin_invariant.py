@@ -15,6 +15,8 @@ import json
 from fractions import Fraction
 
 import pytest
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 
 import proofkit
 from proofkit.audit import audit_certificate, audit_text
@@ -77,3 +79,17 @@ def test_second_equilibrium_on_the_face_is_never_proved() -> None:
     assert prove_model(model).outcomes[0].status != "proved"
     got = basin.attempt(model, model.claims[0])
     assert "not shown forward invariant at condition 2" in got.detail  # the face x = 1
+
+
+@settings(max_examples=4, deadline=None)
+@given(
+    hi=st.fractions(min_value=1, max_value=3, max_denominator=4),
+    lo=st.fractions(min_value=Fraction(1, 4), max_value=2, max_denominator=4),
+)
+def test_boxes_reaching_the_second_equilibrium_are_never_proved(hi, lo) -> None:
+    # x <= hi with hi >= 1 holds (1, 0), which never moves (derived, conftest): a false claim
+    assume(hi >= 1)
+    text = STRIP_ORIGIN + f"domain x >= -({lo}) and x <= {hi} and y >= -1 and y <= 1\n" + CLAIM
+    model = proofkit.parse(text, "strip_wide.pk")
+    got = basin.attempt(model, model.claims[0])
+    assert got is None or got.entry["status"] != "proved"
