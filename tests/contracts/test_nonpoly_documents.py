@@ -350,3 +350,20 @@ def test_taylor_model_section_states_the_models_and_the_field() -> None:
     assert "u_{1} - \\frac{1}{12} x^{3} u_{2} + \\left(\\frac{1}{12}\\sqrt{3}\\right) x^{3}" in md
     assert "| decrease lo (+1, +1) | $-\\nabla V \\cdot F_{\\mathrm{lo (+1, +1)}}(y)" in md
     assert "Why the vertex fields suffice" in md and "plain sublevel set in the states" in md
+
+
+def test_rational_basin_picture_draws_the_reparametrized_sublevel_set(chemostat) -> None:
+    from proofkit.report.figures import certificate_portrait_data
+
+    data = certificate_portrait_data(chemostat.certificate)
+    assert data is not None
+    [region] = data.regions
+    [outline] = data.outlines
+    assert region.label == "certified region of attraction of coexist"
+    angle = np.linspace(0.0, 2 * math.pi, 48, endpoint=False)
+    disc = (1 + 0.5 * np.cos(angle), 3 + 0.5 * np.sin(angle))  # the claim's circle
+    assert float(np.max(region.func(*disc))) <= region.level  # the claim's set is inside
+    assert float(np.max(outline.func(*disc))) == pytest.approx(0.0, abs=1e-12)
+    # computed by hand: the washout point (s, b) = (4, 0) is another equilibrium of the
+    # chemostat, so no certified region of coexist may hold it
+    assert region.func(4.0, 0.0) > region.level
