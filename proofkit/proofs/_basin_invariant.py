@@ -41,6 +41,7 @@ METHOD, THEOREM = "lyapunov-domain", "lyapunov-global-in-domain"
 MAX_CONDITIONS = 6  # m^2 + 3m + 2 obligations: 56 at m = 6 (the audit takes 64)
 DEGREES = (2, 4, 6)
 BUDGET = 30.0  # seconds for the V search of one claim
+MAX_UNKNOWNS = 3000  # Gram entries of one obligation in the joint exact projection
 Say = Callable[[str], None]
 
 
@@ -148,6 +149,8 @@ def _project(p0: Any, blocks: list, x0: list) -> list | str:
         for i in range(b.shape[0])
         for j in range(i, b.shape[0])
     ]
+    if len(cols) > MAX_UNKNOWNS:
+        return f"the exact projection would have {len(cols)} unknowns (limit {MAX_UNKNOWNS})"
     rows: dict[tuple[int, ...], int] = {}
     entries: dict[tuple[int, int], flint.fmpq] = {}
     for col, (k, i, j) in enumerate(cols):
@@ -223,9 +226,12 @@ def _poly_json(p: flint.fmpq_mpoly) -> list:
 
 
 def _v_program(setup: Any, degree: int) -> Any:
-    """Numerical V (scaled coordinates) with both Lyapunov inequalities on D, or None."""
+    """Numerical V (scaled coordinates) with both Lyapunov inequalities on D, or why not."""
+    import warnings
+
     import cvxpy as cp
 
+    from proofkit.proofs.basin import MAX_GRAM
     from proofkit.sos._ascent_maps import MonoIndex, gram_map, lie_map, monomials, mult_map
 
     st = setup.setting
@@ -245,7 +251,13 @@ def _v_program(setup: Any, degree: int) -> Any:
         return q
 
     dhs = [int(h.exps.sum(axis=1).max(initial=0)) for h in hs]
-    for d_target, sign in ((degree, 1.0), (degree + field_deg - 1, -1.0)):
+    targets = ((degree, 1.0), (degree + field_deg - 1, -1.0))
+    rows = max(
+        b.shape[0] for d, _s in targets for b in [*_bases(d, dhs, n, 1)[0], _bases(d, dhs, n, 1)[1]]
+    )
+    if rows > MAX_GRAM:
+        return f"a Gram matrix would have {rows} rows (limit {MAX_GRAM})"
+    for d_target, sign in targets:
         mb, basis = _bases(d_target, dhs, n, low=1)
         top = max(2 * int(b.sum(axis=1).max(initial=0)) + d for b, d in zip(mb, dhs, strict=True))
         idx = MonoIndex(n, max(top, d_target, 2 * int(basis.sum(axis=1).max(initial=0))))
@@ -261,13 +273,14 @@ def _v_program(setup: Any, degree: int) -> Any:
     cons.append(cp.sum(vv[quad]) == 1)
     prob = cp.Problem(cp.Maximize(lam), cons)
     try:
-        prob.solve(solver="CLARABEL")
+        with warnings.catch_warnings():  # "inaccurate" is in prob.status already
+            warnings.simplefilter("ignore", UserWarning)
+            prob.solve(solver="CLARABEL")
     except cp.error.SolverError:
-        return None
-    if prob.status not in ("optimal", "optimal_inaccurate") or lam.value is None:
-        return None
-    if float(lam.value) <= 1e-9 or vv.value is None:
-        return None
+        return "the solver failed"
+    ok = prob.status in ("optimal", "optimal_inaccurate") and lam.value is not None
+    if not ok or float(lam.value) <= 1e-9 or vv.value is None:
+        return "no numerical V (no positive margin)"
     from proofkit.sos._ascent_maps import NumPoly
 
     return NumPoly(supp, np.asarray(vv.value, dtype=float))
@@ -339,7 +352,7 @@ def attempt(model: Model, claim: Claim, say: Say) -> ProofAttempt | None:
             break
         say(f"Lyapunov function of degree {degree} on the domain")
         v_num = _v_program(setup, degree)
-        why = "no numerical V" if v_num is None else _lyapunov_evidence(setup, v_num, ev)
+        why = v_num if isinstance(v_num, str) else _lyapunov_evidence(setup, v_num, ev)
         if why is None:
             ev = {"V": ev.pop("V"), **ev}
             entry = claim_entry(model, claim, "proved", method=METHOD, theorem=THEOREM, evidence=ev)
