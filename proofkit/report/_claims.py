@@ -66,6 +66,34 @@ def _counterexample(claim: Any, states: list[str]) -> list[Block]:
     return out
 
 
+def _nonpoly_section(claim: Any, model: Any, raw: Mapping[str, Any]) -> Any:
+    """The section builder of a non-polynomial method (a function of the appendix), or None."""
+    from proofkit.report import _claims_nonpoly as nonpoly
+    from proofkit.report import _claims_rational as rational
+
+    method, ev = claim.method, claim.evidence
+    trees, exact = raw.get("expressions"), raw.get("exact")
+    if method == "recast":
+        from proofkit.report._claims_recast import recast_blocks
+
+        return lambda app: recast_blocks(claim, model, app, trees)
+    if method == "taylor-model":
+        from proofkit.report._claims_taylor import taylor_model_blocks
+
+        return lambda app: taylor_model_blocks(claim, model, app, trees)
+    if method == "sublevel-set-rational":
+        return lambda app: rational.rational_basin_blocks(claim, model, app)
+    if method in RATIONAL_CYCLES:
+        return lambda app: rational.rational_cycle_blocks(claim, model, app)
+    if method == "linearization-enclosure":
+        return lambda _app: nonpoly.enclosure_blocks(claim, model, exact)
+    if method == "range-enclosure" and "pieces" in ev:
+        return lambda _app: nonpoly.range_enclosure_blocks(claim, model, exact)
+    if method == "linearization-rational" and "jacobian" in ev:
+        return lambda _app: rational.rational_linearization_blocks(claim, model)
+    return None
+
+
 def generic_blocks(claim: Any) -> list[Block]:
     """The evidence of a method no section knows: listed as it stands, with its obligations."""
     ev = claim.evidence
@@ -165,29 +193,20 @@ def claim_blocks(
 def _evidence_blocks(
     claim: Any, model: Any, appendix: list[Block], raw: Mapping[str, Any]
 ) -> list[Block]:
-    from proofkit.report import _claims_nonpoly as nonpoly
-    from proofkit.report import _claims_rational as rational
+    from sympy.polys.polyerrors import PolynomialError
 
     ev, states = claim.evidence, list(model.states) if model is not None else []
-    method = claim.method
-    if model is not None and method == "recast":
-        from proofkit.report._claims_recast import recast_blocks
-
-        return recast_blocks(claim, model, appendix, raw.get("expressions"))
-    if model is not None and method == "taylor-model":
-        from proofkit.report._claims_taylor import taylor_model_blocks
-
-        return taylor_model_blocks(claim, model, appendix, raw.get("expressions"))
-    if model is not None and method == "sublevel-set-rational":
-        return rational.rational_basin_blocks(claim, model, appendix)
-    if model is not None and method in RATIONAL_CYCLES:
-        return rational.rational_cycle_blocks(claim, model, appendix)
-    if method == "linearization-enclosure":
-        return nonpoly.enclosure_blocks(claim, model, raw.get("exact"))
-    if method == "range-enclosure" and "pieces" in ev:
-        return nonpoly.range_enclosure_blocks(claim, model, raw.get("exact"))
-    if model is not None and method == "linearization-rational" and "jacobian" in ev:
-        return rational.rational_linearization_blocks(claim, model)
+    section = _nonpoly_section(claim, model, raw) if model is not None else None
+    if section is not None:
+        part: list[Block] = []
+        try:
+            out = section(part)
+        except (ArithmeticError, LookupError, PolynomialError, TypeError, ValueError) as exc:
+            # the audit accepted this entry; only the line-by-line description failed
+            note = f"The line-by-line description of this method could not be rebuilt ({exc})."
+            return [para(t(note)), *generic_blocks(claim)]
+        appendix += part
+        return out
     if "jacobian" in ev and "routh" in ev:
         return linearization_blocks(claim, states)
     if "squares" in ev and (claim.theorem in THEOREMS or claim.theorem is None):

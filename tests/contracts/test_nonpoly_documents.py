@@ -367,3 +367,20 @@ def test_rational_basin_picture_draws_the_reparametrized_sublevel_set(chemostat)
     # computed by hand: the washout point (s, b) = (4, 0) is another equilibrium of the
     # chemostat, so no certified region of coexist may hold it
     assert region.func(4.0, 0.0) > region.level
+
+
+def test_a_description_that_cannot_be_rebuilt_falls_back_to_the_listing(swing) -> None:
+    import copy
+
+    from proofkit.report._claims import claim_blocks
+    from proofkit.report.writers import to_markdown
+
+    cert, _md = swing
+    bad = copy.deepcopy(cert)
+    ev = bad["claims"][1]["evidence"]
+    ev["V"] = [[[2, 0, 0, 0, 1], "1"]]  # one variable more than the recast system has
+    view = read(bad)
+    verdict = SimpleNamespace(status="proved", checked=("checked",))
+    raw = {"expressions": bad["model"]["expressions"]}
+    md = to_markdown(claim_blocks(view.claims[1], verdict, view.model, [], raw))
+    assert "could not be rebuilt" in md and "Method recast, theorem recast-region" in md
