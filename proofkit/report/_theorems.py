@@ -154,6 +154,18 @@ THEOREMS: dict[str, tuple[str, str]] = {
         "As for the local theorem, and the claim's set lies in {V <= level}, which lies in the "
         "domain: every trajectory from the claim's set converges to the equilibrium." + _SOS,
     ),
+    "indirect-method-instability-at-a-value-by-enclosure": (
+        "Lyapunov's indirect method (instability) at one parameter value, by interval enclosure",
+        "At the parameter value shown the box holds one equilibrium and the Routh first column "
+        "over the Jacobian enclosure has a sign change: it is unstable there, so a claim of "
+        "stability for every value in the range is false." + _ROUTH,
+    ),
+    "indirect-method-stability-at-a-value-by-enclosure": (
+        "Lyapunov's indirect method at one parameter value, by interval enclosure",
+        "At the parameter value shown the box holds one equilibrium and the Routh first column "
+        "over the Jacobian enclosure is positive: it is stable there, so a claim of "
+        "instability for every value in the range is false." + _ROUTH,
+    ),
     "recast-lyapunov-local": (
         "Lyapunov's theorem on a sublevel set of the recast system (recasting, S-procedure)",
         "If V(y, z) >= eps |y|^2 and its derivative along the recast field is <= -eps |y|^2 "
