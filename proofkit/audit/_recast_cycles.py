@@ -17,12 +17,15 @@ delta/dy_i``) the divergence ``div(b f)(x) = P(z(x))`` for the polynomial
 
 built here. Obligation ``divergence``: ``P - eps - sum_i s_i g_i(origin + y) -
 sum_k lambda_k circle_k - sum_l tau_l taylor_l`` is a sum of squares, with
-``s_i`` (``"s1"``...) and ``tau_l`` (named by the Taylor bound's label, absent
-= 0) sums of squares and ``lambda_k`` (``free``, named ``"circle k"``, absent = 0)
-any polynomials. At ``z(x)`` every circle constraint is 0 and every Taylor
-bound is nonnegative, so ``div(b f) >= eps > 0`` on the set. The set is convex
-(checked as for ``bendixson-dulac``), hence simply connected: by Green's
-theorem no periodic orbit lies in it.
+multipliers named ``"divergence * set i"``, ``"divergence * <Taylor label>"``
+(sums of squares) and ``"divergence * circle k"`` (``free``, any polynomials),
+absent = 0. Constants in Q(sqrt d): ``P`` is affine in sqrt d, so the
+obligations ``divergence lo`` and ``divergence hi`` (the field at each end of
+the enclosure stated in ``recast``) give it at the true value. At ``z(x)``
+every circle constraint is 0 and every Taylor bound is nonnegative, so
+``div(b f) >= eps > 0`` on the set. The set is convex (checked as for
+``bendixson-dulac``), hence simply connected: by Green's theorem no periodic
+orbit lies in it.
 
 This module must never import anything outside the standard library and
 :mod:`proofkit.audit`, and never use floating point.
@@ -102,11 +105,17 @@ def atom_rules(
     return rules
 
 
-def recast_divergence(rc: Recast, rules: list[Rule], b: Poly) -> Poly:
-    """``P`` over ``z`` with ``div(B(z(x)) f(x)) = P(z(x))`` (chain rule, see the module)."""
+def recast_divergence(
+    rc: Recast, rules: list[Rule], b: Poly, field: tuple[Poly, ...] | None = None
+) -> Poly:
+    """``P`` over ``z`` with ``div(B(z(x)) f(x)) = P(z(x))`` (chain rule, see the module).
+
+    ``field``: the recast field to use (one end of the enclosure of sqrt d), else ``rc.field``.
+    """
+    fld = rc.field if field is None else field
     out: Poly = {}
     for i in range(rc.n):
-        h = poly_mul(b, rc.field[i])
+        h = poly_mul(b, fld[i])
         out = poly_add(out, poly_derivative(h, i))
         for j, rule, delta in rules:
             dd = _embed(poly_derivative(delta, i), rc.nz)
@@ -115,12 +124,10 @@ def recast_divergence(rc: Recast, rules: list[Rule], b: Poly) -> Poly:
     return out
 
 
-def _multipliers(ev: dict[str, Any], key: str, allowed: set[str], nz: int, w: str) -> dict:
+def _read(ev: dict[str, Any], key: str, nz: int, w: str) -> dict[str, Poly]:
     data = ev.get(key, {})
     if not isinstance(data, dict):
         raise FormatError(f"{w}.{key}: expected an object")
-    extra = sorted(set(data) - allowed)
-    require(not extra, "multipliers", f"multiplier(s) {extra[:5]} belong to no hypothesis")
     return {k: read_poly(p, nz, 0, f"{w}.{key}.{k}") for k, p in data.items()}
 
 
@@ -136,13 +143,41 @@ def _setup(model: ModelData, claim: ClaimData, checks: Checks) -> tuple[Recast, 
     nominal = [p.nominal or Fraction(0) for p in model.uncertain]
     origin = read_vector(get(ev, "origin", list, w), 0, f"{w}.origin", 2)
     rc = derive(model.expressions or (), origin, nominal, get(ev, "recast", dict, w), f"{w}.recast")
-    require(rc.d == 0, "recast", "this theorem needs a field with rational coefficients")
     checks.ok(
         f"recast around the zero ({origin[0].a}, {origin[1].a}) of the field: variables "
         f"{', '.join(rc.names)}, substitutions, derivative rules, circle constraints and "
         "Taylor bounds derived by the audit from the field's expression trees"
     )
+    if rc.enclosure is not None:
+        lo, hi = rc.enclosure
+        checks.ok(f"sqrt({rc.d}) lies in [{lo}, {hi}] (squares compared exactly)")
     return rc, origin
+
+
+def _targets(
+    rc: Recast, divs: list[tuple[str, Poly]], sets: list[Poly], ev: dict[str, Any], w: str
+) -> dict[str, Poly]:
+    """Each ``divergence[ lo| hi]`` minus its multipliers times its conditions, and the
+    multipliers (named ``"<obligation> * <label>"``; absent = 0)."""
+    nz, minus = rc.nz, Num.of(-1)
+    sos, free = _read(ev, "multipliers", nz, w), _read(ev, "free", nz, w)
+    eps = read_numbers(ev, {"eps"}, w)["eps"]
+    require(eps > 0, "numbers", f"eps = {eps} must be positive")
+    labelled = [(f"set {i + 1}", g) for i, g in enumerate(sets)] + list(rc.inequalities)
+    targets: dict[str, Poly] = {}
+    used: set[str] = set()
+    for name, div in divs:
+        target = poly_add(div, poly_constant(Num.of(-eps), nz))
+        for table, conds in ((sos, labelled), (free, list(rc.equalities))):
+            for label, g in conds:
+                key = f"{name} * {label}"
+                if key in table:
+                    used.add(key)
+                    target = poly_add(target, poly_scale(poly_mul(table[key], g), minus))
+        targets[name] = target
+    extra = sorted((set(sos) | set(free)) - used)
+    require(not extra, "multipliers", f"multiplier(s) {extra[:5]} belong to no hypothesis")
+    return {**targets, **sos}
 
 
 @schema("no cycle", "dulac-recast", "bendixson-dulac-recast")
@@ -159,30 +194,20 @@ def dulac_recast(model: ModelData, claim: ClaimData, checks: Checks) -> None:
     b = read_poly(get(ev, "B", list, w), nz, 0, f"{w}.B")
     require(bool(b), "B", "B is zero")
     nominal = [p.nominal or Fraction(0) for p in model.uncertain]
-    div = recast_divergence(rc, atom_rules(model.expressions or (), origin, nominal, rc), b)
-    eps = read_numbers(ev, {"eps"}, w)["eps"]
-    require(eps > 0, "numbers", f"eps = {eps} must be positive")
-    names = [f"s{i + 1}" for i in range(len(cset))]
-    sos = _multipliers(ev, "multipliers", {*names, *(k for k, _g in rc.inequalities)}, nz, w)
-    require(all(k in sos for k in names), "multipliers", f"expected multipliers {names}")
-    free = _multipliers(ev, "free", {k for k, _h in rc.equalities}, nz, w)
+    rules = atom_rules(model.expressions or (), origin, nominal, rc)
+    divs = [
+        (f"divergence {label}".strip(), recast_divergence(rc, rules, b, fld))
+        for label, fld in rc.vertex_fields()
+    ]
     shift = [poly_add(_var(i, nz), poly_constant(origin[i], nz)) for i in range(n)]
-    target = poly_add(div, poly_constant(Num.of(-eps), nz))
-    minus = Num.of(-1)
-    for name, (g, _strict) in zip(names, cset, strict=True):
-        g_y = poly_substitute(g, shift, nz)
-        target = poly_add(target, poly_scale(poly_mul(sos[name], g_y), minus))
-    for label, g in rc.inequalities:
-        if label in sos:
-            target = poly_add(target, poly_scale(poly_mul(sos[label], g), minus))
-    for label, h in rc.equalities:
-        if label in free:
-            target = poly_add(target, poly_scale(poly_mul(free[label], h), minus))
-    check_squares({"divergence": target, **sos}, ev, nz, checks, w)
+    sets = [poly_substitute(g, shift, nz) for g, _strict in cset]
+    check_squares(_targets(rc, divs, sets, ev, w), ev, nz, checks, w)
+    ends = " at both ends of the enclosure of sqrt d (P is affine in sqrt d)" if rc.d else ""
     checks.ok(
-        f"divergence: P - {eps} - sum s_i g_i - sum lambda_k circle_k - sum tau_l taylor_l "
-        "with P = div(B f) by the chain rule in the recast variables: div(b f) >= "
-        f"{eps} > 0 on the set for the smooth function b(x) = B(x - origin, recast(x))"
+        "divergence: P - eps - sum over the labels of multiplier * condition (set i, Taylor "
+        "bounds, circle constraints) with P = div(B f) by the chain rule in the recast "
+        f"variables{ends}: div(b f) >= eps > 0 on the set for the smooth function "
+        "b(x) = B(x - origin, recast(x))"
     )
     checks.ok(
         "by Green's theorem a periodic orbit in the simply connected set would make the "

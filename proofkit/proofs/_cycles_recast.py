@@ -8,7 +8,9 @@ squares, where ``P`` is ``div(B(z(x)) f(x))`` written by the chain rule
 (``dS/dx_i = (C + 1) d delta/dy_i``, ``dC/dx_i = -S d delta/dy_i``, ``dE/dx_i
 = (E + 1) d delta/dy_i``, ``dT/dx_i = (1 - T^2) d delta/dy_i``), ``g_i`` the
 claim set's conditions and ``circle_k = S_k^2 + C_k^2 + 2 C_k`` (free
-multipliers ``lambda_k``). The audit schema ``bendixson-dulac-recast``
+multipliers ``lambda_k``); with constants in Q(sqrt d) once per end of a
+rational enclosure of sqrt d (``P`` is affine in it). Multipliers are named
+``"<obligation> * <label>"``. The audit schema ``bendixson-dulac-recast``
 (``proofkit/audit/_recast_cycles.py``) derives the recast system and ``P``
 itself.
 
@@ -19,6 +21,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from fractions import Fraction
+from math import isqrt
 from typing import Any
 
 import sympy as sp
@@ -86,43 +89,61 @@ def _rules(system: Any, zs: list[sp.Symbol]) -> list[tuple[int, sp.Expr, sp.Expr
     return out
 
 
-def dulac_search(system: Any, conds: list[sp.Expr], degree: int) -> dict[str, Any] | str:
-    """Exact evidence for ``div(B f) >= 1`` on the set in recast variables, or the reason."""
-    from proofkit.exact import solve_exactly
-    from proofkit.exact.rounding import unknown_poly
-    from proofkit.proofs._cycles_search import _poly_json, _write
-    from proofkit.sos import SearchProgram, full_basis
+def enclosure(d: int, bits: int = 30) -> tuple[Fraction, Fraction] | None:
+    """``lo <= sqrt(d) <= hi`` with ``hi - lo = 2^-bits`` (None for rational fields)."""
+    if d == 0:
+        return None
+    r = isqrt(d << (2 * bits))
+    return Fraction(r, 1 << bits), Fraction(r + 1, 1 << bits)
 
-    nz = system.nz
-    zs = list(sp.symbols(f"z0:{nz}", real=True))
-    prog = SearchProgram(zs)
-    b = prog.free("B", full_basis(nz, degree))
-    field = [_sym(a, zs) for a, _b in system.field[: system.n]]
-    rules = _rules(system, zs)
+
+def _divergence(b: Any, field: list[sp.Expr], rules: list, zs: list[sp.Symbol]) -> Any:
+    """``div(B f)`` in recast variables by the chain rule (an expression affine in B)."""
     div = None
-    for i in range(system.n):
-        h = b * field[i]
+    for i, fi in enumerate(field):
+        h = b * fi
         term = h.diff(i)
         for j, rule, delta in rules:
             dd = sp.expand(sp.diff(delta, zs[i]) * rule)
             if dd != 0:
                 term = term + h.diff(j) * dd
         div = term if div is None else div + term
-    target = div - 1
-    fdeg = max(sp.Poly(f, *zs).total_degree() for f in field if f != 0)
-    top = 2 * ((degree + fdeg + 2) // 2)
-    mults = []
-    for i, g in enumerate(conds):
-        gdeg = sp.Poly(g, *zs).total_degree()
-        s = prog.sos(f"s{i + 1}", full_basis(nz, max(top - gdeg, 0) // 2))
-        target = target - s * g
-        mults.append(s.name)
-    free = []
-    for label, h in system.equalities:
-        lam = prog.free(label, full_basis(nz, max(top - 2, 0)))
-        target = target - lam * _sym(h, zs)
-        free.append(label)
-    prog.require_sos(target, "divergence")
+    return div
+
+
+def dulac_search(system: Any, conds: list[sp.Expr], degree: int) -> dict[str, Any] | str:
+    """Exact evidence for ``div(B f) >= 1`` on the set in recast variables, or the reason.
+
+    With constants in Q(sqrt d), one obligation per end of the enclosure of sqrt d.
+    """
+    from proofkit.exact import solve_exactly
+    from proofkit.exact.rounding import unknown_poly
+    from proofkit.proofs._cycles_search import _poly_json, _write
+    from proofkit.sos import SearchProgram, full_basis
+
+    nz, n = system.nz, system.n
+    zs = list(sp.symbols(f"z0:{nz}", real=True))
+    prog = SearchProgram(zs)
+    b = prog.free("B", full_basis(nz, degree))
+    rules = _rules(system, zs)
+    enc = enclosure(system.d)
+    mults, free = [], []
+    for label, fld in system.vertex_fields(enc):
+        name = f"divergence {label}".strip()
+        field = [_sym(a, zs) for a in fld[:n]]
+        target = _divergence(b, field, rules, zs) - 1
+        fdeg = max(sp.Poly(f, *zs).total_degree() for f in field if f != 0)
+        top = 2 * ((degree + fdeg + 2) // 2)
+        for i, g in enumerate(conds):
+            gdeg = sp.Poly(g, *zs).total_degree()
+            s = prog.sos(f"{name} * set {i + 1}", full_basis(nz, max(top - gdeg, 0) // 2))
+            target = target - s * g
+            mults.append(s.name)
+        for circle, h in system.equalities:
+            lam = prog.free(f"{name} * {circle}", full_basis(nz, max(top - 2, 0)))
+            target = target - lam * _sym(h, zs)
+            free.append(lam.name)
+        prog.require_sos(target, name)
     out = solve_exactly(prog)
     if not out.found:
         return out.reason or "no exact solution"
@@ -130,7 +151,8 @@ def dulac_search(system: Any, conds: list[sp.Expr], degree: int) -> dict[str, An
     if bpoly.is_zero():
         return "the Dulac function came out zero"
     ev = {"B": _poly_json(bpoly), "numbers": {"eps": "1"}}
-    return {**ev, **_write(prog, out.exact, mults, free)}
+    recast = {"taylor_order": 0, "enclosure": None if enc is None else [str(v) for v in enc]}
+    return {"recast": recast, **ev, **_write(prog, out.exact, mults, free)}
 
 
 def attempt(model: Model, claim: Claim, progress: Progress | None = None) -> ProofAttempt | None:
@@ -182,9 +204,6 @@ def _search(
         except Unsupported as exc:
             notes.append(f"around {tuple(map(str, origin))}: {exc}")
             continue
-        if system.d != 0:
-            notes.append("constants in Q(sqrt d) are not handled by the recast Dulac search")
-            break
         zs = list(sp.symbols(f"z0:{system.nz}", real=True))
         shift = {
             x: z + sp.Rational(o.numerator, o.denominator)
@@ -195,11 +214,7 @@ def _search(
             say(f"no cycle: Dulac function of degree {degree} in {', '.join(system.names)}")
             found = dulac_search(system, shifted, degree)
             if isinstance(found, dict):
-                evidence = {
-                    "origin": [str(o) for o in origin],
-                    "recast": {"taylor_order": 0, "enclosure": None},
-                    **found,
-                }
+                evidence = {"origin": [str(o) for o in origin], **found}
                 entry = claim_entry(
                     model, claim, "proved", method=METHOD, theorem=THEOREM, evidence=evidence
                 )

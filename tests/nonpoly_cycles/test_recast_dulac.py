@@ -19,6 +19,7 @@ from __future__ import annotations
 import copy
 import json
 import math
+from fractions import Fraction
 
 import numpy as np
 import pytest
@@ -106,6 +107,30 @@ def test_false_and_true_claims_with_a_cycle() -> None:
     assert run.audit.accepted
 
 
+SWING = """system swing
+state x1, x2
+dx1/dt = x2
+dx2/dt = -x2/2 - (sin(x1 + pi/3) - sin(pi/3))
+equilibrium op at x1 = 0, x2 = 0
+claim no cycle in x1^2 + x2^2 <= 4
+"""
+
+
+def test_swing_equation_constants_in_q_sqrt_3() -> None:
+    # computed by hand: div f = -1/2, so Bendixson (a constant B) at both ends of the
+    # enclosure of sqrt 3 (sin(pi/3) = sqrt(3)/2 enters the field)
+    run = prove_text(SWING, "swing.pk")
+    outcome = run.outcomes[0]
+    assert outcome.status == "proved" and outcome.method == "dulac-recast", outcome.detail
+    cert = json.loads(run.text)
+    ev = cert["claims"][0]["evidence"]
+    lo, hi = (Fraction(v) for v in ev["recast"]["enclosure"])
+    assert lo * lo <= 3 <= hi * hi and {"divergence lo", "divergence hi"} <= set(ev["squares"])
+    assert audit_status(run.text) == "proved"
+    ev["recast"]["enclosure"] = [str(hi), str(hi + 1)]  # no longer encloses sqrt 3
+    assert audit_status(json.dumps(cert)) == "rejected"
+
+
 def _mutated(cert: dict) -> dict[str, dict]:
     ev = cert["claims"][0]["evidence"]
     out = {}
@@ -113,15 +138,15 @@ def _mutated(cert: dict) -> dict[str, dict]:
         "B": lambda e: e["B"].append([[0, 0, 2, 0], "5"]),
         "eps": lambda e: e["numbers"].__setitem__("eps", "2"),
         "origin": lambda e: e.__setitem__("origin", ["1", "0"]),
-        "circle": lambda e: e["free"].pop("circle 1"),
+        "circle": lambda e: e["free"].pop("divergence * circle 1"),
         "order": lambda e: e["recast"].__setitem__("taylor_order", 9),
-        "extra": lambda e: e["free"].__setitem__("circle 7", [[[0, 0, 0, 0], "1"]]),
+        "extra": lambda e: e["free"].__setitem__("divergence * circle 7", [[[0, 0, 0, 0], "1"]]),
     }
     for name, edit in edits.items():
         bad = copy.deepcopy(cert)
         edit(bad["claims"][0]["evidence"])
         out[name] = bad
-    assert "circle 1" in ev["free"]
+    assert "divergence * circle 1" in ev["free"]
     return out
 
 
