@@ -226,9 +226,14 @@ def range_enclosure_blocks(
         para(
             t(
                 f"Interval arithmetic on rationals (grid 2^-{ev.get('precision')}) over state "
-                "box times parameter box, on each of the pieces below (which tile the declared "
-                "parameter ranges, checked by the audit). On each piece the parametric Krawczyk "
-                "test "
+                "box times parameter box, "
+                + (
+                    "at the one parameter value below (inside the ranges, checked by the "
+                    "audit). There the Krawczyk test "
+                    if "at-a-value" in (claim.theorem or "")
+                    else "on each of the pieces below (which tile the declared parameter "
+                    "ranges, checked by the audit). On each piece the parametric Krawczyk test "
+                )
             ),
             m("K(X, P) = m - Y f(m, P) + (I - Y J(X, P))(X - m)"),
             t(
