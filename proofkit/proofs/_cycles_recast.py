@@ -19,6 +19,7 @@ This module proposes evidence only (the audit decides) and never evaluates user 
 
 from __future__ import annotations
 
+import time
 from collections.abc import Callable
 from fractions import Fraction
 from math import isqrt
@@ -30,11 +31,13 @@ from proofkit.certificate import claim_entry, claim_structure, model_section, no
 from proofkit.model import Claim, Model
 from proofkit.proofs import ProofAttempt
 
-__all__ = ["B_DEGREES", "METHOD", "THEOREM", "attempt"]
+__all__ = ["B_DEGREES", "METHOD", "THEOREM", "attempt", "dulac_search", "enclosure"]
 
 METHOD = "dulac-recast"
 THEOREM = "bendixson-dulac-recast"
 B_DEGREES = (0, 1, 2)
+MAX_RECAST_VARIABLES = 6  # states plus recast variables (bounded program size)
+TIME_BUDGET = 60.0  # seconds per claim: no higher degree is started after it
 Progress = Callable[[str], None]
 
 
@@ -197,13 +200,19 @@ def _search(
     why = _convex(Planar((xs[0], xs[1]), (sp.Integer(0), sp.Integer(0)), tuple(conds)))
     if why is not None:
         return ProofAttempt(not_proved_entry(model, claim, why), why)
-    notes = []
+    notes, t0 = [], time.perf_counter()
     for origin in _origins(section):
         try:
             system = build_system(trees, origin, nominal, 0)
         except Unsupported as exc:
             notes.append(f"around {tuple(map(str, origin))}: {exc}")
             continue
+        if system.nz > MAX_RECAST_VARIABLES:
+            notes.append(
+                f"{system.nz} recast variables; the Dulac search takes at most "
+                f"{MAX_RECAST_VARIABLES}"
+            )
+            break
         zs = list(sp.symbols(f"z0:{system.nz}", real=True))
         shift = {
             x: z + sp.Rational(o.numerator, o.denominator)
@@ -211,6 +220,9 @@ def _search(
         }
         shifted = [sp.expand(g.subs(shift, simultaneous=True)) for g, _s in conds]
         for degree in B_DEGREES:
+            if time.perf_counter() - t0 > TIME_BUDGET:
+                notes.append(f"time budget of {TIME_BUDGET:.0f} s used up")
+                break
             say(f"no cycle: Dulac function of degree {degree} in {', '.join(system.names)}")
             found = dulac_search(system, shifted, degree)
             if isinstance(found, dict):
@@ -220,7 +232,7 @@ def _search(
                 )
                 detail = f"Dulac function B(z) of degree {degree} in {', '.join(system.names)}"
                 return ProofAttempt(entry, detail)
-        notes.append(f"no Dulac function of degree <= {B_DEGREES[-1]} in the recast variables")
+        notes.append(f"no Dulac function of degree <= {degree} in the recast variables found")
         break
     reason = "; ".join(notes[-2:]) or "no rational zero of the field to recast around"
     return ProofAttempt(not_proved_entry(model, claim, reason), reason)
