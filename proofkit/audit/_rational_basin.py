@@ -190,7 +190,7 @@ def lyapunov_in_domain_rational(model: ModelData, claim: ClaimData, checks: Chec
     shift = _shift(list(claim.point or ()), n)
     target = poly_add(poly_substitute(q, shift, n), poly_constant(Num.of(-eps), n))
     for j, (h, _strict) in enumerate(dom):
-        hj = poly_substitute(_nominal(h, model), shift, n)
+        hj = poly_substitute(h, shift, n)  # the domain is over the states only
         target = poly_add(target, poly_scale(poly_mul(mult[f"w{j + 1}"], hj), Num.of(-1)))
     check_squares({"denominator": target, **mult}, den, n, checks, wd)
     checks.ok(
