@@ -14,6 +14,8 @@ import copy
 import json
 from fractions import Fraction
 
+import flint
+import numpy as np
 import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
@@ -93,3 +95,34 @@ def test_boxes_reaching_the_second_equilibrium_are_never_proved(hi, lo) -> None:
     model = proofkit.parse(text, "strip_wide.pk")
     got = basin.attempt(model, model.claims[0])
     assert got is None or got.entry["status"] != "proved"
+
+
+def test_joint_projection_is_exact_and_moves_least() -> None:
+    """The orthogonal projection onto the identity's affine space moves the rounded Gram
+    entries no farther than a known exact solution does (common practice: a projection
+    is the nearest point of the affine space)."""
+    from proofkit.proofs._basin_exact import gram_form
+    from proofkit.proofs._basin_invariant import _project
+
+    ctx = flint.fmpq_mpoly_ctx.get(("x", "y"), "lex")
+    x, _y = ctx.gens()
+    basis = np.array([[0, 0], [1, 0], [0, 1]])
+    mult = np.array([[0, 0]])
+    h = 1 - x  # one multiplier of h: p0 + h * s = b' G b
+    true_g = [[flint.fmpq(2), flint.fmpq(1, 2), 0], [flint.fmpq(1, 2), 3, 0], [0, 0, 1]]
+    true_s = [[flint.fmpq(1, 3)]]
+    p0 = gram_form(ctx, basis, true_g) - h * gram_form(ctx, mult, true_s)
+    blocks = [(ctx.from_dict({(0, 0): 1}), basis, None), (-h, mult, None)]
+    off = flint.fmpq(1, 1000)
+    x0 = [[[e + off for e in row] for row in true_g], [[true_s[0][0] - off]]]
+    got = _project(p0, blocks, x0)
+    assert gram_form(ctx, basis, got[0]) - h * gram_form(ctx, mult, got[1]) == p0  # exact
+
+    def dist(a, b):
+        return sum((a[k][i][j] - b[k][i][j]) ** 2 for k in range(2) for i, j in _upper(a[k]))
+
+    assert dist(got, x0) <= dist([true_g, true_s], x0)
+
+
+def _upper(m):
+    return [(i, j) for i in range(len(m)) for j in range(i, len(m))]
