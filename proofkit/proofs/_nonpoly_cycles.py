@@ -32,7 +32,7 @@ from typing import Any
 
 import sympy as sp
 
-from proofkit.certificate import claim_entry, model_section, not_proved_entry
+from proofkit.certificate import claim_entry, claim_scope, model_section, not_proved_entry
 from proofkit.model import Claim, Model
 from proofkit.proofs import ProofAttempt
 
@@ -155,6 +155,9 @@ def attempt(model: Model, claim: Claim, progress: Progress | None = None) -> Pro
     from proofkit.proofs.cycles import planar_problem
 
     say = progress or (lambda _m: None)
+    if claim_scope(model, claim) != "nominal" or len(model.states) != 2:
+        # G's model has every parameter substituted: judge scope and size on the model
+        return _not_proved(model, claim, str(planar_problem(model, claim)))
     g_model, q = field_times_denominator(model, field, 1)
     pl = planar_problem(g_model, claim)
     if isinstance(pl, str):

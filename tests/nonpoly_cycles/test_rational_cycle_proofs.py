@@ -96,3 +96,17 @@ def test_every_certificate_audits(fixture: str, request) -> None:
     for k, outcome in enumerate(run.outcomes):
         expected = "proved" if outcome.status == "proved" else "not proved"
         assert audit_status(run.text, k) == expected
+
+
+def test_claims_over_parameter_ranges_say_why() -> None:
+    text = (
+        "system ranged\nstate x, y\nparameter k = 3/2 in [1, 2]\n"
+        "dx/dt = -k*x/(1 + y^2) + y\ndy/dt = -y - x\n"
+        "claim no cycle in x^2 + y^2 <= 1\n"
+        "claim cycle in x^2 + y^2 <= 1\n"
+    )
+    run = prove_text(text, "ranged.pk")
+    for outcome in run.outcomes:
+        assert outcome.status == "not proved"
+        assert "nominal parameter values only" in outcome.detail
+    assert run.audit.accepted
