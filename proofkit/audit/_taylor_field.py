@@ -200,7 +200,7 @@ def derive_models(
         require(
             all(e[idx] <= 1 for gi in g for e in gi),
             "taylor model",
-            "the field is not affine in each remainder (a product of atoms): not covered",
+            "the field is not affine in each remainder (a power of one atom): not covered",
         )
     enc = _enclosure(block, walk.d, where)
     count = 2 ** len(used) * (1 if enc is None else 2)

@@ -86,7 +86,8 @@ def _targets(
     items = [(f"decrease {lbl}", fld) for lbl, fld in prob.system.vertices]
     items += [(f"domain {j + 1}", None) for j in range(len(prob.domain))]
     for name, fld in items:
-        basis, q = hint.mult[name]
+        key = name.replace("decrease hi ", "decrease lo ")  # the search ran on the lo end
+        basis, q = hint.mult[key]
         g = psd_gram(prob.to_y(basis, q))
         if g is None:
             return f"the multiplier of {name!r} did not round to a PSD Gram matrix"
@@ -99,7 +100,7 @@ def _targets(
         if not m.is_zero():
             mult_json[f"{name} * level"] = poly_json(m)
             squares[f"{name} * level"] = _square(basis, g)
-        gb, gq = hint.grams[name]
+        gb, gq = hint.grams[key]
         todo[name] = (base - m * gap, gb, prob.to_y(gb, gq))
     if inside is not None:
         target = gap

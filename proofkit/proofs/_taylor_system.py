@@ -126,7 +126,7 @@ def taylor_system(
     full = [(a.compose(*subs, ctx=ctx), b.compose(*subs, ctx=ctx)) for a, b in states]
     for idx in used:
         if any(e[idx] > 1 for a, b in full for e in a.monoms() + b.monoms()):
-            raise Unsupported("the field is not affine in each remainder (a product of atoms)")
+            raise Unsupported("the field is not affine in each remainder (a power of one atom)")
     enc = enclosure(rs.d)
     count = 2 ** len(used) * (1 if enc is None else 2)
     if count > MAX_VERTICES:

@@ -45,6 +45,7 @@ __all__ = ["TaylorResult", "attempt", "region_search"]
 
 EPS = Fraction(1, 1000)
 METHOD = "taylor-model"
+UNSUPPORTED = "no Taylor model of this field: "
 NumPoly = dict[tuple[int, ...], float]
 
 
@@ -99,7 +100,7 @@ def _problem(
     try:
         system = taylor_system(trees, point, nominal, orders)
     except Unsupported as exc:
-        return f"no Taylor model: {exc}"
+        return f"{UNSUPPORTED}{exc}"
     ctx, pnt = system.ctx, system.point
     structure = claim_structure(model, claim)
     sets = tuple(_state_poly(ctx, pnt, c["g"]) for c in structure.get("set") or [])
@@ -117,8 +118,10 @@ def _to_z(p: flint.fmpq_mpoly, scale: np.ndarray, divide: float = 1.0) -> NumPol
 def _search_problem(prob: ExactProblem, degree: int) -> TaylorSearch:
     d = np.array([float(x) for x in prob.scale])
     n = prob.system.n
-    fields = [
-        (lbl, [_to_z(fi, d, d[i]) for i, fi in enumerate(fld)]) for lbl, fld in prob.system.vertices
+    fields = [  # the "hi" end of an enclosure is 2^-48 away: its hint is the "lo" one's
+        (lbl, [_to_z(fi, d, d[i]) for i, fi in enumerate(fld)])
+        for lbl, fld in prob.system.vertices
+        if not lbl.startswith("hi ")
     ]
     slack = 1.5 * float(EPS)  # the search asks a little more than the certificate states
     norm = {tuple(2 * int(i == j) for j in range(n)): slack * d[i] ** 2 for i in range(n)}
@@ -278,7 +281,9 @@ def attempt(model: Model, claim: Claim, progress: Callable[[str], None]) -> Proo
 
     first = _problem(model, claim, (2, 3), None)
     if isinstance(first, str):
-        return None
+        if not first.startswith(UNSUPPORTED):
+            return None  # not a claim or field of this method
+        return ProofAttempt(not_proved_entry(model, claim, first), first)
     if model.at_nominal().definedness:
         reason = "Taylor-model certificates state the field on the whole space (no conditions)"
         return ProofAttempt(not_proved_entry(model, claim, reason), reason)
