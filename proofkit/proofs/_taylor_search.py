@@ -171,7 +171,7 @@ class TaylorSearch:
         prob = cp.Problem(cp.Maximize(t.var[0]), [*cons, t.var[0] <= 1.0])
         return prob, c, t, grams, mults
 
-    def level(self, v: NumPoly, c_hint: float, steps: int = 10) -> Hint | None:
+    def level(self, v: NumPoly, c_hint: float, steps: int = 5) -> Hint | None:
         """The largest level with a margin (bisection on a cvxpy Parameter), and its hint."""
         parts = self._program(v)
         prob, c, t = parts[:3]
@@ -214,7 +214,7 @@ class TaylorSearch:
             },
         )
 
-    def shape(self, hint: Hint, samples: np.ndarray, keep: float = 0.5) -> NumPoly | None:
+    def shape(self, hint: Hint, samples: np.ndarray, keep: float = 0.2) -> NumPoly | None:
         """A new V, feasible at the hint's level with its multipliers, samples inside."""
         n = self.n
         supp = full_basis(n, self.v_degree, 2)
