@@ -138,6 +138,7 @@ def set_leaves_domain(setup: Any, states: Sequence[str], seed: int = 5) -> str |
     for h, strict in st.domain:
         val = numeric([h], n)[0](pts)
         bad |= val <= 0 if strict else val < 0
+
     def inside(q: list) -> bool:
         return all((g(*q) > 0) if s else (g(*q) >= 0) for g, s in st.set_conds)
 
