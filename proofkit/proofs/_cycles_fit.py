@@ -114,9 +114,11 @@ def _distance(points: np.ndarray, loop: np.ndarray) -> np.ndarray:
     return np.sqrt(d.min(axis=1))
 
 
-def _cloud(nf: NumericField, loop: np.ndarray, centre: np.ndarray, scale: float) -> np.ndarray:
+def _cloud(
+    nf: NumericField, loop: np.ndarray, centre: np.ndarray, scale: float, grid_size: int = _GRID
+) -> np.ndarray:
     """Scaled points: a grid around the cycle and points on its normals at small distances."""
-    ticks = np.linspace(-2.5, 2.5, _GRID)
+    ticks = np.linspace(-2.5, 2.5, grid_size)
     grid = np.stack([g.ravel() for g in np.meshgrid(ticks, ticks, indexing="ij")])
     u_loop = (loop - centre[:, None]) / scale
     sub = u_loop[:, ::4]
@@ -128,13 +130,18 @@ def _cloud(nf: NumericField, loop: np.ndarray, centre: np.ndarray, scale: float)
 
 
 def fit_annulus(
-    nf: NumericField, cycle: Cycle, degree: int, reach: float | None = None
+    nf: NumericField,
+    cycle: Cycle,
+    degree: int,
+    reach: float | None = None,
+    grid_size: int = _GRID,
 ) -> FittedW | None:
     """The linear program of the module docstring; None when ``delta`` is not positive.
 
     ``reach``: the flow conditions outside the cycle are asked only within this
     (scaled) distance of it, for cycles with equilibria outside them (the value
-    conditions stay on the whole grid; :func:`choose_levels` checks the crossings).
+    conditions stay on the whole grid; :func:`choose_levels` checks the crossings);
+    ``grid_size``: points per axis of the grid.
     """
     from scipy.optimize import linprog
 
@@ -143,7 +150,7 @@ def fit_annulus(
     scale = float(np.abs(loop - centre[:, None]).max())
     mons = _monomials(degree)
     u_loop = (loop - centre[:, None]) / scale
-    gu = _cloud(nf, loop, centre, scale)
+    gu = _cloud(nf, loop, centre, scale, grid_size)
     pts = centre[:, None] + scale * gu
     speed = float(np.median(np.linalg.norm(nf.f(loop), axis=0)))
     fu = nf.f(pts) / (scale * speed)

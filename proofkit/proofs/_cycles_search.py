@@ -196,8 +196,11 @@ class AnnulusData:
     eps: Fraction
 
 
-def annulus_program(pl: Planar, a: AnnulusData) -> Found:
-    """Every obligation of ``poincare-bendixson`` with ``W`` fixed; multipliers searched."""
+def annulus_program(pl: Planar, a: AnnulusData, extra: int = 0) -> Found:
+    """Every obligation of ``poincare-bendixson`` with ``W`` fixed; multipliers searched.
+
+    ``extra`` (even) raises the degree of the boundary multipliers ``p_o``, ``p_i``.
+    """
     prog = SearchProgram(pl.xs)
     x, y = pl.xs
     q = lambda v: sp.Rational(v.numerator, v.denominator)  # noqa: E731
@@ -205,7 +208,7 @@ def annulus_program(pl: Planar, a: AnnulusData) -> Found:
     w = sp.expand(a.w)
     dw = pl.degree(w)
     lie = sp.expand(sp.diff(w, x) * pl.f[0] + sp.diff(w, y) * pl.f[1])
-    dlie = _even(max(pl.degree(lie), dw))
+    dlie = _even(max(pl.degree(lie), dw)) + extra
     p_o = prog.free("p_o", full_basis(2, dlie - dw))
     p_i = prog.free("p_i", full_basis(2, dlie - dw))
     offset = prog.scalar("offset")

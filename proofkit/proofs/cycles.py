@@ -49,6 +49,7 @@ __all__ = ["DULAC_DEGREES", "TIME_BUDGET", "attempt", "planar_problem"]
 DULAC_DEGREES = (0, 1, 2, 3, 4)
 W_DEGREES = (2, 4, 6, 8)
 FIT_REACH = 0.35  # scaled distance: flow conditions outside the cycle when the full fit fails
+FIT_GRID = 61  # grid points per axis of that second fit
 TIME_BUDGET = 90.0  # seconds per claim
 Progress = Callable[[str], None]
 
@@ -246,10 +247,13 @@ def _annulus_for(pl: Planar, nf: Any, cyc: Any, degree: int, say: Progress) -> d
     from proofkit.proofs._cycles_fit import choose_levels, fit_annulus
 
     say(f"cycle: fitting W of degree {degree} to the cycle of period {cyc.period:.6g}")
-    fit = fit_annulus(nf, cyc, degree) or fit_annulus(nf, cyc, degree, reach=FIT_REACH)
+    fit = fit_annulus(nf, cyc, degree)
+    levels = choose_levels(fit, nf) if fit is not None else []
+    if not levels:  # flow conditions near the cycle only, on a finer grid
+        fit = fit_annulus(nf, cyc, degree, reach=FIT_REACH, grid_size=FIT_GRID) or fit
+        levels = choose_levels(fit, nf) if fit is not None else []
     if fit is None:
         return f"degree {degree}: no W follows the cycle (linear program)"
-    levels = choose_levels(fit, nf)
     if not levels:
         return f"degree {degree}: no level curves crossed the right way"
     w = fit.rational(pl.xs)
@@ -259,7 +263,10 @@ def _annulus_for(pl: Planar, nf: Any, cyc: Any, degree: int, say: Progress) -> d
         if witness is None:
             return f"degree {degree}: no rational witness point in the annulus"
         say(f"cycle: certifying {inner} <= W <= {outer}")
-        found = annulus_program(pl, AnnulusData(w, inner, outer, witness, Fraction(1, 1000)))
+        data = AnnulusData(w, inner, outer, witness, Fraction(1, 1000))
+        found = annulus_program(pl, data)
+        if found.evidence is None:  # boundary multipliers of higher degree
+            found = annulus_program(pl, data, extra=2)
         if found.evidence is not None:
             return found.evidence
         last = f"degree {degree}, levels {inner}, {outer}: {found.reason}"
