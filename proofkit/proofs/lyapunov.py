@@ -424,18 +424,11 @@ def attempt(
     say = progress or (lambda _msg: None)
     if claim.kind not in THEOREM or claim_scope(model, claim) != "nominal":
         return None
-    if not model.is_polynomial():
-        return _not_proved(model, claim, "the vector field is not polynomial")
+    local = claim.kind == "stable"
+    if not model.is_polynomial() or (not local and model.domain is not None):
+        return None  # other provers: rational/recast fields, forward-invariant domains
     if len(model.states) > MAX_STATES:
         return _not_proved(model, claim, f"more than {MAX_STATES} states")
-    local = claim.kind == "stable"
-    if not local and model.domain is not None:
-        return _not_proved(
-            model,
-            claim,
-            "the model declares a domain; a global claim needs the domain shown forward "
-            "invariant, which is not certified yet",
-        )
     point = _rational_point(model, claim)
     if isinstance(point, str):
         return _not_proved(model, claim, point)

@@ -17,6 +17,7 @@ import sympy as sp
 from proofkit import parse
 from proofkit.audit import audit_certificate
 from proofkit.certificate import model_section, new_certificate
+from proofkit.proofs import prove_model
 from proofkit.proofs.lyapunov import attempt, check_evidence
 from tests.sos.helpers import gram_identity_holds, is_psd_exact
 
@@ -211,14 +212,17 @@ def test_irrational_point_is_not_proved_with_the_reason() -> None:
     assert "Q(sqrt(2))" in res.entry["reason"]
 
 
-def test_global_claim_with_a_domain_is_not_proved_yet() -> None:
+def test_global_claim_with_a_domain_goes_to_the_in_domain_method() -> None:
+    # dx/dt = -x - x^3 points inward on both faces of x^2 <= 4 (common practice: the
+    # field at x = +-2 is -+10), so the domain is forward invariant and the claim holds.
     model = _model(
-        "state x\ndx/dt = -x^3\ndomain x^2 <= 4\nequilibrium O at x = 0\n",
+        "state x\ndx/dt = -x - x^3\ndomain x^2 <= 4\nequilibrium O at x = 0\n",
         "claim O globally stable\n",
     )
-    _claim, res = _prove(model)
-    assert res.entry["status"] == "not proved"
-    assert "forward invariant" in res.entry["reason"]
+    assert attempt(model, model.claims[0]) is None  # not this method's claim
+    run = prove_model(model)
+    assert run.outcomes[0].status == "proved"
+    assert run.outcomes[0].method == "lyapunov-domain"
 
 
 def test_other_claim_kinds_are_not_this_method() -> None:
