@@ -384,3 +384,37 @@ def test_a_description_that_cannot_be_rebuilt_falls_back_to_the_listing(swing) -
     raw = {"expressions": bad["model"]["expressions"]}
     md = to_markdown(claim_blocks(view.claims[1], verdict, view.model, [], raw))
     assert "could not be rebuilt" in md and "Method recast, theorem recast-region" in md
+
+
+# the damped swing equation of the non-polynomial issue (saddle at d = pi/3), a disc claim
+SWING_DISC = """system swing_disc
+state d, w
+dd/dt = w
+dw/dt = -w/2 - (sin(d + pi/3) - sin(pi/3))
+equilibrium o at d = 0, w = 0
+claim o attracts d^2 + w^2 <= 1/4
+"""
+
+
+def test_taylor_model_document_and_picture_of_an_audited_swing_proof() -> None:
+    from proofkit.certificate import dumps, new_certificate
+    from proofkit.proofs.taylor_model import attempt
+    from proofkit.report.figures import certificate_portrait_data
+
+    model = proofkit.parse(SWING_DISC, "swing_disc.pk")
+    found = attempt(model, model.claims[0], lambda _m: None)
+    assert found is not None and found.entry["method"] == "taylor-model"
+    cert_text = dumps(new_certificate(model_section(model), [found.entry]))
+    report = audit_text(cert_text, 60)
+    assert report.claims[0].status == "proved", report.claims[0].message
+    md = render_markdown(json.loads(cert_text), report, _meta())
+    assert "| $\\sin \\delta_{1}$ | $\\delta_{1} = d$ |" in md
+    assert "The field in the deviation y with the models, F(y, u):" in md
+    assert "Why the vertex fields suffice" in md and "| decrease lo (+1, +1) |" in md
+    data = certificate_portrait_data(json.loads(cert_text))
+    assert data is not None
+    [region] = data.regions
+    angle = np.linspace(0.0, 2 * math.pi, 48, endpoint=False)
+    assert float(np.max(region.func(0.5 * np.cos(angle), 0.5 * np.sin(angle)))) <= region.level
+    # computed (sin(d + pi/3) = sin(pi/3) at d = pi/3): the saddle is outside the certified set
+    assert region.func(math.pi / 3, 0.0) > region.level
