@@ -13,7 +13,7 @@ import pytest
 import sympy as sp
 from scipy.integrate import solve_ivp
 
-from .conftest import BACKWARDS, audit_status, prove_text
+from .conftest import BACKWARDS, audit_status, predator_prey, prove_text
 
 
 def _field(k: float):
@@ -110,3 +110,16 @@ def test_claims_over_parameter_ranges_say_why() -> None:
         assert outcome.status == "not proved"
         assert "nominal parameter values only" in outcome.detail
     assert run.audit.accepted
+
+
+@pytest.mark.slow
+def test_predator_prey_limit_cycle_proved_left_of_the_hump() -> None:
+    # K = 7/2: x* = 1 < (K - 1)/2 = 5/4, so the point is unstable and one limit cycle
+    # surrounds it (memory: Cheng 1981; computed: proofkit orbit and scipy, above for K = 4)
+    text = predator_prey(
+        "7/2", "10/7", "claim cycle in x >= 1/100 and y >= 1/100 and x <= 6 and y <= 6\n"
+    )
+    run = prove_text(text, "predator_prey_cycle.pk")
+    outcome = run.outcomes[0]
+    assert outcome.status == "proved" and outcome.method == "annulus-rational", outcome.detail
+    assert run.audit.claims[0].status == "proved" and run.provenance.ok
