@@ -161,8 +161,10 @@ def _safe(name: str) -> str:
     return "".join(ch if ch.isalnum() else "_" for ch in name)
 
 
-def _solve(prob: cp.Problem) -> bool:
-    for solver, opts in (("CLARABEL", {}), ("SCS", {"max_iters": 20000, "eps_abs": 1e-7})):
+def _solve(prob: cp.Problem, fallback: bool = True) -> bool:
+    """Clarabel, then (``fallback``, after an error or an unclear status) SCS; True if solved."""
+    tries = (("CLARABEL", {}), ("SCS", {"max_iters": 20000, "eps_abs": 1e-7}))
+    for solver, opts in tries if fallback else tries[:1]:
         try:
             with warnings.catch_warnings():  # an inaccurate answer is only a hint anyway
                 warnings.simplefilter("ignore")
@@ -171,6 +173,8 @@ def _solve(prob: cp.Problem) -> bool:
             continue
         if prob.status in ("optimal", "optimal_inaccurate"):
             return True
+        if prob.status in ("infeasible", "unbounded", "infeasible_inaccurate"):
+            return False  # a clear verdict: no second solver
     return False
 
 
@@ -180,8 +184,12 @@ def shape_step(
     s0: dict[str, NumPoly],
     samples: np.ndarray,
     margin: float = 0.0,
+    fallback: bool = True,
 ) -> NumPoly | None:
-    """V with the obligations at level 1 (the level multipliers fixed), samples inside."""
+    """V with the obligations at level 1 (the level multipliers fixed), samples inside.
+
+    ``fallback``: a second solver after an error of the first (see :func:`_solve`).
+    """
     supp = v_support(data, degree)
     v = free_unknown("V", supp)
     affs, grams, _m = _build(data, v, degree, 1.0, s0)
@@ -192,7 +200,7 @@ def shape_step(
     feats = np.prod(samples[:, None, :] ** supp[None, :, :], axis=2)
     objective = cp.Minimize(cp.sum(cp.pos(feats @ v.var - 1.0)) / max(len(samples), 1))
     prob = cp.Problem(objective, cons)
-    if not _solve(prob) or v.var.value is None:
+    if not _solve(prob, fallback) or v.var.value is None:
         return None
     return {tuple(int(x) for x in e): float(c) for e, c in zip(supp, v.var.value, strict=True)}
 

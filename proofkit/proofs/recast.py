@@ -49,6 +49,8 @@ LEVELS = (1.0, 0.9, 0.7, 0.5)
 MARGIN = 3e-5  # smallest Gram eigenvalue kept by the shape step (room for rounding) ...
 MIN_MARGIN = 1e-6  # ... divided by 3 after a round that gained less than SLOW_GAIN, down to this
 SLOW_GAIN = 0.01
+ATTEMPT_ROUNDS = 6  # inside prove: rounds until the first certificate, within ...
+ATTEMPT_SECONDS = 20.0  # ... this many seconds (then no new round starts)
 
 
 @dataclass(frozen=True)
@@ -106,7 +108,8 @@ class _Problem:
     def taylor(self) -> list[tuple[str, flint.fmpq_mpoly]]:
         return list(self.system.inequalities)
 
-    def search_data(self, attracts: bool, level: float) -> SearchData:
+    def search_data(self, attracts: bool, level: float, inside: bool = True) -> SearchData:
+        """The numerical obligations; without ``inside`` the claim's set is left to the samples."""
         s, eps = self.system, float(EPS) * 1.5
         neg_norm = {e: -eps * c for e, c in numeric(self.norm()).items()}
         tay = [(lbl, numeric(g)) for lbl, g in self.taylor()]
@@ -117,7 +120,8 @@ class _Problem:
         if attracts:
             zero = tuple([0] * s.nz)
             sets = [(f"set {i + 1}", numeric(g)) for i, (g, _st) in enumerate(self.sets)]
-            obs.append(Obligation("inside", {zero: level}, [*sets, *tay], v_sign=-1.0))
+            if inside:
+                obs.append(Obligation("inside", {zero: level}, [*sets, *tay], v_sign=-1.0))
             for j, (h, strict) in enumerate(self.domain):
                 base = numeric(h)
                 if strict:
@@ -185,15 +189,24 @@ def _initial_s0(data: SearchData, scale: float) -> dict[str, dict[tuple[int, ...
 
 
 def _certify(
-    prob: _Problem, v_num: dict, degree: int, attracts: bool, say: Callable
+    prob: _Problem, v_num: dict, degree: int, in_set: np.ndarray | None, say: Callable
 ) -> tuple[RecastResult, dict | None]:
-    """Exact evidence for ``V`` at the first level of LEVELS that works, and its hint."""
+    """Exact evidence for ``V`` at the first level of LEVELS that works, and its hint.
+
+    ``in_set``: lifted points of the claim's set (attracts; None for stable); a
+    level below V at one of them cannot hold the set and is not tried.
+    """
     ctx = prob.system.ctx
+    attracts = in_set is not None
     v = round_poly(ctx, v_num, 30)
     v_float = numeric(v)
+    top = _values(v_float, in_set).max(initial=0.0) if attracts else 0.0
     why = "no level of the found V could be certified"
     for level_f in LEVELS:
         level = Fraction(level_f).limit_denominator(1000)
+        if level_f < top:
+            why = f"V exceeds {level} on the claim's set"
+            continue
         say(f"recast: exact certificate at level {level}")
         data = prob.search_data(attracts, float(level))
         hint = hint_step(data, v_float, degree, float(level))
@@ -237,14 +250,17 @@ def _next_s0(hint: dict, level: float, fallback: dict) -> dict[str, dict[tuple[i
     return out or fallback
 
 
+def _values(v: dict[tuple[int, ...], float], lifted: np.ndarray) -> np.ndarray:
+    exps = np.array(list(v.keys()), np.int64).reshape(-1, lifted.shape[1])
+    coef = np.array(list(v.values()))
+    return np.prod(lifted[:, None, :] ** exps[None, :, :], axis=2) @ coef
+
+
 def _inside(res: RecastResult, lifted: np.ndarray) -> float:
     """Fraction of the (lifted) sample points in the certified ``{V <= level}``."""
     assert res.evidence is not None and res.v is not None
     level = float(Fraction(res.evidence["numbers"]["level"]))
-    exps = np.array(list(res.v.keys()), np.int64)
-    coef = np.array(list(res.v.values()))
-    vals = np.prod(lifted[:, None, :] ** exps[None, :, :], axis=2) @ coef
-    return float(np.mean(vals <= level)) if len(vals) else 0.0
+    return float(np.mean(_values(res.v, lifted) <= level)) if len(lifted) else 0.0
 
 
 def region_search(
@@ -257,15 +273,19 @@ def region_search(
     rounds: int = 1,
     margin: float = MARGIN,
     time_limit: float | None = None,
+    first: bool = False,
     s0_scale: float = 0.1,
     progress: Callable[[str], None] | None = None,
 ) -> RecastResult:
     """V towards ``{V <= 1}`` holding the sample points, then exact evidence; ``rounds`` passes.
 
-    Each round fixes the level multipliers of the last certificate's hint and
-    looks for a V that keeps more sample points inside (the bilinear
-    iteration); the certificate with the most sample points inside is kept.
-    ``res.v`` is then the certified V as floats (over the recast variables).
+    Each round looks for a V that keeps more sample points inside with the
+    level multipliers of the last hint fixed (the bilinear iteration; the
+    claim's set is left to the samples there), then certifies it exactly with
+    every obligation. The certificate with the most sample points inside is
+    kept (``first``: the first certificate ends the search). ``res.v`` is the
+    certified V as floats over the recast variables. ``time_limit`` (seconds)
+    stops starting new rounds.
     """
     say = progress or (lambda _m: None)
     prob = _problem(model, claim, order)
@@ -273,7 +293,9 @@ def region_search(
         return RecastResult(None, prob)
     attracts = claim.kind == "attracts"
     data = prob.search_data(attracts, 1.0)
+    soft = prob.search_data(attracts, 1.0, inside=False) if attracts else data
     lifted = prob.system.lift(samples_x)
+    in_set = prob.system.lift(_set_points(prob)) if attracts else None
     start = _initial_s0(data, s0_scale)
     s0, best, score = start, RecastResult(None, "the numerical search found no V"), -1.0
     clock = time.monotonic()
@@ -282,39 +304,58 @@ def region_search(
             say(f"recast: time limit of {time_limit:g} s reached after {r} round(s)")
             break
         say(f"recast: round {r + 1}: V of degree {degree} in {', '.join(prob.system.names)}")
-        v_num = shape_step(data, degree, s0, lifted, margin)
+        v_num = shape_step(data, degree, s0, lifted, margin, fallback=soft is data)
+        if v_num is None and soft is not data:  # the claim's set left to the samples
+            v_num = shape_step(soft, degree, s0, lifted, margin)
         if v_num is None:
             break
-        res, hint = _certify(prob, v_num, degree, attracts, say)
+        res, hint = _certify(prob, v_num, degree, in_set, say)
         if res.evidence is None or hint is None:
             best = best if best.evidence is not None else res
-            break
+            hint = hint_step(soft, v_num, degree, 1.0)  # carry on with the other obligations
+            if hint is None:
+                break
+            s0 = _next_s0(hint, 1.0, start)
+            continue
         frac = _inside(res, lifted)
         say(f"recast: round {r + 1}: {100 * frac:.1f} % of the sample points certified")
         if frac - score < SLOW_GAIN:  # small steps: let the shape step go closer to the edge
             margin = max(margin / 3, MIN_MARGIN)
         if frac > score:
             best, score = res, frac
+        if first:
+            break
         s0 = _next_s0(hint, float(Fraction(res.evidence["numbers"]["level"])), start)
     return best
 
 
-def _samples(model: Model, claim: Claim, prob: _Problem, count: int = 400) -> np.ndarray:
-    """Points of the claim's set (attracts) or of a small ball (stable) around the point."""
+def _set_points(prob: _Problem, count: int = 400) -> np.ndarray:
+    """Points of the claim's set (random, in boxes of shrinking size around the point)."""
     n = prob.system.n
     center = np.array([float(x) for x in prob.system.point])
     rng = np.random.default_rng(11)
-    if claim.kind == "stable":
-        return center + 0.05 * rng.uniform(-1, 1, (count, n))
-    pts = center + rng.uniform(-4, 4, (count * 20, n))
-    y = pts - center
-    keep = np.ones(len(pts), bool)
-    for g, strict in prob.sets:
-        val = np.zeros(len(pts))
-        for e, c in zip(g.monoms(), g.coeffs(), strict=True):
-            val += float(c) * np.prod(y ** np.array([int(x) for x in e[:n]]), axis=1)
-        keep &= val > 0 if strict else val >= 0
-    return pts[keep][:count] if keep.any() else center[None, :]
+    found = [center[None, :]]
+    for half in (4.0, 1.0, 0.25, 0.0625):
+        y = rng.uniform(-half, half, (count * 10, n))
+        keep = np.ones(len(y), bool)
+        for g, strict in prob.sets:
+            val = np.zeros(len(y))
+            for e, c in zip(g.monoms(), g.coeffs(), strict=True):
+                val += float(c) * np.prod(y ** np.array([int(x) for x in e[:n]]), axis=1)
+            keep &= val > 0 if strict else val >= 0
+        found.append(center + y[keep])
+        if sum(len(f) for f in found) > count:
+            break
+    return np.vstack(found)[:count]
+
+
+def _samples(claim: Claim, prob: _Problem, count: int = 400) -> np.ndarray:
+    """Points of the claim's set (attracts) or of a small ball (stable) around the point."""
+    if claim.kind == "attracts":
+        return _set_points(prob, count)
+    center = np.array([float(x) for x in prob.system.point])
+    rng = np.random.default_rng(11)
+    return center + 0.05 * rng.uniform(-1, 1, (count, prob.system.n))
 
 
 def attempt(model: Model, claim: Claim, progress: Callable[[str], None]) -> ProofAttempt | None:
@@ -345,9 +386,12 @@ def attempt(model: Model, claim: Claim, progress: Callable[[str], None]) -> Proo
         res = region_search(
             model,
             claim,
-            _samples(model, claim, prob),
+            _samples(claim, prob),
             degree=degree,
             order=order,
+            rounds=ATTEMPT_ROUNDS,
+            time_limit=ATTEMPT_SECONDS,
+            first=True,
             progress=progress,
         )
         if res.evidence is not None:
