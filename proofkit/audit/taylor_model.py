@@ -118,9 +118,14 @@ def _setup(model: ModelData, claim: ClaimData, checks: Checks) -> tuple[Any, ...
     only_keys(ev, EVIDENCE_KEYS, w)
     tm = _models(model, claim, get(ev, "taylor_model", dict, w), f"{w}.taylor_model")
     n = tm.n
+    args: list[Poly] = []  # distinct arguments, numbered in order of appearance
+    for _f, delta, _k, _r in tm.atoms:
+        if delta not in args:
+            args.append(delta)
     shown = "; ".join(
-        f"{f}(delta{i + 1}) = T_{k} + {r} delta{i + 1}^{k + 1} u{i + 1}, |u{i + 1}| <= 1"
-        for i, (f, _delta, k, r) in enumerate(tm.atoms)
+        f"{f}(delta{args.index(delta) + 1}) = T_{k} + {r} delta{args.index(delta) + 1}^{k + 1} "
+        f"u{i + 1}, |u{i + 1}| <= 1"
+        for i, (f, delta, k, r) in enumerate(tm.atoms)
     )
     checks.ok(
         f"Taylor models derived and checked by the audit from the field's trees: {shown} "
