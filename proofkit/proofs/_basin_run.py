@@ -7,6 +7,13 @@ it), builds the certificate and audits that exact text. "proved" comes only
 from the audit's verdict together with the provenance check. The area or
 volume is a numerical estimate with its method and error bound.
 
+Rational fields ``f_i = N_i / D_i``: the search runs on ``G = f Q`` (``Q`` the
+product of the distinct denominators, positive at the point;
+:func:`proofkit.proofs._nonpoly_basin.reparametrized_model`), and ``Q > 0`` on
+the certified set is shown by a sum of squares
+(``Q(x* + y) - eps - t (level - V)``); the certificate uses the method
+``sublevel-set-rational`` with the same claim line ``V(x - x*) <= level``.
+
 This module never reports a level the audit did not accept.
 """
 
@@ -27,6 +34,7 @@ __all__ = ["BasinRun", "estimate_basin"]
 
 Say = Callable[[str], None]
 SECONDS_PER_DEGREE = 40.0
+DENOMINATOR_STEPS = 4  # levels tried (each 0.8 of the last) to show Q > 0 on the set
 NOT_ATTEMPTED = "not attempted: 'proofkit basin' certifies only the region of attraction"
 
 
@@ -100,7 +108,9 @@ def _augmented(model: Model, name: str, v_x: sp.Expr, level: Fraction) -> tuple[
     return aug, aug.claims[-1]
 
 
-def _audited(model: Model, name: str, cert: Any, point: tuple[Fraction, ...]) -> BasinRun:
+def _audited(
+    model: Model, name: str, cert: Any, point: tuple[Fraction, ...], den: dict | None = None
+) -> BasinRun:
     from proofkit.audit import audit_text
     from proofkit.certificate import (
         claim_entry,
@@ -109,14 +119,16 @@ def _audited(model: Model, name: str, cert: Any, point: tuple[Fraction, ...]) ->
         new_certificate,
         not_proved_entry,
     )
-    from proofkit.proofs.basin import METHOD, THEOREM
+    from proofkit.proofs import _nonpoly_basin, basin
     from proofkit.provenance import check_provenance
 
     v_x = _v_in_states(model, cert.v, point)
     aug, claim = _augmented(model, name, v_x, cert.level)
-    entry = claim_entry(
-        aug, claim, "proved", method=METHOD, theorem=THEOREM, evidence=cert.evidence
-    )
+    method, theorem, evidence = basin.METHOD, basin.THEOREM, cert.evidence
+    if den is not None:  # a rational field: the evidence for G = f Q, and Q > 0 on the set
+        method, theorem = _nonpoly_basin.METHOD, _nonpoly_basin.THEOREM
+        evidence = {"reparametrized": cert.evidence, "denominator": den}
+    entry = claim_entry(aug, claim, "proved", method=method, theorem=theorem, evidence=evidence)
     others = [not_proved_entry(aug, c, NOT_ATTEMPTED) for c in aug.claims[:-1]]
     certificate = new_certificate(model_section(aug), [*others, entry])
     text = dumps(certificate)
@@ -133,18 +145,71 @@ def _audited(model: Model, name: str, cert: Any, point: tuple[Fraction, ...]) ->
     )  # fmt: skip
 
 
-def _certify_best(setup: Any, found: list[tuple[Any, Any]], say: Say) -> tuple[Any, str]:
-    """The exact certificate of the last iterate that rounds exactly (latest degree first)."""
+def _certify_best(
+    setup: Any, found: list[tuple[Any, Any]], say: Say, rational: Any = None
+) -> tuple[Any, Any, str]:
+    """The exact certificate of the last iterate that rounds exactly (latest degree first).
+
+    With ``rational = (model, Q)`` also the evidence that ``Q > 0`` on the set (the
+    level is stepped back when it cannot be shown); otherwise that evidence is None.
+    """
     from proofkit.proofs.basin import BasinCertificate, certify
 
     why = "no sublevel set was found"
     for search, it in reversed(found):
-        say(f"exact rounding of the degree-{it.degree} set (level {it.level:.6g})")
-        cert = certify(setup, search, it, set_from_level=True)
-        if isinstance(cert, BasinCertificate):
-            return cert, ""
-        why = f"degree {it.degree}: {cert}"
-    return None, why
+        for k in range(DENOMINATOR_STEPS if rational else 1):
+            step = replace(it, level=it.level * 0.8**k)
+            say(f"exact rounding of the degree-{it.degree} set (level {step.level:.6g})")
+            cert = certify(setup, search, step, set_from_level=True)
+            if not isinstance(cert, BasinCertificate):
+                why = f"degree {it.degree}: {cert}"
+                break
+            if rational is None:
+                return cert, None, ""
+            den = _positive_denominator(rational, setup, cert)
+            if den is not None:
+                return cert, den, ""
+            why = (
+                f"degree {it.degree}: the denominators were not shown positive on the "
+                "certified set (the level was stepped back)"
+            )
+    return None, None, why
+
+
+def _positive_denominator(rational: Any, setup: Any, cert: Any) -> dict | None:
+    """Evidence that ``Q(x* + y) - eps - t (level - V)`` and ``t`` are sums of squares."""
+    from proofkit.proofs._basin_exact import poly_json
+    from proofkit.proofs._nonpoly_basin import _denominator_evidence
+
+    model, q = rational
+    ev = {"V": poly_json(cert.v), "numbers": {"level": str(cert.level)}}
+    return _denominator_evidence(q, model, list(setup.point), ev)
+
+
+def _rational_field(model: Model, name: str, say: Say) -> tuple[Model, Any] | str | None:
+    """``(G = f Q as a model, Q)`` for a rational field, a reason it cannot be, or None."""
+    from proofkit.certificate import model_section
+
+    if model.is_polynomial():
+        return None
+    field_json = model_section(model).get("field")
+    if field_json is None or field_json.get("denominators") is None:
+        return (
+            "the vector field is neither polynomial nor rational; 'proofkit basin' covers "
+            "polynomial and rational fields (for sin, cos, exp fields state an 'attracts' "
+            "claim and run 'proofkit prove')"
+        )
+    if any(p.is_uncertain for p in model.params):
+        return "a rational field with uncertain parameters: not supported by 'proofkit basin' yet"
+    from proofkit.proofs._nonpoly_basin import reparametrized_model
+    from proofkit.proofs.basin import _rational_point
+
+    point = _rational_point(model, name)
+    if isinstance(point, str):
+        return point
+    g_model, q = reparametrized_model(model, list(point))
+    say(f"multiplying through by the denominators: Q = {q} (positive at {name})")
+    return g_model, q
 
 
 def estimate_basin(
@@ -163,31 +228,39 @@ def estimate_basin(
     say = progress or (lambda _m: None)
     t0 = time.perf_counter()
     name = equilibrium or (model.equilibria[0].name if model.equilibria else "")
-    setup = setup_basin(model, name, None, say)
+    rational = _rational_field(model, name, say)
+    if isinstance(rational, str):
+        return BasinRun(name, degree, "not proved", reason=rational)
+    prefix = "on the field multiplied by its denominators: " if rational else ""
+
+    def fail(reason: str) -> BasinRun:
+        took = time.perf_counter() - t0
+        return BasinRun(name, degree, "not proved", reason=prefix + reason, seconds=took)
+
+    setup = setup_basin(rational[0] if rational else model, name, None, say)
     if isinstance(setup, str):
-        return BasinRun(name, degree, "not proved", reason=setup)
+        return fail(setup)
     if _lyapunov_start(setup) is None:
-        reason = (
+        return fail(
             f"the linearization at {name} has an eigenvalue with real part >= 0 (numerically): "
             "no quadratic Lyapunov function to start from, no region of attraction searched"
         )
-        return BasinRun(name, degree, "not proved", reason=reason, seconds=time.perf_counter() - t0)
     degrees = tuple(range(2, degree + 1, 2))
     found, solver = [], 0.0
     for search, it in run_search(setup, degrees, say, seconds_per_degree):
         found.append((search, it))
         solver = search.solver_seconds
     if not found:
-        reason = (
+        return fail(
             "no sublevel set was found: the linearization is not Hurwitz, no level of the "
             f"quadratic V was feasible, or the programs exceed {MAX_GRAM} rows"
         )
-        return BasinRun(name, degree, "not proved", reason=reason, seconds=time.perf_counter() - t0)
-    cert, why = _certify_best(setup, found, say)
+    rat = (model, rational[1]) if rational else None
+    cert, den, why = _certify_best(setup, found, say, rat)
     if cert is None:
-        return BasinRun(name, degree, "not proved", reason=why, seconds=time.perf_counter() - t0)
+        return fail(why)
     say("auditing the certificate")
-    run = _audited(model, name, cert, setup.point)
+    run = _audited(model, name, cert, setup.point, den)
     if run.status == "proved":
         say("estimating the size of the certified set")
         v_num = numeric([cert.v], len(model.states))[0]
