@@ -23,6 +23,7 @@ decides. This module never marks a claim proved by itself.
 
 from __future__ import annotations
 
+import time
 from collections.abc import Callable
 from dataclasses import dataclass
 from fractions import Fraction
@@ -161,34 +162,47 @@ def _scale(samples_y: np.ndarray) -> tuple[Fraction, ...]:
     return tuple(Fraction(2) ** ceil(log2(max(float(t), 2.0**-10))) for t in top)
 
 
+@dataclass
+class _Best:
+    cover: float = -1.0
+    v: NumPoly | None = None
+    hint: Hint | None = None
+
+
 def _iterate(
-    search: TaylorSearch, samples_z: np.ndarray, rounds: int, say: Callable[[str], None]
-) -> tuple[NumPoly, Hint] | str:
-    v = _initial_v(search)
-    if v is None:
-        return "the linearization is not Hurwitz (a strict Lyapunov function cannot exist)"
-    best: tuple[float, NumPoly, Hint] | None = None
-    c_hint = 1.0
+    search: TaylorSearch,
+    samples_z: np.ndarray,
+    rounds: int,
+    say: Callable[[str], None],
+    start: tuple[NumPoly, float],
+    best: _Best,
+    deadline: float,
+) -> tuple[NumPoly, float]:
+    """V-s rounds at one degree from ``start`` = (V, level guess); updates ``best``."""
+    v, c_hint = start
+    history: list[float] = []
     for k in range(rounds):
         hint = search.level(v, c_hint)
         if hint is None:
             break
         exps = np.array(list(v), dtype=np.int64)
         feats = np.prod(samples_z[:, None, :] ** exps[None, :, :], axis=2)
-        vals = feats @ np.array(list(v.values()))
-        cover = float(np.mean(vals <= hint.c))
-        say(f"taylor-model: round {k + 1}: level {hint.c:.4g}, {100 * cover:.1f} % of the samples")
-        if best is None or cover > best[0]:
-            best = (cover, v, hint)
-        if k + 1 == rounds or cover >= 1.0:
+        cover = float(np.mean(feats @ np.array(list(v.values())) <= hint.c))
+        say(
+            f"taylor-model: degree {search.v_degree}, round {k + 1}: level {hint.c:.4g}, "
+            f"{100 * cover:.1f} % of the samples"
+        )
+        if cover > best.cover:
+            best.cover, best.v, best.hint = cover, v, hint
+        history.append(cover)
+        stalled = len(history) > 3 and history[-1] < history[-4] + 0.005
+        if k + 1 == rounds or cover >= 1.0 or stalled or time.monotonic() > deadline:
             break
         nxt = search.shape(hint, samples_z)
         if nxt is None:
             break
         v, c_hint = nxt, hint.c
-    if best is None:
-        return "no decreasing level found for the numerical V"
-    return best[1], best[2]
+    return v, c_hint
 
 
 def _certify(
@@ -220,17 +234,20 @@ def region_search(
     samples_x: np.ndarray,
     *,
     degree: int = 6,
-    orders: tuple[int, int] = (8, 9),
+    orders: tuple[int, int] = (6, 7),
     rounds: int = 6,
     progress: Callable[[str], None] | None = None,
+    seconds: float = 600.0,
 ) -> TaylorResult:
     """V of ``degree`` towards ``{V <= level}`` holding the sample points; exact evidence.
 
     ``orders`` are the Taylor orders of the sin and cos models; ``rounds`` the
-    V-s iterations. The evidence (when found) follows the audit's
+    V-s iterations per degree (degree ladder 4, 6, ... warm-started); no new
+    round starts after ``seconds``. The evidence (when found) follows the audit's
     ``taylor-model-*`` schema for this claim; only the audit decides.
     """
     say = progress or (lambda _m: None)
+    deadline = time.monotonic() + seconds
     first = _problem(model, claim, orders, None)
     if isinstance(first, str):
         return TaylorResult(None, first)
@@ -238,12 +255,19 @@ def region_search(
     samples_y = np.asarray(samples_x, float) - point
     prob = _problem(model, claim, orders, _scale(samples_y))
     assert not isinstance(prob, str)
-    search = _search_problem(prob, degree)
     d = np.array([float(x) for x in prob.scale])
-    found = _iterate(search, samples_y / d, rounds, say)
-    if isinstance(found, str):
-        return TaylorResult(None, found)
-    v, hint = found
+    search = _search_problem(prob, degree)
+    v0 = _initial_v(search)
+    if v0 is None:
+        reason = "the linearization is not Hurwitz (a strict Lyapunov function cannot exist)"
+        return TaylorResult(None, reason)
+    best, state = _Best(), (v0, 1.0)
+    for deg in [k for k in (2, 4, 6, 8) if min(4, degree) <= k < degree] + [degree]:
+        search = _search_problem(prob, deg)  # warm start from the lower degree's V
+        state = _iterate(search, samples_y / d, rounds, say, state, best, deadline)
+    if best.v is None or best.hint is None:
+        return TaylorResult(None, "no decreasing level found for the numerical V")
+    v, hint = best.v, best.hint
     out = _certify(prob, search, v, hint, say)
     if isinstance(out, str):
         return TaylorResult(None, out, rounds)
@@ -271,6 +295,7 @@ def _samples(prob: ExactProblem, claim: Claim, count: int = 300) -> np.ndarray:
 
 
 # (degree of V, (order of sin, order of cos), rounds): tried in turn by attempt
+ATTEMPT_SECONDS = 60.0  # inside prove: no new search round after this
 SETTINGS = {"stable": ((2, (2, 3), 1),), "attracts": ((4, (4, 5), 3), (6, (6, 7), 3))}
 
 
@@ -294,10 +319,16 @@ def attempt(model: Model, claim: Claim, progress: Callable[[str], None]) -> Proo
     )
     samples = _samples(first, claim)
     why = "no certificate found"
+    deadline = time.monotonic() + ATTEMPT_SECONDS
     for degree, orders, rounds in SETTINGS[claim.kind]:
+        left = deadline - time.monotonic()
+        if left <= 0:
+            why += f" within {ATTEMPT_SECONDS:.0f} s"
+            break
         res = region_search(
-            model, claim, samples, degree=degree, orders=orders, rounds=rounds, progress=progress
-        )
+            model, claim, samples, degree=degree, orders=orders, rounds=rounds,
+            progress=progress, seconds=left,
+        )  # fmt: skip
         if res.evidence is not None:
             entry = claim_entry(
                 model, claim, "proved", method=METHOD, theorem=theorem, evidence=res.evidence
