@@ -9,11 +9,20 @@ Theorem ``lyapunov-global-in-domain`` (method ``lyapunov-domain``; schema in
   in D (Nagumo's condition, strict; ``u_j h_j`` with ``r_jj h_j`` is the free
   multiplier of the face as an equality);
 - ``positive``: ``V - eps|y|^2 - sum_j p_j h_j``; ``decrease``:
-  ``-lie(V) - eps|y|^2 - sum_j q_j h_j``; ``p_j``, ``q_j`` sums of squares.
+  ``-lie(V) - eps (|y|^2)^m - sum_j q_j h_j``; ``p_j``, ``q_j`` sums of squares;
+  ``m`` the evidence's ``margin_power``.
+
+Margin powers as for the global method (:mod:`proofkit.proofs.lyapunov`, exact
+Routh counts): ``m = 1`` when the linearization is Hurwitz, ``m = 2, 3, 4`` when
+it has eigenvalues on the imaginary axis (``dx/dt = -x^3``: the decrease is only
+of order ``|y|^4``, never ``eps|y|^2``); an eigenvalue with positive real part
+stops the search with that reason. For ``m >= 2`` the ``q_j`` vanish to order
+``2m`` at the point and the program is solved by the exact ladder
+(:func:`proofkit.exact.solve_exactly`: Newton-polytope bases, facial reduction).
 
 The invariance obligations do not involve ``V`` and are fitted first (a domain
-that is not invariant is named at once). ``V`` of degree 2, 4, 6 comes from one
-semidefinite program per degree (``V`` and all multipliers free, jointly
+that is not invariant is named at once). For ``m = 1``, ``V`` of degree 2, 4, 6 comes
+from one semidefinite program per degree (``V`` and all multipliers free, jointly
 linear), in coordinates scaled as for the basin search; each obligation is then
 made exact (:func:`proofkit.proofs.basin._obligation`: rounding, Peyrl–Parrilo
 projection, exact LDL').
@@ -325,6 +334,79 @@ def _lyapunov_evidence(setup: Any, v_num: Any, ev: dict) -> str | None:
     return None
 
 
+def _margin_powers(setup: Any) -> tuple[int, ...] | str:
+    """1 for a Hurwitz linearization, 2..4 on the imaginary axis; or why no V exists."""
+    from proofkit.proofs.lyapunov import _margin_powers as powers
+
+    got = powers(setup.setting.space, setup.setting.g)
+    return got if isinstance(got, str) else (1,) if 1 in got else got
+
+
+def _margin_evidence(setup: Any, degree: int, m: int, ev: dict) -> str | None:
+    """``positive`` and ``decrease`` (margin ``eps (|y|^2)^m``) solved exactly, into ``ev``."""
+    from proofkit.exact import solve_exactly
+    from proofkit.exact.rounding import unknown_poly
+    from proofkit.proofs.basin import MAX_GRAM, _sq
+    from proofkit.sos import SearchProgram, full_basis
+
+    st = setup.setting
+    space, n = st.space, st.n
+    hs = [h for h, _strict in st.domain]
+    eps = space.const(flint.fmpq(st.eps.numerator, st.eps.denominator))
+    prog = SearchProgram(space.variables)
+    v = prog.free("V", full_basis(n, degree, 2))
+    lie = v.lie(st.g)
+    d_lie = degree + max(_deg(g) for g in st.g) - 1
+    mults: dict[str, Any] = {}
+    pos, dec = v - st.norm() * eps, -lie - st.norm() ** m * eps
+    for j, h in enumerate(hs):
+        (pb,), _gb = _bases(degree, [_deg(h)], n, low=1)
+        (qb,), _gb = _bases(max(d_lie, 2 * m), [_deg(h)], n, low=m)
+        pj, qj = prog.sos(f"p{j + 1}", pb), prog.sos(f"q{j + 1}", qb)
+        mults[f"p{j + 1}"], mults[f"q{j + 1}"] = pj, qj
+        pos, dec = pos - pj * h, dec - qj * h
+    grams = {"positive": prog.require_sos(pos, "positive")}
+    grams["decrease"] = prog.require_sos(dec, "decrease")
+    if max(u.size for u in [*grams.values(), *mults.values()]) > MAX_GRAM:
+        return f"a Gram matrix would exceed {MAX_GRAM} rows"
+    res = solve_exactly(prog)
+    if not res.found:
+        return f"no exact certificate with margin power {m}"
+    values = res.exact.values
+    for name, u in {**mults, **grams}.items():
+        ev["squares"][name] = _sq(u.basis, values[u.name])
+        if name in mults:
+            ev["multipliers"][name] = _poly_json(unknown_poly(space, u, values[u.name]))
+    ev["V"] = _poly_json(unknown_poly(space, v, values["V"]))
+    ev["margin_power"] = m
+    return None
+
+
+def _v_search(setup: Any, ev: dict, say: Say) -> tuple[int, str]:
+    """V of degree 2, 4, 6 with every margin power worth trying: (degree, "") or (0, why)."""
+    powers = _margin_powers(setup)
+    if isinstance(powers, str):
+        return 0, powers
+    d_field = max(_deg(g) for g in setup.setting.g)
+    t0, tried = time.perf_counter(), []
+    for degree in DEGREES:
+        for m in powers:
+            if 2 * m > degree + d_field - 1:
+                continue
+            if time.perf_counter() - t0 > BUDGET:
+                return 0, "; ".join(tried) or "time budget used"
+            say(f"Lyapunov function of degree {degree} on the domain (margin power {m})")
+            if m == 1:
+                v_num = _v_program(setup, degree)
+                why = v_num if isinstance(v_num, str) else _lyapunov_evidence(setup, v_num, ev)
+            else:
+                why = _margin_evidence(setup, degree, m, ev)
+            if why is None:
+                return degree, ""
+            tried.append(f"degree {degree}" + (f" (m = {m})" if m > 1 else "") + f": {why}")
+    return 0, "; ".join(tried) or "time budget used"
+
+
 def attempt(model: Model, claim: Claim, say: Say) -> ProofAttempt | None:
     """Evidence for ``claim E globally stable`` inside the model's domain, or None if n/a."""
     from proofkit.proofs.basin import setup_basin
@@ -346,20 +428,15 @@ def attempt(model: Model, claim: Claim, say: Say) -> ProofAttempt | None:
     why = _invariance(setup, ev)
     if why:
         return _not_proved(model, claim, why)
-    t0, tried = time.perf_counter(), []
-    for degree in DEGREES:
-        if time.perf_counter() - t0 > BUDGET:
-            break
-        say(f"Lyapunov function of degree {degree} on the domain")
-        v_num = _v_program(setup, degree)
-        why = v_num if isinstance(v_num, str) else _lyapunov_evidence(setup, v_num, ev)
-        if why is None:
-            ev = {"V": ev.pop("V"), **ev}
-            entry = claim_entry(model, claim, "proved", method=METHOD, theorem=THEOREM, evidence=ev)
-            detail = f"the domain is forward invariant and a degree-{degree} V decreases on it"
-            return ProofAttempt(entry, detail, trace=setup)
-        tried.append(f"degree {degree}: {why}")
+    degree, why = _v_search(setup, ev, say)
+    if degree:
+        ev = {"V": ev.pop("V"), **ev}
+        entry = claim_entry(model, claim, "proved", method=METHOD, theorem=THEOREM, evidence=ev)
+        m = ev["margin_power"]
+        margin = f" (margin power {m})" if m > 1 else ""
+        detail = f"the domain is forward invariant and a degree-{degree} V decreases on it{margin}"
+        return ProofAttempt(entry, detail, trace=setup)
     return _not_proved(
         model, claim, "the domain is forward invariant, but no Lyapunov function on it was "
-        f"found ({'; '.join(tried) or 'time budget used'})",
+        f"found ({why})",
     )  # fmt: skip
