@@ -178,3 +178,21 @@ def test_twelve_rounds_cover_85_percent_of_the_simulated_region() -> None:
     cert = _w(res.evidence, pts) <= float(Fraction(res.evidence["numbers"]["level"]))
     assert not (cert & ~inside).any()
     assert (cert & inside).sum() >= 0.85 * inside.sum()
+
+
+@pytest.mark.slow
+def test_prove_reaches_a_disc_one_round_cannot() -> None:
+    # x1^2 + x2^2 <= 9/20 lies in the region of attraction (computed: RK4 from 64
+    # points of its boundary circle all converge); the first round's V cannot be
+    # certified for it and the second round's can (measured); the audit decides.
+    from proofkit.proofs.recast import attempt
+
+    src = SWING.replace("<= 1/100", "<= 9/20")
+    angles = np.linspace(0, 2 * np.pi, 64, endpoint=False)
+    rim = np.sqrt(9 / 20) * np.stack([np.cos(angles), np.sin(angles)], axis=1)
+    assert _rk4_basin(rim, horizon=60.0, dt=0.01).all()
+    model = proofkit.parse(src, "swing_disc.pk")
+    found = attempt(model, model.claims[0], lambda _m: None)
+    assert found is not None and found.entry["status"] == "proved", found.detail
+    cert = new_certificate(model_section(model), [found.entry])
+    assert audit_certificate(cert, 60).claims[0].status == "proved"
