@@ -186,6 +186,33 @@ def _positive_denominator(rational: Any, setup: Any, cert: Any) -> dict | None:
     return _denominator_evidence(q, model, list(setup.point), ev)
 
 
+def _natural_domain(setup: Any, q: sp.Expr) -> tuple[Any, Any]:
+    """(search setup, certify setup): the search also keeps the set in ``Q >= Q(x*)/16``.
+
+    The natural domain of a rational field bounds the search (so the level does not
+    run past a pole); the certificate does not state it: ``Q > 0`` on the set is
+    shown by its own sum of squares. Both setups share the scaled coordinates.
+    """
+    from proofkit.proofs.basin import _domain_capped
+
+    st = setup.setting
+    xs = list(st.space.variables)
+    shift = {
+        x: x + sp.Rational(p.numerator, p.denominator) for x, p in zip(xs, setup.point, strict=True)
+    }
+    q_y = st.space.coerce(sp.expand(q.subs(shift, simultaneous=True)))
+    q0 = q_y.coeffs()[q_y.monoms().index((0,) * st.n)]
+    h = q_y - st.space.const(q0 / 16)
+    scale = _domain_capped(st.scale, [d for d, _ in st.domain] + [h], st.n)
+    exact = replace(st, scale=scale)
+    field_z = []
+    for gi, di in zip(st.g, scale, strict=True):  # dz/dt = g(D z) / D, as setup_basin
+        gz = exact.to_z(gi)
+        field_z.append(type(gz)(gz.exps, gz.coeffs / float(di)))
+    search = replace(setup, setting=replace(exact, domain=(*st.domain, (h, False))))
+    return replace(search, field_z=field_z), replace(setup, setting=exact, field_z=field_z)
+
+
 def _rational_field(model: Model, name: str, say: Say) -> tuple[Model, Any] | str | None:
     """``(G = f Q as a model, Q)`` for a rational field, a reason it cannot be, or None."""
     from proofkit.certificate import model_section
@@ -240,6 +267,9 @@ def estimate_basin(
     setup = setup_basin(rational[0] if rational else model, name, None, say)
     if isinstance(setup, str):
         return fail(setup)
+    exact_setup = setup
+    if rational:
+        setup, exact_setup = _natural_domain(setup, rational[1])
     if _lyapunov_start(setup) is None:
         return fail(
             f"the linearization at {name} has an eigenvalue with real part >= 0 (numerically): "
@@ -256,7 +286,7 @@ def estimate_basin(
             f"quadratic V was feasible, or the programs exceed {MAX_GRAM} rows"
         )
     rat = (model, rational[1]) if rational else None
-    cert, den, why = _certify_best(setup, found, say, rat)
+    cert, den, why = _certify_best(exact_setup, found, say, rat)
     if cert is None:
         return fail(why)
     say("auditing the certificate")
