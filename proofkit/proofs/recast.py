@@ -263,6 +263,17 @@ def _inside(res: RecastResult, lifted: np.ndarray) -> float:
     return float(np.mean(_values(res.v, lifted) <= level)) if len(lifted) else 0.0
 
 
+def _shape(
+    datas: tuple[SearchData, SearchData], degree: int, s0: dict, lifted: np.ndarray, margin: float
+) -> dict | None:
+    """The shape step with every obligation, else with the claim's set left to the samples."""
+    full, soft = datas
+    v_num = shape_step(full, degree, s0, lifted, margin, fallback=soft is full)
+    if v_num is None and soft is not full:
+        v_num = shape_step(soft, degree, s0, lifted, margin)
+    return v_num
+
+
 def region_search(
     model: Model,
     claim: Claim,
@@ -304,9 +315,7 @@ def region_search(
             say(f"recast: time limit of {time_limit:g} s reached after {r} round(s)")
             break
         say(f"recast: round {r + 1}: V of degree {degree} in {', '.join(prob.system.names)}")
-        v_num = shape_step(data, degree, s0, lifted, margin, fallback=soft is data)
-        if v_num is None and soft is not data:  # the claim's set left to the samples
-            v_num = shape_step(soft, degree, s0, lifted, margin)
+        v_num = _shape((data, soft), degree, s0, lifted, margin)
         if v_num is None:
             break
         res, hint = _certify(prob, v_num, degree, in_set, say)
