@@ -13,8 +13,10 @@ handled at both ends of a rational enclosure of sqrt d (the Lie derivative
 is affine in it). Never a truncated Taylor polynomial in place of the field.
 
 Public: :func:`attempt` (the prover interface of :mod:`proofkit.proofs`) and
-:func:`region_search` (one region-of-attraction search towards given
-sample points, e.g. a simulated region). Searching is numerical; the entry
+:func:`region_search` (the region-of-attraction search towards given
+sample points, e.g. a simulated region, in rounds of the bilinear
+iteration; the identities are matched modulo the circle relations, see
+:mod:`proofkit.proofs._recast_nf`). Searching is numerical; the entry
 is exact and only the audit (schemas ``recast-lyapunov-local``,
 ``recast-region-of-attraction``) decides. This module never marks a claim
 proved by itself.
