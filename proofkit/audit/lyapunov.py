@@ -178,6 +178,9 @@ def lyapunov_in_domain(model: ModelData, claim: ClaimData, checks: Checks) -> No
     Then V decreases along every trajectory in D and ``V >= eps|y|^2`` bounds it,
     so the trajectory exists for all time and ``y -> 0`` (the decrease is
     integrable and the derivative of ``|y|^2`` bounded on the bounded orbit).
+    ``m`` is the evidence's ``margin_power`` (1..4, absent: 1); ``m >= 2`` serves
+    equilibria that are not exponentially stable (``dx/dt = -x^3``), the argument
+    is the same with ``|y|^(2m)``.
     """
     require(model.domain is not None, "domain", "this theorem needs a declared domain")
     s = _Setup(model, claim, checks, {"eps"})
@@ -199,10 +202,11 @@ def lyapunov_in_domain(model: ModelData, claim: ClaimData, checks: Checks) -> No
             target = poly_add(target, _neg(poly_mul(mult[f"r{j + 1}_{k + 1}"], hk)))
         s.targets[f"invariant {j + 1}"] = target
     s.targets.update(mult)
+    power = claim.evidence.get("margin_power", 1)  # checked by _Setup: an integer 1..4
     checks.ok(
         f"positive: V - eps|y|^2 - sum p_j h_j, decrease: -lie(V) - eps (|y|^2)^m - sum q_j h_j "
-        f"over the {m} domain condition(s), p_j, q_j sums of squares: on the domain V >= "
-        "eps|y|^2 and V strictly decreases away from the point"
+        f"with m = {power}, over the {m} domain condition(s), p_j, q_j sums of squares: on the "
+        "domain V >= eps|y|^2 and V strictly decreases away from the point"
     )
     checks.ok(
         "invariant j: lie(h_j) - eps + u_j h_j - sum_k r_jk h_k with u_j, r_jk sums of "
