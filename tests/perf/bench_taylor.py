@@ -1,7 +1,7 @@
 """Benchmark: certified region of attraction of the damped swing equation, by Taylor models.
 
-    python tests/perf/bench_taylor.py [--degree 4] [--sin-order 6] [--cos-order 7]
-                                      [--rounds 12] [--grid 101]
+    python tests/perf/bench_taylor.py [--degree 6] [--sin-order 6] [--cos-order 7]
+                                      [--rounds 8] [--grid 101]
 
 Model and box as in ``bench_swing.py`` (the recast benchmark):
 ``dx1/dt = x2, dx2/dt = -x2/2 - (sin(x1 + pi/3) - sin(pi/3))`` on
@@ -47,10 +47,10 @@ def _value(evidence: dict, pts: np.ndarray) -> np.ndarray:
 
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawTextHelpFormatter)
-    ap.add_argument("--degree", type=int, default=4)
+    ap.add_argument("--degree", type=int, default=6)
     ap.add_argument("--sin-order", type=int, default=6)
     ap.add_argument("--cos-order", type=int, default=7)
-    ap.add_argument("--rounds", type=int, default=12)
+    ap.add_argument("--rounds", type=int, default=8)
     ap.add_argument("--grid", type=int, default=101)
     ap.add_argument("--quiet", action="store_true")
     args = ap.parse_args()
