@@ -209,6 +209,8 @@ def basin(
     ``equilibrium`` names a declared equilibrium (default: the first declared).
     A sum-of-squares search; the set counts as certified only after the audit
     accepted its certificate (``result.certified``). Slow (seconds to minutes).
+    Polynomial and rational fields (rational ones are searched multiplied through
+    by their denominators, which are certified positive on the set).
 
     >>> import proofkit
     >>> m = proofkit.parse("state x\\ndx/dt = -x + x^3\\nequilibrium o at x = 0")

@@ -5,7 +5,10 @@ Searches a Lyapunov function of the given degree whose sublevel set
 makes it exact, and audits the certificate before saying "proved". Progress
 (degree, iteration, level, time) goes to stderr unless ``--quiet``. Exit 0
 when a set was certified and audited, 1 when none was, 2 on bad input.
-Top-level imports are standard library only.
+Rational fields ``N_i / D_i`` are searched multiplied through by their
+denominators, with the denominators certified positive on the set (method
+``sublevel-set-rational``); other non-polynomial fields are "not proved" with
+the reason. Top-level imports are standard library only.
 """
 
 from __future__ import annotations
@@ -26,7 +29,12 @@ EXAMPLE = """example:
 
   writes roa/certificate.json (audited), roa/proof.md, roa/proof.tex and
   roa/phase.png (the certified set over the phase portrait), and prints
-  V, the level and the area of {V <= level}."""
+  V, the level and the area of {V <= level}.
+
+  proofkit basin culture_uptake.pk steady --json
+
+  a rational field (s/(1 + s)): searched multiplied by its denominator 1 + s,
+  which is certified positive on the set."""
 
 DEGREES = (2, 4, 6, 8, 10)
 
@@ -37,7 +45,9 @@ def register(subparsers: Any) -> None:
         help="certify the largest region of attraction of an equilibrium",
         description="Search V of the given degree whose sublevel set {V <= level} lies in the "
         "region of attraction of EQUILIBRIUM (sum-of-squares certificates made exact); the set "
-        "counts as certified only after the audit accepted its certificate.",
+        "counts as certified only after the audit accepted its certificate. Polynomial and "
+        "rational fields (the latter multiplied through by their denominators, certified "
+        "positive on the set).",
         epilog=EXAMPLE,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
