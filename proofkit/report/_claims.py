@@ -81,7 +81,7 @@ def _nonpoly_section(claim: Any, model: Any, raw: Mapping[str, Any]) -> Any:
         from proofkit.report._claims_taylor import taylor_model_blocks
 
         return lambda app: taylor_model_blocks(claim, model, app, trees)
-    if method == "sublevel-set-rational":
+    if method in ("sublevel-set-rational", "lyapunov-domain-rational"):
         return lambda app: rational.rational_basin_blocks(claim, model, app)
     if method in RATIONAL_CYCLES:
         return lambda app: rational.rational_cycle_blocks(claim, model, app)

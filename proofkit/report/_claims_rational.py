@@ -135,7 +135,7 @@ def _poly_terms(expr: sp.Expr, xs: Sequence[sp.Symbol]) -> list[list[Any]]:
 
 
 def rational_basin_blocks(claim: Any, model: Any, appendix: list[Block]) -> list[Block]:
-    """Q, G = f Q, the reparametrized region of attraction, and Q > 0 on the sublevel set."""
+    """Q, G = f Q, the reparametrized evidence, and Q > 0 on the sublevel set (or domain)."""
     ev = claim.evidence
     inner, den = ev.get("reparametrized") or {}, ev.get("denominator") or {}
     states = list(model.states)
@@ -177,7 +177,7 @@ def rational_basin_blocks(claim: Any, model: Any, appendix: list[Block]) -> list
                 "compact set where Q >= eps > 0)."
             ),
         ),
-        para(t("Region of attraction for G (the evidence under reparametrized):")),
+        para(t("The polynomial evidence for G (under reparametrized):")),
     ]
     shifted = [
         gi.subs({x: x + _q(c) for x, c in zip(xs, claim.point, strict=True)}, simultaneous=True)
@@ -189,16 +189,25 @@ def rational_basin_blocks(claim: Any, model: Any, appendix: list[Block]) -> list
         field=shifted,
         field_text="G(x^* + y)",
         field_words="G (the field multiplied through by Q)",
-        targets=OBLIGATIONS["region-of-attraction"],
+        targets=OBLIGATIONS[_inner_theorem(claim)],
     )
     out += sos_blocks(claim, model, appendix, view)
     out += _denominator_blocks(claim, model, den, inner, appendix)
     return out
 
 
+def _inner_theorem(claim: Any) -> str:
+    """The polynomial theorem the reparametrized evidence is checked against."""
+    if claim.method == "lyapunov-domain-rational":
+        return "lyapunov-global-in-domain"
+    return "region-of-attraction"
+
+
 def _denominator_blocks(
     claim: Any, model: Any, den: Mapping[str, Any], inner: Mapping[str, Any], appendix: list[Block]
 ) -> list[Block]:
+    if claim.method == "lyapunov-domain-rational":
+        return _domain_denominator_blocks(claim, model, den, appendix)
     eps = (den.get("numbers") or {}).get("eps", "?")
     level = (inner.get("numbers") or {}).get("level", "?")
     out = [
@@ -219,6 +228,32 @@ def _denominator_blocks(
     targets = {"denominator": "Q(x^* + y) - \\varepsilon_Q - t\\,(\\mathrm{level} - V)"}
     part = {k: v for k, v in den.items() if k != "numbers"}  # eps_Q is stated above
     view = SosView(evidence=part, names=list(model.states), targets=targets)
+    return out + sos_blocks(claim, model, appendix, view)
+
+
+def _domain_denominator_blocks(
+    claim: Any, model: Any, den: Mapping[str, Any], appendix: list[Block]
+) -> list[Block]:
+    eps = (den.get("numbers") or {}).get("eps", "?")
+    target = "Q(x^* + y) - \\varepsilon_Q - \\sum_j w_j\\, h_j(x^* + y)"
+    out = [
+        para(
+            t("Q is positive on the domain (the evidence under denominator): with "),
+            m(f"\\varepsilon_Q = {latex_number(eps)}"),
+            t(", the obligation "),
+            m(target),
+            t(" and the multipliers w_j are sums of squares, so "),
+            m("Q \\ge \\varepsilon_Q > 0"),
+            t(
+                " wherever every domain condition h_j >= 0 holds: no denominator vanishes on "
+                "the domain, f = G/Q there, the domain stays forward invariant for f and every "
+                "trajectory starting in it tends to the point (1/Q is bounded on its bounded "
+                "orbit)."
+            ),
+        )
+    ]
+    part = {k: v for k, v in den.items() if k != "numbers"}  # eps_Q is stated above
+    view = SosView(evidence=part, names=list(model.states), targets={"denominator": target})
     return out + sos_blocks(claim, model, appendix, view)
 
 

@@ -252,6 +252,12 @@ def _obligation(
     return out
 
 
+def _numbered(name: str) -> str:
+    """``invariant 2`` -> ``invariant j`` (the OBLIGATIONS key of a numbered family)."""
+    head, _, tail = name.rpartition(" ")
+    return f"{head} j" if head and tail.isdigit() else name
+
+
 def sos_blocks(
     claim: Any, model: Any, appendix: list[Block], view: SosView | None = None
 ) -> list[Block]:
@@ -269,7 +275,7 @@ def sos_blocks(
     targets = view.targets if view.targets is not None else OBLIGATIONS.get(claim.theorem or "", {})
     multipliers = ev.get("multipliers") or {}
     for name, sq in ev["squares"].items():
-        target = "p" if "p" in ev else targets.get(name)
+        target = "p" if "p" in ev else targets.get(name, targets.get(_numbered(name)))
         if target is None and name not in multipliers and not name.startswith(("within", "domain")):
             target = f"\\text{{{name}}}"
         if target is None and name.startswith(("within", "domain")):

@@ -46,6 +46,18 @@ THEOREMS: dict[str, tuple[str, str]] = {
         "If V is positive definite, decreases on {V <= level} and the claim's set lies inside "
         "{V <= level}, every trajectory from the set converges to the equilibrium." + _SOS,
     ),
+    "lyapunov-global-in-domain": (
+        "Lyapunov's theorem on a forward-invariant domain (Nagumo's condition, S-procedure)",
+        "If lie(h_j) > 0 wherever the domain condition h_j = 0 (the others >= 0), the domain is "
+        "forward invariant; if moreover V >= eps |y|^2 and dV/dt <= -eps (|y|^2)^m on the "
+        "domain, every trajectory starting in the domain tends to the equilibrium." + _SOS,
+    ),
+    "lyapunov-global-in-domain-rational-field": (
+        "Lyapunov's theorem on a forward-invariant domain, for the field times its denominators",
+        "If the domain is forward invariant for G = f Q, V decreases along G on it, and Q > 0 "
+        "on the domain, the same holds for f = G/Q (the same orbits at positive speed): every "
+        "trajectory starting in the domain tends to the equilibrium." + _SOS,
+    ),
     "index-no-equilibrium": (
         "index theory: a closed orbit in the plane encloses an equilibrium",
         "A convex set free of equilibria (|f|^2 > 0 on it) contains no closed orbit, since the "
@@ -198,6 +210,11 @@ OBLIGATIONS: dict[str, dict[str, str]] = {  # target of each obligation, as LaTe
         "positive": r"V - \varepsilon |y|^2",
         "decrease": r"-\dot V - \varepsilon (|y|^2)^m - s_0 (\mathrm{level} - V)",
         "inside": r"\mathrm{level} - V - \sum_i s_i g_i(x^* + y)",
+    },
+    "lyapunov-global-in-domain": {
+        "positive": r"V - \varepsilon |y|^2 - \sum_j p_j h_j(x^* + y)",
+        "decrease": r"-\dot V - \varepsilon (|y|^2)^m - \sum_j q_j h_j(x^* + y)",
+        "invariant j": r"\dot h_j - \varepsilon + u_j h_j - \sum_k r_{jk} h_k",
     },
     "index-no-equilibrium": {"apart": r"|f|^2 - \varepsilon - \sum_i s_i g_i"},
     "bendixson-dulac": {"divergence": r"\operatorname{div}(B f) - \varepsilon - \sum_i s_i g_i"},

@@ -418,3 +418,24 @@ def test_taylor_model_document_and_picture_of_an_audited_swing_proof() -> None:
     assert float(np.max(region.func(0.5 * np.cos(angle), 0.5 * np.sin(angle)))) <= region.level
     # computed (sin(d + pi/3) = sin(pi/3) at d = pi/3): the saddle is outside the certified set
     assert region.func(math.pi / 3, 0.0) > region.level
+
+
+# invented (as in tests/nonpoly): Q = 2 - x >= 1 on the box, the field points inward on its faces
+RATIONAL_BOX = """state x, y
+dx/dt = -x/(2 - x)
+dy/dt = -y + x^2/(2 - x)
+domain x >= -1 and x <= 1 and y >= -2 and y <= 2
+equilibrium o at x = 0, y = 0
+claim o globally stable
+"""
+
+
+def test_rational_global_stability_in_a_domain_is_explained() -> None:
+    run = prove_model(proofkit.parse(RATIONAL_BOX, "rational_box.pk"))
+    assert run.outcomes[0].method == "lyapunov-domain-rational"
+    md = render_markdown(run.certificate, run.audit, _meta())
+    assert "Q = -x + 2" in md  # computed by hand: the one denominator, positive at 0
+    assert "Q(x^* + y) - \\varepsilon_Q - \\sum_j w_j\\, h_j(x^* + y)" in md
+    assert "Obligation invariant 1: $\\dot h_j - \\varepsilon + u_j h_j" in md
+    assert "Lyapunov's theorem on a forward-invariant domain, for the field times" in md
+    assert "could not be rebuilt" not in md and "no line-by-line section" not in md
