@@ -22,6 +22,7 @@ from proofkit.audit import audit_certificate
 from proofkit.audit._taylor_field import derive_models, taylor_coefficient
 from proofkit.audit.enclosures import read_expressions
 from proofkit.audit.numbers import Num
+from proofkit.audit.schemas import Rejected
 from proofkit.certificate import model_section, new_certificate
 from proofkit.proofs._taylor_system import taylor_system
 from proofkit.proofs.taylor_model import attempt
@@ -190,6 +191,16 @@ def test_fields_outside_the_method_get_a_reason(rhs: str, words: str) -> None:
     found = attempt(model, model.claims[0], lambda _m: None)
     assert found is not None and found.entry["status"] == "not proved"
     assert words in found.entry["reason"]
+
+
+@pytest.mark.parametrize("atom", ["tanh(x1)", "exp(x1) + 1"])
+def test_the_audit_refuses_atoms_other_than_sin_and_cos(atom: str) -> None:
+    # A certificate cannot make the audit drop an atom it has no model for.
+    src = f"state x1, x2\ndx1/dt = x2\ndx2/dt = -x2 - sin(x1) - {atom}\n"
+    trees = model_section(proofkit.parse(src, "m.pk"))["expressions"]["components"]
+    exprs = read_expressions({"variables": ["x1", "x2"], "components": trees}, ["x1", "x2"], [])
+    with pytest.raises(Rejected, match="not covered"):
+        derive_models(exprs, [Num.of(0), Num.of(0)], [], {"atoms": [], "enclosure": None}, "t")
 
 
 def _models(src: str, orders: tuple[int, int]) -> tuple:
