@@ -77,6 +77,10 @@ def _nonpoly_section(claim: Any, model: Any, raw: Mapping[str, Any]) -> Any:
         from proofkit.report._claims_recast import recast_blocks
 
         return lambda app: recast_blocks(claim, model, app, trees)
+    if method == "dulac-recast":
+        from proofkit.report._claims_recast_cycles import recast_dulac_blocks
+
+        return lambda app: recast_dulac_blocks(claim, model, app, trees)
     if method == "taylor-model":
         from proofkit.report._claims_taylor import taylor_model_blocks
 

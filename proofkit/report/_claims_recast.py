@@ -362,6 +362,9 @@ def _base(name: str, domain: Sequence[Any] | None, arg: str = "z") -> str:
         return f"-\\nabla V \\cdot F{sub}({arg}) - \\varepsilon |y|^2"
     if name == "inside":
         return "\\mathrm{level} - V"
+    if name.startswith("divergence"):
+        end = name.split(" ", 1)[1] if " " in name else ""
+        return (f"P_{{\\mathrm{{{end}}}}}" if end else "P") + f"({arg}) - \\varepsilon"
     if name.startswith("domain ") and name[7:].isdigit() and domain:
         j = int(name[7:]) - 1
         strict = j < len(domain) and bool(domain[j].get("strict"))
@@ -391,24 +394,24 @@ def _nominal(model: Any, names: Sequence[str]) -> list[Any] | None:
     return None if any(v is None for v in out) else out
 
 
-def recast_blocks(
-    claim: Any, model: Any, appendix: list[Block], expressions: Mapping[str, Any] | None
-) -> list[Block]:
-    """The recast section of a claim, or None when the trees are not at hand."""
-    from proofkit.report._claims import generic_blocks
-
+def recast_intro(
+    claim: Any,
+    model: Any,
+    expressions: Mapping[str, Any] | None,
+    point: Sequence[Any] | None,
+    what: str = "V",
+) -> tuple[_System, list[sp.Expr], list[Block]] | None:
+    """The recast system around ``point`` and its description (None: not recast)."""
     ev, states = claim.evidence, list(model.states)
     variables = list((expressions or {}).get("variables") or [])
     nominal = _nominal(model, variables[len(states) :])
     comps = (expressions or {}).get("components") or []
-    view = (
-        recast_view(comps, len(states), claim.point or (), nominal or [])
-        if nominal is not None and claim.point
-        else None
-    )
+    if nominal is None or not point:
+        return None
+    view = recast_view(comps, len(states), point, nominal)
     if view is None:
-        return generic_blocks(claim)
-    sys = _System(view, states, claim.point, nominal or [])
+        return None
+    sys = _System(view, states, point, nominal)
     field = sys.field(comps)
     block = ev.get("recast") or {}
     d = max((r for f in field if (r := _radicand(f, sys.ys + sys.zs))), default=0)
@@ -420,7 +423,7 @@ def recast_blocks(
                 "provenance); the certificate adds only the Taylor order "
                 f"({block.get('taylor_order')}), "
                 + ("the enclosure of a square root, " if block.get("enclosure") else "")
-                + "V, the numbers, the multipliers and one Gram matrix per obligation."
+                + f"{what}, the numbers, the multipliers and one Gram matrix per obligation."
             )
         ),
         *_variables_blocks(sys),
@@ -428,7 +431,20 @@ def recast_blocks(
         *_constraint_blocks(sys, int(block.get("taylor_order") or 0)),
         *_enclosure_blocks(block, d),
     ]
-    table, targets = _obligation_table(ev, model.domain)
+    return sys, field, out
+
+
+def recast_blocks(
+    claim: Any, model: Any, appendix: list[Block], expressions: Mapping[str, Any] | None
+) -> list[Block]:
+    """The recast section of a Lyapunov or region-of-attraction claim."""
+    from proofkit.report._claims import generic_blocks
+
+    found = recast_intro(claim, model, expressions, claim.point)
+    if found is None:
+        return generic_blocks(claim)
+    sys, field, out = found
+    table, targets = _obligation_table(claim.evidence, model.domain)
     out += [
         para(
             t(

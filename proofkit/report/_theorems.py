@@ -178,6 +178,18 @@ THEOREMS: dict[str, tuple[str, str]] = {
         "over the Jacobian enclosure is positive: it is stable there, so a claim of "
         "instability for every value in the range is false." + _ROUTH,
     ),
+    "bendixson-dulac-recast": (
+        "the Bendixson–Dulac criterion with a Dulac function in recast variables",
+        "If b(x) = B(z(x)) gives div(b f) > 0 on a convex (so simply connected) set, no closed "
+        "orbit lies in it; the divergence is a polynomial P in the recast variables, shown "
+        "positive on the set cut out by the recast constraints." + _SOS,
+    ),
+    "another-equilibrium-in-the-set": (
+        "a second equilibrium in the claim's set",
+        "An equilibrium other than the claim's lies in the claim's set (and the domain); the "
+        "trajectory starting there stays there, so it does not converge to the claim's "
+        "equilibrium.",
+    ),
     "recast-lyapunov-local": (
         "Lyapunov's theorem on a sublevel set of the recast system (recasting, S-procedure)",
         "If V(y, z) >= eps |y|^2 and its derivative along the recast field is <= -eps |y|^2 "

@@ -439,3 +439,46 @@ def test_rational_global_stability_in_a_domain_is_explained() -> None:
     assert "Obligation invariant 1: $\\dot h_j - \\varepsilon + u_j h_j" in md
     assert "Lyapunov's theorem on a forward-invariant domain, for the field times" in md
     assert "could not be rebuilt" not in md and "no line-by-line section" not in md
+
+
+def test_recast_divergence_is_the_divergence_of_b_f_in_numpy() -> None:
+    from proofkit.report._claims_recast_cycles import divergence
+
+    model = proofkit.parse(MIXED, "mixed.pk")
+    sys, field, _constraints = _system({"model": model_section(model)}, 1)
+    x, y = sys.ys
+    s1, c1, e1, t1 = sys.zs
+    b = 1 + x * s1 + y * c1 * e1 + t1**2 * x  # an arbitrary Dulac function over z
+    p = sp.lambdify(sys.ys + sys.zs, divergence(sys, field[:2], b), "numpy")
+
+    def b_times_f(u: float, v: float) -> tuple[float, float]:
+        z = (u, v, math.sin(u), math.cos(u) - 1, math.exp(u - v) - 1, math.tanh(u + v))
+        bz = float(sp.lambdify(sys.ys + sys.zs, b)(*z))
+        f2 = -math.sin(u + math.pi / 6) + 0.5 - v * math.exp(u - v) + v * math.cos(u)
+        return bz * v, bz * (f2 - math.tanh(u + v))
+
+    h = 1e-6
+    for u, v in np.random.default_rng(7).uniform(-1.5, 1.5, size=(8, 2)):
+        # computed (numpy central differences): div(b f) at (u, v)
+        div = (b_times_f(u + h, v)[0] - b_times_f(u - h, v)[0]) / (2 * h)
+        div += (b_times_f(u, v + h)[1] - b_times_f(u, v - h)[1]) / (2 * h)
+        z = (u, v, math.sin(u), math.cos(u) - 1, math.exp(u - v) - 1, math.tanh(u + v))
+        assert p(*z) == pytest.approx(div, rel=1e-6, abs=1e-6)
+
+
+# the damped pendulum (invented numbers): div f = -1/2 < 0, so no periodic orbit anywhere
+PENDULUM_DISC = """system pend
+state x, v
+dx/dt = v
+dv/dt = -sin(x) - v/2
+claim no cycle in x^2 + v^2 <= 4
+"""
+
+
+def test_recast_dulac_document() -> None:
+    run = prove_model(proofkit.parse(PENDULUM_DISC, "pend.pk"))
+    assert run.outcomes[0].method == "dulac-recast"
+    md = render_markdown(run.certificate, run.audit, _meta())
+    assert "The recast system is built around the zero $x = 0, v = 0$." in md
+    assert "| divergence" in md and "$P(z) - \\varepsilon$" in md
+    assert "Divergence P of b f" in md and "Bendixson–Dulac criterion (Green's theorem)" in md
