@@ -217,6 +217,21 @@ def _evidence_blocks(
         return sos_blocks(claim, model, appendix)
     if "cover" in ev:
         return range_blocks(claim)
+    if claim.method == "equilibrium-in-set" and isinstance(ev.get("point"), list | tuple):
+        shown = ", ".join(
+            f"{latex_name(s)} = {latex_number(v, claim.number_field)}"
+            for s, v in zip(states, ev["point"], strict=False)
+        )
+        return [
+            para(
+                t("Another equilibrium, exactly: "),
+                m(shown),
+                t(
+                    ". The field vanishes there and it lies in the claim's set (and the domain), "
+                    "with exact signs; the audit rechecked both."
+                ),
+            )
+        ]
     if claim.counterexample is None:
         return generic_blocks(claim)
     return []

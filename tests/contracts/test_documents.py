@@ -167,3 +167,18 @@ def test_sum_of_squares_lyapunov_proof_shows_function_derivative_and_obligations
     assert "V - \\varepsilon |y|^2 = z^T G_{\\mathit{positive}} z" in md
     assert "Its exact LDL' factorisation gives the squares" in md
     assert "[x] V is radially unbounded" in md or "radially unbounded" in md
+
+
+def test_second_equilibrium_refutation_is_rendered_exactly() -> None:
+    # computed by hand: x - x^3 = x (1 - x)(1 + x), so (0, 0) is an equilibrium inside the
+    # disc of radius 2 about (1, 0)
+    text = (
+        "state x, y\ndx/dt = x - x^3\ndy/dt = -y\nequilibrium right at x = 1, y = 0\n"
+        "equilibrium middle at x = 0, y = 0\nclaim right attracts (x - 1)^2 + y^2 <= 4\n"
+    )
+    run = prove_model(proofkit.parse(text, "bistable.pk"))
+    assert run.outcomes[0].status == "refuted"
+    md = render_markdown(run.certificate, run.audit, _meta())
+    assert "Another equilibrium, exactly: $x = 0, y = 0$" in md
+    assert "a second equilibrium in the claim's set" in md
+    assert "Conclusion: the claim is false" in md
