@@ -131,6 +131,11 @@ def _function_blocks(
             else "the deviation y = x - x* from the equilibrium (written with the state names)"
         )
         names = list(view.names or _function_names(ev[key], model))
+        if view.names is not None and len(names) > len(states):
+            coords = (
+                f"the variables {', '.join(names)} (the deviations of the states, written "
+                "with their names, then the recast variables)"
+            )
         over_range = len(names) > len(states) and view.names is None
         out.append(
             para(t(f"The {what}, in {coords}: "), m(f"{key} = " + latex_poly(ev[key], names)))
