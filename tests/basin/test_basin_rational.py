@@ -10,7 +10,9 @@ Check values and where they come from:
   ``solve_ivp`` (computed: RK45, rtol 1e-9) on the rational field itself, not on G.
 * ``POLE``: ``dx/dt = -x/(1 - x)``, ``dy/dt = -y`` has its pole on the line x = 1
   (derived by hand); any certified set must stay on the side x < 1. There is no
-  domain: only the natural domain (Q = 1 - x > 0) bounds the search.
+  domain: only the natural domain (Q = 1 - x > 0) bounds the search. ``NEGATIVE``:
+  ``dx/dt = x/(x - 2) + y``, ``dy/dt = -y``: the denominator is negative at the point,
+  so Q = 2 - x (sign normalised), pole on x = 2 (derived by hand).
 """
 
 from __future__ import annotations
@@ -35,6 +37,13 @@ POLE = """\
 system pole
 state x, y
 dx/dt = -x/(1 - x)
+dy/dt = -y
+equilibrium o at x = 0, y = 0
+"""
+NEGATIVE = """\
+system negative_denominator
+state x, y
+dx/dt = x/(x - 2) + y
 dy/dt = -y
 equilibrium o at x = 0, y = 0
 """
@@ -116,10 +125,11 @@ def test_tampered_rational_basin_is_rejected(culture_basin, part: str) -> None:
     assert audit_certificate(cert).claims[-1].status == "rejected", part
 
 
-def test_a_set_near_a_pole_stays_on_its_side() -> None:
+@pytest.mark.parametrize(("text", "pole"), [(POLE, 1.0), (NEGATIVE, 2.0)])
+def test_a_set_near_a_pole_stays_on_its_side(text: str, pole: float) -> None:
     from proofkit.proofs.basin import estimate_basin
 
-    run = estimate_basin(proofkit.parse(POLE, "pole.pk"), "o", degree=2, seconds_per_degree=3)
+    run = estimate_basin(proofkit.parse(text, "pole.pk"), "o", degree=2, seconds_per_degree=3)
     assert run.status == "proved", run.reason  # the search keeps to Q >= Q(x*)/16
     assert audit_text(run.text).claims[-1].status == "proved"
     x, y = sp.symbols("x y")
@@ -127,7 +137,7 @@ def test_a_set_near_a_pole_stays_on_its_side() -> None:
     g = np.linspace(-20, 20, 801)
     xx, yy = np.meshgrid(g, g)
     inside = v(xx, yy) <= float(run.level)
-    assert inside.any() and (xx[inside] < 1).all()  # never reaches the pole x = 1
+    assert inside.any() and (xx[inside] < pole).all()  # never reaches the pole
 
 
 def test_elementary_functions_are_refused_with_the_reason() -> None:
