@@ -261,3 +261,19 @@ def test_the_true_swing_field_lies_between_the_vertex_fields(a: float, b: float)
     for fld in _swing_vertices():
         vals.append(sum(c * a ** e[0] * b ** e[1] for e, c in fld))
     assert min(vals) - 1e-9 <= true <= max(vals) + 1e-9
+
+
+def test_prove_with_taylor_models_alone_is_audited_once_and_documented(monkeypatch) -> None:
+    # The whole run (certificate writer, final audit, provenance, documents) with
+    # only this method, as prove would use it when the recast finds nothing.
+    import proofkit.proofs as proofs
+    from proofkit.report import DocumentMeta, render_markdown
+
+    monkeypatch.setattr(proofs, "PROVERS", ("taylor_model",))
+    src = SWING.replace("claim E attracts", "claim E stable\nclaim E attracts")
+    run = proofs.prove_model(proofkit.parse(src, "swing.pk"))
+    assert [o.status for o in run.outcomes] == ["proved", "proved"]
+    assert {o.method for o in run.outcomes} == {"taylor-model"}
+    assert run.provenance.ok
+    meta = DocumentMeta(command="prove swing.pk", certificate_sha256="0" * 64, version="test")
+    assert "Taylor" in render_markdown(run.certificate, run.audit, meta)
