@@ -171,7 +171,9 @@ class TaylorSearch:
         prob = cp.Problem(cp.Maximize(t.var[0]), [*cons, t.var[0] <= 1.0])
         return prob, c, t, grams, mults
 
-    def level(self, v: NumPoly, c_hint: float, steps: int = 5) -> Hint | None:
+    def level(
+        self, v: NumPoly, c_hint: float, steps: int = 5, backoff: float = 0.99
+    ) -> Hint | None:
         """The largest level with a margin (bisection on a cvxpy Parameter), and its hint."""
         parts = self._program(v)
         prob, c, t = parts[:3]
@@ -195,7 +197,7 @@ class TaylorSearch:
         for _ in range(steps):
             mid = (lo * hi) ** 0.5
             lo, hi = (mid, hi) if ok(mid) else (lo, mid)
-        return self.hint(v, 0.97 * lo, parts)
+        return self.hint(v, backoff * lo, parts)
 
     def hint(self, v: NumPoly, level: float, parts: tuple | None = None) -> Hint | None:
         """Multipliers and Gram matrices at a fixed level with the largest margin."""
@@ -214,7 +216,7 @@ class TaylorSearch:
             },
         )
 
-    def shape(self, hint: Hint, samples: np.ndarray, keep: float = 0.2) -> NumPoly | None:
+    def shape(self, hint: Hint, samples: np.ndarray, keep: float = 0.05) -> NumPoly | None:
         """A new V, feasible at the hint's level with its multipliers, samples inside."""
         n = self.n
         supp = full_basis(n, self.v_degree, 2)
