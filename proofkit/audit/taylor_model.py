@@ -1,4 +1,4 @@
-"""Schemas for Lyapunov and region-of-attraction proofs by Taylor models (sin/cos fields).
+"""Schemas for Lyapunov and region-of-attraction proofs by Taylor models (sin/cos/exp fields).
 
 The field comes from the model section's expression trees
 (``model.expressions``, compared with the source by provenance). The audit
@@ -18,6 +18,8 @@ are obligations of their own, and an absent one is zero):
 - ``decrease <vertex>`` for every vertex field F_v (e.g. ``decrease (+1, -1)``,
   ``decrease lo (+1, -1)``): -grad V . F_v - eps|y|^2 - m (level - V)
   (label ``level``);
+- ``bound j`` per exp atom (its model holds where its argument is at most the
+  stated D_j): D_j - delta_j(y) - m (level - V) (label ``level``);
 - region of attraction only: ``inside``: level - V - sum_i m_i g_i(x* + y)
   (labels ``set i``); ``domain j``: h_j(x* + y) (minus eps when strict)
   - m (level - V) (label ``level``).
@@ -124,7 +126,7 @@ def _setup(model: ModelData, claim: ClaimData, checks: Checks) -> tuple[Any, ...
             args.append(delta)
     shown = "; ".join(
         f"{f}(delta{args.index(delta) + 1}) = T_{k} + {r} delta{args.index(delta) + 1}^{k + 1} "
-        f"u{i + 1}, |u{i + 1}| <= 1"
+        + (f"u{i + 1}, |u{i + 1}| <= 1" if f != "exp" else f"w{i + 1}, 0 <= w{i + 1} <= 1")
         for i, (f, delta, k, r) in enumerate(tm.atoms)
     )
     checks.ok(
@@ -146,6 +148,15 @@ def _setup(model: ModelData, claim: ClaimData, checks: Checks) -> tuple[Any, ...
     for label, fld in tm.vertices:
         base = poly_add(_neg(_lie(v, fld)), poly_scale(norm, -eps))
         obl.add(f"decrease {label}", base, [("level", gap)])
+    for j, (delta, bound) in enumerate(tm.bounds):  # exp models hold where delta <= D
+        obl.add(
+            f"bound {j + 1}",
+            poly_add(poly_constant(Num.of(bound), n), _neg(delta)),
+            [("level", gap)],
+        )
+    if tm.bounds:
+        shown_b = ", ".join(f"D{j + 1} = {b}" for j, (_d, b) in enumerate(tm.bounds))
+        checks.ok(f"bound j: each exp argument is at most D_j on {{V <= level}} ({shown_b})")
     checks.ok(
         f"positive: V - eps|y|^2 >= 0, eps = {num['eps']}; decrease: -grad V . F_v - eps|y|^2 "
         f">= 0 where V <= level = {num['level']}, at each of the {len(tm.vertices)} vertex "

@@ -40,6 +40,7 @@ class ExactProblem:
     eps: Fraction
     sets: tuple[flint.fmpq_mpoly, ...]
     domain: tuple[tuple[flint.fmpq_mpoly, bool], ...]
+    bounds: tuple[flint.fmpq_mpoly, ...] = ()  # D - delta per exp atom (held on the set)
 
     def norm(self) -> flint.fmpq_mpoly:
         g = self.system.ctx.gens()
@@ -83,20 +84,22 @@ def _targets(
     mult_json: dict[str, Any] = {}
     squares: dict[str, Any] = {}
     todo: dict[str, tuple] = {}
-    items = [(f"decrease {lbl}", fld) for lbl, fld in prob.system.vertices]
-    items += [(f"domain {j + 1}", None) for j in range(len(prob.domain))]
-    for name, fld in items:
+    items: list[tuple[str, Any, Any]] = [
+        (f"decrease {lbl}", fld, None) for lbl, fld in prob.system.vertices
+    ]
+    items += [
+        (f"domain {j + 1}", None, h - eps if strict else h)
+        for j, (h, strict) in enumerate(prob.domain)
+    ]
+    items += [(f"bound {j + 1}", None, b) for j, b in enumerate(prob.bounds)]
+    for name, fld, other in items:
         key = name.replace("decrease hi ", "decrease lo ")  # the search ran on the lo end
         basis, q = hint.mult[key]
         g = psd_gram(prob.to_y(basis, q))
         if g is None:
             return f"the multiplier of {name!r} did not round to a PSD Gram matrix"
         m = gram_form(ctx, basis, g)
-        if fld is not None:
-            base = -_lie(v, fld, ctx) - eps * prob.norm()
-        else:
-            h, strict = prob.domain[int(name.split()[1]) - 1]
-            base = h - eps if strict else h
+        base = -_lie(v, fld, ctx) - eps * prob.norm() if fld is not None else other
         if not m.is_zero():
             mult_json[f"{name} * level"] = poly_json(m)
             squares[f"{name} * level"] = _square(basis, g)

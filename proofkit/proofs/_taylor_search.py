@@ -20,7 +20,7 @@ rebuilds every obligation exactly; this module never decides anything.
 from __future__ import annotations
 
 import warnings
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import cvxpy as cp
@@ -96,6 +96,7 @@ class TaylorSearch:
     sets: list[NumPoly]  # claim-set conditions g_i(x* + D z) >= 0
     domain: list[NumPoly]  # domain conditions (minus eps when strict)
     v_degree: int
+    bounds: list[NumPoly] = field(default_factory=list)  # D - delta per exp atom
 
     def _halves(self, dv: int) -> tuple[int, int]:
         """Half degrees of the decrease Gram basis and of its level multiplier for deg V = dv."""
@@ -117,6 +118,7 @@ class TaylorSearch:
         affs, grams, mults = {}, {}, {}
         items = [(f"decrease {lbl}", fld, None) for lbl, fld in self.fields]
         items += [(f"domain {j + 1}", None, h) for j, h in enumerate(self.domain)]
+        items += [(f"bound {j + 1}", None, h) for j, h in enumerate(self.bounds)]
         for name, fld, h in items:
             aff = Affine(n)
             if fld is not None:

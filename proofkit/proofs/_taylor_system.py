@@ -27,7 +27,14 @@ import flint
 
 from proofkit.proofs._recast_system import Unsupported, build_system
 
-__all__ = ["TaylorSystem", "Unsupported", "coefficient", "enclosure", "taylor_system"]
+__all__ = [
+    "TaylorSystem",
+    "Unsupported",
+    "coefficient",
+    "enclosure",
+    "exp_remainder",
+    "taylor_system",
+]
 
 ENCLOSURE_BITS = 48
 MAX_VERTICES = 16
@@ -35,6 +42,8 @@ MAX_VERTICES = 16
 
 def coefficient(function: str, j: int) -> Fraction:
     """The coefficient of ``delta^j`` in the Taylor series of sin or cos at 0."""
+    if function == "exp":
+        return Fraction(1, factorial(j))
     odd = j % 2 == 1
     if (function == "sin") != odd:
         return Fraction(0)
@@ -59,7 +68,8 @@ class TaylorSystem:
 
     n: int
     ctx: Any  # fmpq_mpoly_ctx over y
-    atoms: tuple[tuple[str, flint.fmpq_mpoly, int], ...]  # (function, delta over y, order)
+    atoms: tuple[tuple[str, flint.fmpq_mpoly, int, Fraction, Fraction | None], ...]
+    # (function, delta over y, order, remainder coefficient, bound D of delta for exp)
     vertices: tuple[tuple[str, tuple[flint.fmpq_mpoly, ...]], ...]
     d: int
     enclosure: tuple[Fraction, Fraction] | None
@@ -68,16 +78,17 @@ class TaylorSystem:
     def evidence_block(self) -> dict[str, Any]:
         """The certificate's ``taylor_model`` object."""
         atoms = []
-        for function, delta, k in self.atoms:
-            atoms.append(
-                {
-                    "function": function,
-                    "argument": [[list(map(int, e)), str(c)] for e, c in delta.terms()],
-                    "order": k,
-                    "polynomial": [str(coefficient(function, j)) for j in range(k + 1)],
-                    "remainder": str(Fraction(1, factorial(k + 1))),
-                }
-            )
+        for function, delta, k, r, bound in self.atoms:
+            item = {
+                "function": function,
+                "argument": [[list(map(int, e)), str(c)] for e, c in delta.terms()],
+                "order": k,
+                "polynomial": [str(coefficient(function, j)) for j in range(k + 1)],
+                "remainder": str(r),
+            }
+            if bound is not None:
+                item["bound"] = str(bound)
+            atoms.append(item)
         enc = self.enclosure
         return {"atoms": atoms, "enclosure": None if enc is None else [str(x) for x in enc]}
 
@@ -89,22 +100,38 @@ class TaylorSystem:
         return out
 
 
-def _model(function: str, k: int, dz: Any, u: Any, one: Any) -> Any:
+def exp_remainder(bound: Fraction, k: int) -> Fraction:
+    """``r >= e^D/(k+1)!``: ``e^D <= (m/(m - D))^m`` with ``m = 16 ceil(D)``, rounded up."""
+    m = 16 * max(1, -(-bound.numerator // bound.denominator))
+    upper = (Fraction(m) / (m - bound)) ** m
+    scaled = upper * 2**40
+    return Fraction(-(-scaled.numerator // scaled.denominator), 2**40 * factorial(k + 1))
+
+
+def _model(function: str, k: int, dz: Any, u: Any, one: Any, r: Fraction) -> Any:
     acc = one * 0
-    for j in range(k + 1):
-        c = coefficient(function, j) - (1 if function == "cos" and j == 0 else 0)
+    for j in range(k + 1):  # cos - 1 (C) and exp - 1 (E): shifted by one
+        c = coefficient(function, j) - (1 if function != "sin" and j == 0 else 0)
         if c:
             acc = acc + dz**j * _q(c)
-    return acc + dz ** (k + 1) * _q(Fraction(1, factorial(k + 1))) * u
+    return acc + dz ** (k + 1) * _q(r) * u
 
 
 def taylor_system(
-    trees: list[Any], point: list[Fraction], nominal: list[Fraction], orders: tuple[int, int]
+    trees: list[Any],
+    point: list[Fraction],
+    nominal: list[Fraction],
+    orders: tuple[int, int],
+    exp_bound: Fraction = Fraction(1),
 ) -> TaylorSystem:
-    """Vertex fields at a rational point; ``orders`` = (order of sin, order of cos)."""
+    """Vertex fields at a rational point; ``orders`` = (order of sin, order of cos and exp).
+
+    An exp model holds where its argument is at most ``exp_bound`` (an obligation).
+    """
     rs = build_system(trees, point, nominal, 0)
-    if any(kind != "trig" for kind, _d in rs.deltas):
-        raise Unsupported("exp atoms are not covered by Taylor models yet")
+    if any(kind not in ("trig", "exp") for kind, _d in rs.deltas):
+        raise Unsupported("atoms other than sin, cos and exp are not covered")
+    pairs = sum(kind == "trig" for kind, _d in rs.deltas)
     n, nz, ctx = rs.n, rs.nz, rs.ctx
     states = rs.field[:n]  # the recast's derivative rules for S, C are not needed here
     monoms = [e for a, b in states for e in a.monoms() + b.monoms()]
@@ -116,13 +143,19 @@ def taylor_system(
     ctx_y = flint.fmpq_mpoly_ctx.get(tuple(f"y{i + 1}" for i in range(n)), "lex")
     gy = ctx_y.gens()
     down = [*gy, *([ctx_y.constant(0)] * (nz - n))]
+    boxes = []
     for idx in used:
-        pair, is_cos = divmod(idx - n, 2)
-        function = "cos" if is_cos else "sin"
-        k = orders[1] if is_cos else orders[0]
-        dz = rs.deltas[pair][1]
-        subs[idx] = _model(function, k, dz, g[idx], one)
-        atoms.append((function, dz.compose(*down, ctx=ctx_y), k))
+        if idx >= n + 2 * pairs:
+            function, dz, k = "exp", rs.deltas[idx - n - pairs][1], orders[1]
+            r, bound = exp_remainder(exp_bound, k), exp_bound
+        else:
+            pair, is_cos = divmod(idx - n, 2)
+            function = "cos" if is_cos else "sin"
+            k, dz = (orders[1] if is_cos else orders[0]), rs.deltas[pair][1]
+            r, bound = Fraction(1, factorial(k + 1)), None
+        subs[idx] = _model(function, k, dz, g[idx], one, r)
+        atoms.append((function, dz.compose(*down, ctx=ctx_y), k, r, bound))
+        boxes.append((idx, (1, 0) if function == "exp" else (1, -1)))
     full = [(a.compose(*subs, ctx=ctx), b.compose(*subs, ctx=ctx)) for a, b in states]
     for idx in used:
         if any(e[idx] > 1 for a, b in full for e in a.monoms() + b.monoms()):
@@ -134,9 +167,9 @@ def taylor_system(
     ends = [("", None)] if enc is None else [("lo ", enc[0]), ("hi ", enc[1])]
     vertices = []
     for label, end in ends:
-        for signs in product((1, -1), repeat=len(used)):
+        for signs in product(*[box for _i, box in boxes]):
             vals = list(down)
-            for idx, s in zip(used, signs, strict=True):
+            for (idx, _box), s in zip(boxes, signs, strict=True):
                 vals[idx] = ctx_y.constant(s)
             fld = []
             for a, b in full:
@@ -144,6 +177,6 @@ def taylor_system(
                 if end is not None:
                     p = p + b.compose(*vals, ctx=ctx_y) * _q(end)
                 fld.append(p)
-            name = ", ".join("+1" if s > 0 else "-1" for s in signs)
+            name = ", ".join({1: "+1", -1: "-1", 0: "0"}[s] for s in signs)
             vertices.append((f"{label}({name})", tuple(fld)))
     return TaylorSystem(n, ctx_y, tuple(atoms), tuple(vertices), rs.d, enc, tuple(point))

@@ -1,9 +1,11 @@
-"""Lyapunov and region-of-attraction proofs for sin/cos fields by Taylor models.
+"""Lyapunov and region-of-attraction proofs for sin/cos/exp fields by Taylor models.
 
 A Taylor model of an atom is its Taylor polynomial plus a rigorously bounded
 remainder: ``sin(delta) = T_k(delta) + delta^(k+1)/(k+1)! u`` with
 ``|u| <= 1`` for every real ``delta`` (Lagrange's remainder; every derivative
-of sin and cos is at most 1), the same for cos. The field becomes a
+of sin and cos is at most 1), the same for cos; ``exp(delta) = T_k(delta) +
+r delta^(k+1) w`` with ``0 <= w <= 1`` where ``delta <= D``, a bound certified on
+the set with its own obligation (``r >= e^D/(k+1)!``). The field becomes a
 polynomial in the deviation ``y`` and the remainders ``u``, affine in each
 ``u``; the remainders are a bounded uncertainty, handled by requiring the
 decrease at every *vertex field* (each ``u = +-1``; ``sqrt d`` at both ends
@@ -77,7 +79,11 @@ def _state_poly(ctx: Any, point: tuple[Fraction, ...], data: list[Any]) -> flint
 
 
 def _problem(
-    model: Model, claim: Claim, orders: tuple[int, int], scale: tuple[Fraction, ...] | None
+    model: Model,
+    claim: Claim,
+    orders: tuple[int, int],
+    scale: tuple[Fraction, ...] | None,
+    exp_bound: Fraction = Fraction(1),
 ) -> ExactProblem | str:
     if claim.kind not in ("stable", "attracts"):
         return "Taylor models prove stable and attracts claims"
@@ -99,14 +105,17 @@ def _problem(
             nominal.append(Fraction(int(p.nominal.p), int(p.nominal.q)))
     point = [Fraction(x) for x in pt]
     try:
-        system = taylor_system(trees, point, nominal, orders)
+        system = taylor_system(trees, point, nominal, orders, exp_bound)
     except Unsupported as exc:
         return f"{UNSUPPORTED}{exc}"
     ctx, pnt = system.ctx, system.point
     structure = claim_structure(model, claim)
     sets = tuple(_state_poly(ctx, pnt, c["g"]) for c in structure.get("set") or [])
     dom = tuple((_state_poly(ctx, pnt, c["g"]), c["strict"]) for c in section.get("domain") or [])
-    return ExactProblem(system, scale or tuple([Fraction(1)] * len(point)), EPS, sets, dom)
+    bounds = tuple(
+        ctx.constant(_q(b)) - delta for _f, delta, _k, _r, b in system.atoms if b is not None
+    )
+    return ExactProblem(system, scale or tuple([Fraction(1)] * len(point)), EPS, sets, dom, bounds)
 
 
 def _to_z(p: flint.fmpq_mpoly, scale: np.ndarray, divide: float = 1.0) -> NumPoly:
@@ -134,7 +143,8 @@ def _search_problem(prob: ExactProblem, degree: int) -> TaylorSearch:
             zero = tuple([0] * n)
             hz[zero] = hz.get(zero, 0.0) - float(EPS)
         dom.append(hz)
-    return TaylorSearch(n, fields, norm, sets, dom, degree)
+    bounds = [_to_z(b, d) for b in prob.bounds]
+    return TaylorSearch(n, fields, norm, sets, dom, degree, bounds)
 
 
 def _initial_v(search: TaylorSearch) -> NumPoly | None:
@@ -155,6 +165,18 @@ def _initial_v(search: TaylorSearch) -> NumPoly | None:
             e = tuple(int(k == i) + int(k == j) for k in range(n))
             v[e] = v.get(e, 0.0) + float(p[i, j])
     return v
+
+
+def _exp_bound(prob: ExactProblem, samples_y: np.ndarray) -> Fraction:
+    """A bound D for the exp arguments: their largest sampled value, with room, in 1/8."""
+    top = 0.0
+    for function, delta, _k, _r, _b in prob.system.atoms:
+        if function == "exp" and len(samples_y):
+            dn = _to_z(delta, np.ones(prob.system.n))
+            exps = np.array(list(dn), dtype=np.int64).reshape(-1, prob.system.n)
+            feats = np.prod(samples_y[:, None, :] ** exps[None, :, :], axis=2)
+            top = max(top, float(np.max(feats @ np.array(list(dn.values())))))
+    return min(Fraction(16), Fraction(ceil(8 * (1.25 * top + 0.125)), 8))
 
 
 def _scale(samples_y: np.ndarray) -> tuple[Fraction, ...]:
@@ -253,7 +275,7 @@ def region_search(
         return TaylorResult(None, first)
     point = np.array([float(x) for x in first.system.point])
     samples_y = np.asarray(samples_x, float) - point
-    prob = _problem(model, claim, orders, _scale(samples_y))
+    prob = _problem(model, claim, orders, _scale(samples_y), _exp_bound(first, samples_y))
     assert not isinstance(prob, str)
     d = np.array([float(x) for x in prob.scale])
     search = _search_problem(prob, degree)
