@@ -111,7 +111,8 @@ def _problem(
     ctx, pnt = system.ctx, system.point
     structure = claim_structure(model, claim)
     sets = tuple(_state_poly(ctx, pnt, c["g"]) for c in structure.get("set") or [])
-    dom = tuple((_state_poly(ctx, pnt, c["g"]), c["strict"]) for c in section.get("domain") or [])
+    domain = (section.get("domain") or []) if claim.kind == "attracts" else []  # as the schemas
+    dom = tuple((_state_poly(ctx, pnt, c["g"]), c["strict"]) for c in domain)
     bounds = tuple(
         ctx.constant(_q(b)) - delta for _f, delta, _k, _r, b in system.atoms if b is not None
     )

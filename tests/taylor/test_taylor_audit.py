@@ -340,3 +340,14 @@ def test_exp_saddle_is_never_proved_stable() -> None:
     model = proofkit.parse(src, "saddle.pk")
     found = attempt(model, model.claims[0], lambda _m: None)
     assert found is not None and found.entry["status"] != "proved"
+
+
+def test_claims_under_a_domain_are_proved_with_the_schema_obligations() -> None:
+    # attracts needs {V <= level} inside the domain ("domain 1"); stable does not.
+    src = SWING.replace("<= 1/4", "<= 1/9")
+    src = src.replace("equilibrium", "domain x1^2 + x2^2 < 1\nequilibrium") + "claim E stable\n"
+    model = proofkit.parse(src, "swing_domain.pk")
+    entries = [attempt(model, c, lambda _m: None).entry for c in model.claims]
+    assert "domain 1" in entries[0]["evidence"]["squares"]
+    report = audit_certificate(new_certificate(model_section(model), entries), 60)
+    assert [v.status for v in report.claims] == ["proved", "proved"]
