@@ -362,6 +362,8 @@ def _base(name: str, domain: Sequence[Any] | None, arg: str = "z") -> str:
         return f"-\\nabla V \\cdot F{sub}({arg}) - \\varepsilon |y|^2"
     if name == "inside":
         return "\\mathrm{level} - V"
+    if name.startswith("bound ") and name[6:].isdigit():
+        return f"D - \\delta({arg})\\; (\\text{{exp atom {name[6:]}}})"
     if name.startswith("divergence"):
         end = name.split(" ", 1)[1] if " " in name else ""
         return (f"P_{{\\mathrm{{{end}}}}}" if end else "P") + f"({arg}) - \\varepsilon"

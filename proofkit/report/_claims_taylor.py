@@ -1,4 +1,4 @@
-"""Claim sections of Taylor-model proofs (method ``taylor-model``), line by line.
+"""Claim sections of Taylor-model proofs (method ``taylor-model``), line by line (sin, cos, exp).
 
 Each ``sin``/``cos`` atom of the field is replaced by its Taylor polynomial
 plus a remainder carried as a bounded uncertainty: ``sin(delta) = T_k(delta) +
@@ -43,7 +43,8 @@ _VERTICES = (
     "Why the vertex fields suffice. The field with the models, F(y, u), is affine in each "
     "remainder u_i (the audit checks it) and in the square root of the constants, so at every "
     "state the true field f(x* + y) is a convex combination of the vertex fields F_v (each "
-    "u_i = +1 or -1, the square root at either end of its enclosure). V depends on y only, so "
+    "u_i = +1 or -1, for exp u_i = 1 or 0, the square root at either end of its enclosure). "
+    "V depends on y only, so "
     "dV/dt = grad V . f(x* + y) is the same convex combination of the values grad V . F_v, "
     "and is at most the largest of them: where every vertex obligation gives grad V . F_v <= "
     "-eps|y|^2 (on V <= level), so does the true derivative."
@@ -65,19 +66,25 @@ def _atom_rows(atoms: list[Mapping[str, Any]], states: list[str]) -> tuple[Any, 
         d = sp.Symbol(f"delta_{i + 1}", real=True)
         poly = sum(_q(c) * d**j for j, c in enumerate(atom.get("polynomial") or []))
         arg = _poly_latex(_expr(atom.get("argument") or [], ys), ys)
-        r = atom.get("remainder", "?")
-        least = Fraction(1, factorial(k + 1))
+        r = latex_number(atom.get("remainder", "0"))
+        least = latex_number(str(Fraction(1, factorial(k + 1))))
+        u = f"u_{{{i + 1}}}"
+        if atom.get("function") == "exp":
+            bound = latex_number(atom.get("bound", "0"))
+            rest = (
+                f"{r}\\, \\delta_{{{i + 1}}}^{{{k + 1}}} {u},\\; 0 \\le {u} \\le 1,\\; "
+                f"\\text{{where }} \\delta_{{{i + 1}}} \\le D = {bound};\\; {r} \\ge M\\,{least}"
+            )
+        else:
+            rest = (
+                f"{r}\\, \\delta_{{{i + 1}}}^{{{k + 1}}} {u},\\; |{u}| \\le 1,\\; {r} \\ge {least}"
+            )
         rows.append(
             (
                 (m(f"\\{atom.get('function')} \\delta_{{{i + 1}}}"),),
                 (m(f"\\delta_{{{i + 1}}} = {arg}"),),
                 (m(_latex(poly)),),
-                (
-                    m(
-                        f"{latex_number(r)}\\, \\delta_{{{i + 1}}}^{{{k + 1}}} u_{{{i + 1}}},\\;"
-                        f" {latex_number(r)} \\ge {latex_number(str(least))}"
-                    ),
-                ),
+                (m(rest),),
             )
         )
     return tuple(rows)
@@ -90,7 +97,7 @@ def _model_field(
     states = list(model.states)
     comps = expressions.get("components") or []
     view = recast_view(comps, len(states), claim.point or (), [])
-    if view is None or view.exps or view.tanhs:
+    if view is None or view.tanhs:
         return None
     sys = _System(view, states, claim.point, [])
     f = [sp.expand(tree_sympy(c, sys.at, sys.atom)) for c in comps]
@@ -101,13 +108,17 @@ def _model_field(
         u = sp.Symbol(f"u{i + 1}", real=True)
         value = sum(_q(c) * delta**j for j, c in enumerate(atom.get("polynomial") or []))
         value += _q(atom.get("remainder", "0")) * delta ** (k + 1) * u
-        for p in range(len(view.pairs)):
+        for p in range(len(sys.deltas)):
             s, c = sys.variable(p)
-            if sp.expand(sys.deltas[p] - delta) == 0:
-                if atom.get("function") == "sin":
-                    subs[s] = value
-                elif c is not None:
-                    subs[c] = value - 1
+            if sp.expand(sys.deltas[p] - delta) != 0:
+                continue
+            kind = sys.kind(p)[0]
+            if kind == "exp" and atom.get("function") == "exp":
+                subs[s] = value - 1
+            elif kind == "trig" and atom.get("function") == "sin":
+                subs[s] = value
+            elif kind == "trig" and atom.get("function") == "cos" and c is not None:
+                subs[c] = value - 1
     if any(sym not in subs for fi in f for sym in fi.free_symbols if sym in sys.zs):
         return None
     return [sp.expand(fi.subs(subs, simultaneous=True)) for fi in f]
@@ -123,16 +134,20 @@ def taylor_model_blocks(
     out = [
         para(
             t(
-                "Taylor models: each sin or cos atom of the field is its Taylor polynomial plus "
+                "Taylor models: each sin, cos or exp atom of the field is its Taylor polynomial "
+                "plus "
                 "a remainder carried as a bounded uncertainty u, |u| <= 1, never the truncated "
                 "polynomial alone. By Lagrange's form of the remainder, "
             ),
             m("\\sin\\delta - T_k(\\delta) = \\sin^{(k+1)}(\\xi)\\, \\delta^{k+1}/(k+1)!"),
             t(
                 " with every derivative of sin and cos at most 1 in absolute value, so the "
-                "stated remainder coefficient r >= 1/(k+1)! covers every real argument. The "
-                "audit derives the atoms from the model's expression trees and checks each "
-                "stated coefficient:"
+                "stated remainder coefficient r >= 1/(k+1)! covers every real argument. For exp "
+                "the remainder is e^xi delta^(k+1)/(k+1)! with xi between 0 and delta: where "
+                "delta <= D (the obligation bound j) it is r delta^(k+1) u with 0 <= u <= 1 and "
+                "r >= M/(k+1)!, M = (m/(m - D))^m >= e^D, m = 16 ceil(D). The audit derives "
+                "the atoms from the model's expression trees and checks each stated "
+                "coefficient:"
             ),
         ),
         Block(

@@ -482,3 +482,34 @@ def test_recast_dulac_document() -> None:
     assert "The recast system is built around the zero $x = 0, v = 0$." in md
     assert "| divergence" in md and "$P(z) - \\varepsilon$" in md
     assert "Divergence P of b f" in md and "Bendixson–Dulac criterion (Green's theorem)" in md
+
+
+# exp(x1) - 1 restoring force (as in tests/taylor): the energy x2^2/2 + exp(x1) - 1 - x1
+# decreases along the field (computed by hand), so the origin attracts a small disc
+EXP_WELL = """state x1, x2
+dx1/dt = x2
+dx2/dt = -x2 - (exp(x1) - 1)
+equilibrium O at x1 = 0, x2 = 0
+claim O attracts x1^2 + x2^2 <= 1/4
+"""
+
+
+def test_taylor_model_with_an_exp_atom_shows_its_bound() -> None:
+    from proofkit.certificate import dumps, new_certificate
+    from proofkit.proofs.taylor_model import attempt
+
+    model = proofkit.parse(EXP_WELL, "well.pk")
+    found = attempt(model, model.claims[0], lambda _m: None)
+    assert found is not None and found.entry["method"] == "taylor-model"
+    cert_text = dumps(new_certificate(model_section(model), [found.entry]))
+    report = audit_text(cert_text, 60)
+    assert report.claims[0].status == "proved", report.claims[0].message
+    md = render_markdown(json.loads(cert_text), report, _meta())
+    assert "| $\\exp \\delta_{1}$ | $\\delta_{1} = x_{1}$ |" in md
+    assert "0 \\le u_{1} \\le 1" in md and "\\text{where } \\delta_{1} \\le D =" in md
+    assert "| bound 1 | $D - \\delta(y)\\; (\\text{exp atom 1})$ | level |" in md
+    # computed by hand: exp(x1) - 1 = x1 + x1^2/2 + ... + r x1^(k+1) u1, so F's second row
+    # holds the remainder term, -x1^2/2, -x1 and -x2
+    k = found.entry["evidence"]["taylor_model"]["atoms"][0]["order"]
+    row = next(ln for ln in md.splitlines() if f"x_{{1}}^{{{k + 1}}} u_{{1}}" in ln)
+    assert "\\frac{1}{2} x_{1}^{2} - x_{1} - x_{2}" in row
