@@ -34,6 +34,16 @@ for every real ``delta`` (alternating Taylor bounds of order ``j``):
 negative (L) or positive (U) term, the same for ``delta S`` against
 ``delta`` times the sine series, and ``E + 1 >= sum_{k < 2j} delta^k / k!``.
 
+Reciprocal atoms (only when :func:`derive` is called with ``reciprocal=True``,
+after the ``tanh`` atoms, so the order of every other variable is unchanged):
+per distinct denominator ``q`` (a negative power ``q^-k`` of a rational
+polynomial with ``q(x*) != 0``, no atom inside) the variable ``R = 1/q(x* + y)
+- r0``, ``r0 = 1/q(x*)`` (``q^-k = (R + r0)^k``), the derivative rule ``dR/dt =
+-(R + r0)^2 D`` with ``D = grad q . f`` and the equality ``reciprocal k``:
+``(R + r0) q(x* + y) - 1 = 0``; ``Recast.poles`` holds ``denominator k`` =
+``sign(q(x*)) q(x* + y)``, which the schemas certify bounded away from 0.
+A negative power of a constant is its exact inverse.
+
 This module must never import anything outside the standard library and
 :mod:`proofkit.audit`, never use floating point, and never take a
 substitution, a derivative rule or a constraint from the certificate.
@@ -106,6 +116,8 @@ class Recast:
     inequalities: tuple[tuple[str, Poly], ...]  # valid for every real delta
     d: int  # radicand of the field's coefficients (0: rational)
     enclosure: tuple[Fraction, Fraction] | None  # lo <= sqrt(d) <= hi
+    poles: tuple[tuple[str, Poly], ...] = ()  # ("denominator k", sign(q(x*)) q(x* + y)) over z
+    reciprocals: tuple[str, ...] = ()  # labels of the equalities that define an R
 
     def vertex_fields(self) -> list[tuple[str, tuple[Poly, ...]]]:
         """The field with sqrt(d) replaced by each end of its enclosure (rational)."""
@@ -125,8 +137,8 @@ def _var(i: int, nz: int) -> Poly:
     return {tuple(int(j == i) for j in range(nz)): Num.of(1)}
 
 
-def _one(nz: int) -> Poly:
-    return poly_constant(Num.of(1), nz)
+def _one(nz: int, c: int = 1) -> Poly:
+    return poly_constant(Num.of(c), nz)
 
 
 def _enclosure(block: dict[str, Any], d: int, where: str) -> tuple[Fraction, Fraction] | None:
@@ -192,6 +204,8 @@ class _Walk:
         self.pairs: list[Poly] = []  # delta of each trigonometric pair (over y)
         self.exps: list[Poly] = []  # delta of each exponential atom (over y)
         self.tanhs: list[Poly] = []  # delta of each tanh atom (over y)
+        self.recips: list[Poly] = []  # q(x* + y) of each reciprocal atom (over y)
+        self.reciprocal = False  # negative powers are recast (else refused)
         self.d = 0
         self.nz = self.n  # fixed after pass 1
 
@@ -255,7 +269,8 @@ class _Walk:
                 return poly_constant(Num.of(self.nominal[i - self.n]), nz)
             return poly_add(_var(i, nz), poly_constant(self.point[i], nz))
         if op == "^":
-            require(e[2] >= 0, "recast", "a negative power (rational terms are not recast here)")
+            if e[2] < 0:
+                return self._reciprocal(e[1], -e[2])
             return _pow(self.poly(e[1]), e[2], nz)
         if op in ("+", "*"):
             acc = self.poly(e[1])
@@ -267,6 +282,25 @@ class _Walk:
         require(op in ("sin", "cos", "exp", "tanh"), "recast", f"{op} is not recast here")
         delta, q = self._delta(e[1])
         return self._atom(op, delta, q)
+
+    def _reciprocal(self, base: tuple[Any, ...], k: int) -> Poly:
+        """``q^-k`` as ``(R + r0)^k`` (a constant ``q``: its exact inverse)."""
+        require(self.reciprocal, "recast", "a negative power (rational terms are not recast here)")
+        require(not _has_atom(base), "recast", "an atom inside an atom (in a denominator)")
+        nz, n = self.nz, self.n
+        short = {x[:n]: v for x, v in self.poly(base).items()}
+        require(all(v.b == 0 for v in short.values()), "recast", "an irrational denominator")
+        q0 = short.get(tuple([0] * n), Num.of(0))
+        require(not q0.is_zero(), "recast", "a denominator vanishes at the point")
+        r0 = Num.of(1 / q0.a)
+        if all(sum(x) == 0 for x in short):
+            return poly_constant(Num.of(r0.a**k), nz)
+        if short not in self.recips:
+            self.recips.append(short)
+        j = n + 2 * len(self.pairs) + len(self.exps) + len(self.tanhs) + self.recips.index(short)
+        if j >= nz:  # pass 1: only collecting
+            return {}
+        return _pow(poly_add(_var(j, nz), poly_constant(r0, nz)), k, nz)
 
     def _atom(self, op: str, delta: Poly, q: Fraction) -> Poly:
         nz, n = self.nz, self.n
@@ -298,6 +332,15 @@ class _Walk:
         return poly_add(poly_scale(c1, cq), poly_scale(s, -sq))
 
 
+def _has_atom(e: tuple[Any, ...]) -> bool:
+    """Whether a tree holds an elementary atom or a negative power."""
+    if e[0] in ("sin", "cos", "exp", "tanh", "tan", "log"):
+        return True
+    if e[0] == "^":
+        return e[2] < 0 or _has_atom(e[1])
+    return e[0] in ("+", "*") and any(_has_atom(a) for a in e[1:])
+
+
 def _embed(p: Poly, nz: int) -> Poly:
     return {x + tuple([0] * (nz - len(x))): v for x, v in p.items()}
 
@@ -311,9 +354,17 @@ def _grad_dot(delta: Poly, f: list[Poly], n: int, nz: int) -> Poly:
 
 
 def derive(
-    exprs: tuple[Any, ...], point: list[Num], nominal: list[Fraction], block: Any, where: str
+    exprs: tuple[Any, ...],
+    point: list[Num],
+    nominal: list[Fraction],
+    block: Any,
+    where: str,
+    reciprocal: bool = False,
 ) -> Recast:
-    """The recast system of the field ``exprs`` at ``point``; ``block`` = evidence.recast."""
+    """The recast system of the field ``exprs`` at ``point``; ``block`` = evidence.recast.
+
+    ``reciprocal``: negative powers become reciprocal atoms (else they are refused).
+    """
     if not isinstance(block, dict):
         raise FormatError(f"{where}: expected an object")
     only_keys(block, {"enclosure", "taylor_order"}, where)
@@ -321,15 +372,16 @@ def derive(
     require(0 <= order <= MAX_ORDER, "recast", f"taylor_order must be 0..{MAX_ORDER}")
     n = len(point)
     walk = _Walk(point, nominal)
+    walk.reciprocal = reciprocal
     for e in exprs:  # pass 1: the atoms
         walk.poly(e)
-    nz = n + 2 * len(walk.pairs) + len(walk.exps) + len(walk.tanhs)
-    require(nz > n, "recast", "the field has no sin, cos, exp or tanh to recast")
+    nz = n + 2 * len(walk.pairs) + len(walk.exps) + len(walk.tanhs) + len(walk.recips)
+    require(nz > n, "recast", "the field has no sin, cos, exp, tanh or 1/q to recast")
     require(nz <= MAX_VARIABLES, "recast", f"more than {MAX_VARIABLES} recast variables")
     walk.nz = nz
-    counts = (len(walk.pairs), len(walk.exps), len(walk.tanhs))
+    counts = (len(walk.pairs), len(walk.exps), len(walk.tanhs), len(walk.recips))
     f = [walk.poly(e) for e in exprs]
-    again = (len(walk.pairs), len(walk.exps), len(walk.tanhs))
+    again = (len(walk.pairs), len(walk.exps), len(walk.tanhs), len(walk.recips))
     require(counts == again, "recast", "an atom inside an atom")
     zero = tuple([0] * nz)
     require(
@@ -363,5 +415,27 @@ def derive(
         sector = poly_add(poly_mul(dz, t), poly_scale(poly_mul(t, t), Num.of(-1)))
         bounds = [sector, *_taylor(dz, nz, min(order, 1), "tanh", t, t)]  # vanish at y = 0
         ineqs += [(f"tanh {k + 1}.{i + 1}", g) for i, g in enumerate(bounds)]
+    poles = _reciprocals(walk, f, full, names, eqs)
     enc = _enclosure(block, walk.d, where)
-    return Recast(n, nz, tuple(names), tuple(full), tuple(eqs), tuple(ineqs), walk.d, enc)
+    labels = tuple(f"reciprocal {k + 1}" for k in range(len(poles)))
+    return Recast(
+        n, nz, tuple(names), tuple(full), tuple(eqs), tuple(ineqs), walk.d, enc, poles, labels
+    )
+
+
+def _reciprocals(
+    walk: _Walk, f: list[Poly], full: list[Poly], names: list[str], eqs: list
+) -> tuple[tuple[str, Poly], ...]:
+    """R = 1/q - r0 per reciprocal atom: dR/dt = -(R + r0)^2 D, (R + r0) q - 1 = 0."""
+    n, nz = walk.n, walk.nz
+    base = n + 2 * len(walk.pairs) + len(walk.exps) + len(walk.tanhs)
+    poles = []
+    for k, q in enumerate(walk.recips):
+        names.append(f"R{k + 1}")
+        q0 = q[tuple([0] * n)].a
+        rr = poly_add(_var(base + k, nz), poly_constant(Num.of(1 / q0), nz))
+        full.append(poly_scale(poly_mul(poly_mul(rr, rr), _grad_dot(q, f, n, nz)), Num.of(-1)))
+        qz = _embed(q, nz)
+        eqs.append((f"reciprocal {k + 1}", poly_add(poly_mul(rr, qz), _one(nz, -1))))
+        poles.append((f"denominator {k + 1}", poly_scale(qz, Num.of(1 if q0 > 0 else -1))))
+    return tuple(poles)

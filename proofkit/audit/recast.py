@@ -33,6 +33,34 @@ invariant, and every trajectory in it tends to x* (local asymptotic
 stability; with ``inside`` and ``domain``, the claim's set lies in the region
 of attraction and the sublevel set in the domain).
 
+Reciprocal atoms (``R = 1/q - r0``, equality ``reciprocal k``; numbers add
+``eps_q``). W is defined only on the open set U = {x : every q(x) != 0}, so
+the schemas add, per denominator, with ``sigma = sign q(x*)``:
+
+- ``denominator k``: sigma q(x* + y) - eps_q (inequalities ``level``,
+  Taylor; every equality, the reciprocal ones included);
+- region of attraction only, ``set denominator k``: sigma q(x* + y) - eps_q
+  (inequalities ``set i``, Taylor; the circle equalities only, NOT the
+  reciprocal ones, so R is unconstrained there).
+
+Why this is enough. Let K = {x in U : W(x) <= level}. Every x in K gives a
+point of the recast set (true atom values satisfy every equality and
+inequality) with level - V >= 0, so ``denominator k`` gives sigma q(x) >=
+eps_q > 0 on K. K is closed: a limit x of points of K has sigma q(x) >=
+eps_q, so x lies in U, where W is continuous, and W(x) <= level. K is bounded
+(W >= eps|y|^2), hence compact, and it stays eps_q away from every pole.
+Forward invariance: let T be the last time up to which a trajectory from K
+stays in K; x(T) lies in K (closed), inside U where the field and W are
+smooth, so if x(T) != x* then dW/dt < 0 there and the trajectory stays in U
+with W < level a little longer, a contradiction (x* itself is an
+equilibrium). Solutions exist for all t >= 0 (K compact), W decreases
+strictly away from x*, so every trajectory in K tends to x* (Lyapunov, or
+LaSalle's invariance principle). ``inside`` covers only points of the
+claim's set where every q != 0 (elsewhere no R exists); ``set denominator
+k`` holds for every R, so it shows sigma q >= eps_q on the whole claim's set,
+which therefore lies in U and, by ``inside``, in K. A claim whose set
+reaches a pole is never accepted.
+
 This module must never import anything outside the standard library and
 :mod:`proofkit.audit`, and never use floating point.
 """
@@ -106,7 +134,10 @@ class _Obligations:
             raise FormatError(f"{self.w}.{key}: expected an object")
         return {k: read_poly(p, self.rc.nz, 0, f"{self.w}.{key}.{k}") for k, p in data.items()}
 
-    def add(self, name: str, base: Poly, ineqs: list[tuple[str, Poly]]) -> None:
+    def add(
+        self, name: str, base: Poly, ineqs: list[tuple[str, Poly]], recips: bool = True
+    ) -> None:
+        """The obligation ``name``; ``recips``: the reciprocal equalities are hypotheses."""
         target = base
         for label, g in ineqs:
             key = f"{name} * {label}"
@@ -115,6 +146,8 @@ class _Obligations:
                 target = poly_add(target, _neg(poly_mul(self.sos[key], g)))
                 self.targets[key] = self.sos[key]
         for label, h in self.rc.equalities:
+            if not recips and label in self.rc.reciprocals:
+                continue
             key = f"{name} * {label}"
             if key in self.free:
                 self.used.add(key)
@@ -133,15 +166,17 @@ def _setup(model: ModelData, claim: ClaimData, checks: Checks) -> tuple[Any, ...
     n = len(model.states)
     point, nominal = _point(model, claim)
     block = get(ev, "recast", dict, w)
-    rc = derive(model.expressions or (), point, nominal, block, f"{w}.recast")
+    rc = derive(model.expressions or (), point, nominal, block, f"{w}.recast", reciprocal=True)
     checks.ok(
         f"recast: {rc.nz - n} new variable(s) {', '.join(rc.names[n:])} with substitutions, "
-        "derivative rules, circle constraints and Taylor bounds of order "
+        "derivative rules, circle"
+        + (" and reciprocal" if rc.poles else "")
+        + " constraints and Taylor bounds of order "
         f"{block.get('taylor_order')}, all derived by the audit from the field's expression trees"
     )
     v = read_poly(get(ev, "V", list, w), rc.nz, 0, f"{w}.V")
     require(tuple([0] * rc.nz) not in v, "V", "V has a constant term")
-    num = read_numbers(ev, {"eps", "level"}, w)
+    num = read_numbers(ev, {"eps", "level"} | ({"eps_q"} if rc.poles else set()), w)
     for k, x in num.items():
         require(x > 0, "numbers", f"{k} = {x} must be positive")
     if rc.enclosure is not None:
@@ -157,6 +192,14 @@ def _setup(model: ModelData, claim: ClaimData, checks: Checks) -> tuple[Any, ...
         name = f"decrease {label}".strip()
         base = poly_add(_neg(_lie(v, fld)), poly_scale(norm, -eps))
         obl.add(name, base, [("level", gap), *taylor])
+    for label, q in rc.poles:
+        base = poly_add(q, poly_constant(Num.of(-num["eps_q"]), rc.nz))
+        obl.add(label, base, [("level", gap), *taylor])
+    if rc.poles:
+        checks.ok(
+            f"denominator: sign(q(x*)) q >= eps_q = {num['eps_q']} where V <= level, for each "
+            f"of the {len(rc.poles)} denominator(s): the sublevel set keeps away from the poles"
+        )
     checks.ok(
         f"positive: V - eps|y|^2 >= 0 on the recast set, eps = {num['eps']}; decrease: "
         f"-lie(V) - eps|y|^2 >= 0 where V <= level = {num['level']}"
@@ -188,6 +231,9 @@ def recast_region(model: ModelData, claim: ClaimData, checks: Checks) -> None:
         for i, (g, _s) in enumerate(claim.set or ())
     ]
     obl.add("inside", gap, [*sets, *taylor])
+    for label, q in rc.poles:
+        base = poly_add(q, poly_constant(Num.of(-num["eps_q"]), nz))
+        obl.add(f"set {label}", base, [*sets, *taylor], recips=False)
     eps = Num.of(num["eps"])
     for j, (h, strict) in enumerate(model.domain or ()):
         base = poly_substitute(h, values, nz)

@@ -7,7 +7,12 @@ polynomial part ``a`` vanishes at the equilibrium gets new variables
 (``S = sin(delta)``, ``C = cos(delta) - 1`` per distinct ``delta = a(x* + y)``,
 ``E = exp(delta) - 1``, then ``T = tanh(delta)``), in order of first appearance,
 so that the variables are those the audit derives on its own. Constants live in Q(sqrt d): a
-polynomial is a pair ``(A, B)`` meaning ``A + sqrt(d) B``.
+polynomial is a pair ``(A, B)`` meaning ``A + sqrt(d) B``. With ``reciprocal=True``
+every negative power ``q^-k`` of a rational polynomial (``q(x*) != 0``, no atom
+inside) becomes ``(R + r0)^k``, ``R = 1/q(x* + y) - r0``, after the ``tanh``
+atoms: ``dR/dt = -(R + r0)^2 grad q . f``, equality ``reciprocal k``:
+``(R + r0) q - 1`` (kept apart from the circle relations), pole
+``denominator k``: ``sign(q(x*)) q``.
 
 This module builds exact polynomials only for the prover's own checks and
 for the numerical search; it decides nothing, and it must never import
@@ -46,6 +51,8 @@ class RecastSystem:
     inequalities: tuple[tuple[str, flint.fmpq_mpoly], ...]
     deltas: tuple[tuple[str, flint.fmpq_mpoly], ...]  # ("trig" | "exp", delta over z)
     point: tuple[Fraction, ...]
+    reciprocals: tuple[tuple[str, flint.fmpq_mpoly], ...] = ()  # (R + r0) q - 1
+    poles: tuple[tuple[str, flint.fmpq_mpoly], ...] = ()  # ("denominator k", sign(q(x*)) q)
 
     def vertex_fields(self, enclosure: tuple[Fraction, Fraction] | None) -> list[tuple[str, list]]:
         """The rational fields at the ends of the enclosure of sqrt(d) (or the field itself)."""
@@ -80,6 +87,10 @@ class RecastSystem:
                 cols += [np.sin(dv), np.cos(dv) - 1.0]
             elif kind == "tanh":
                 cols.append(np.tanh(dv))
+            elif kind == "reciprocal":  # R = 1/q - 1/q(x*)
+                q0 = _eval(delta, np.zeros((1, self.n)), self.nz)[0]
+                with np.errstate(divide="ignore"):
+                    cols.append(1.0 / dv - 1.0 / q0)
             else:
                 cols.append(np.expm1(dv))
         return np.stack(cols, axis=1)
@@ -102,6 +113,8 @@ class _Walker:
         self.trig: list[flint.fmpq_mpoly] = []  # deltas over y (ctx of n variables)
         self.exps: list[flint.fmpq_mpoly] = []
         self.tanhs: list[flint.fmpq_mpoly] = []
+        self.recips: list[flint.fmpq_mpoly] = []  # q(x* + y) per reciprocal atom
+        self.reciprocal = False
         self.small = flint.fmpq_mpoly_ctx.get(tuple(f"y{i}" for i in range(n)), "lex")
         self.d = 0
         self.ctx: Any = None  # the z context, set after pass 1
@@ -137,7 +150,7 @@ class _Walker:
             return acc
         if op == "^":
             if args[1] < 0:
-                raise Unsupported("a negative power (rational terms are not recast here)")
+                return self._reciprocal(args[0], -args[1])
             acc = self.const(Fraction(1))
             base = self.walk(args[0])
             for _ in range(args[1]):
@@ -148,6 +161,34 @@ class _Walker:
         if op in ("sin", "cos", "exp", "tanh"):
             return self._atom(op, args[0])
         raise Unsupported(f"{op} is not recast here")
+
+    def _reciprocal(self, base: Any, k: int) -> Pair:
+        """``q^-k`` as ``(R + r0)^k`` (a constant ``q``: its exact inverse)."""
+        if not self.reciprocal:
+            raise Unsupported("a negative power (rational terms are not recast here)")
+        if self.trig_used(base):
+            raise Unsupported("an atom inside an atom (in a denominator)")
+        saved, self.ctx = self.ctx, None
+        try:
+            a, b = self.walk(base)
+        finally:
+            self.ctx = saved
+        if not b.is_zero():
+            raise Unsupported("an irrational denominator")
+        terms = dict(zip(map(tuple, a.monoms()), a.coeffs(), strict=True))
+        q0 = terms.get(tuple([0] * self.n), flint.fmpq(0))
+        if q0 == 0:
+            raise Unsupported("a denominator vanishes at the equilibrium")
+        r0 = Fraction(int(q0.q), int(q0.p))
+        if len(terms) == 1:
+            return self.const(r0**k)
+        if a not in self.recips:
+            self.recips.append(a)
+        if self.ctx is None:
+            return self.const(Fraction(0))
+        j = self.n + 2 * len(self.trig) + len(self.exps) + len(self.tanhs)
+        rr = self.ctx.gens()[j + self.recips.index(a)] + self.ctx.constant(self.q(r0))
+        return rr**k, self.ctx.constant(0)
 
     def _root(self, c: Fraction) -> Pair:
         if c <= 0 or c.denominator != 1:
@@ -187,6 +228,8 @@ class _Walker:
 
     def trig_used(self, t: Any) -> bool:
         if isinstance(t, list):
+            if t[0] == "^" and isinstance(t[2], int) and t[2] < 0:
+                return True
             return t[0] in ("sin", "cos", "exp", "tan", "log", "tanh") or any(
                 self.trig_used(a) for a in t[1:]
             )
@@ -285,26 +328,35 @@ def _taylor(kind: str, delta: Any, var: Any, c1: Any, order: int, one: Any) -> l
 
 
 def build_system(
-    trees: list[Any], point: list[Fraction], nominal: list[Fraction], order: int
+    trees: list[Any],
+    point: list[Fraction],
+    nominal: list[Fraction],
+    order: int,
+    reciprocal: bool = False,
 ) -> RecastSystem:
-    """The recast system of the field's expression trees at a rational point."""
+    """The recast system of the field's expression trees at a rational point.
+
+    ``reciprocal``: negative powers become reciprocal atoms (else Unsupported).
+    """
     n = len(point)
     w = _Walker(n, point, nominal)
+    w.reciprocal = reciprocal
     for t in trees:  # pass 1: collect the atoms
         w.walk(t)
-    if not w.trig and not w.exps and not w.tanhs:
+    if not w.trig and not w.exps and not w.tanhs and not w.recips:
         raise Unsupported("the field has no sin, cos, exp or tanh to recast")
-    nz = n + 2 * len(w.trig) + len(w.exps) + len(w.tanhs)
+    nz = n + 2 * len(w.trig) + len(w.exps) + len(w.tanhs) + len(w.recips)
     names = [f"y{i + 1}" for i in range(n)]
     for k in range(len(w.trig)):
         names += [f"S{k + 1}", f"C{k + 1}"]
     names += [f"E{k + 1}" for k in range(len(w.exps))]
     names += [f"T{k + 1}" for k in range(len(w.tanhs))]
+    names += [f"R{k + 1}" for k in range(len(w.recips))]
     ctx = flint.fmpq_mpoly_ctx.get(tuple(f"z{i}" for i in range(nz)), "lex")
     w.ctx = ctx
-    counts = (len(w.trig), len(w.exps), len(w.tanhs))
+    counts = (len(w.trig), len(w.exps), len(w.tanhs), len(w.recips))
     f = [w.walk(t) for t in trees]
-    if counts != (len(w.trig), len(w.exps), len(w.tanhs)):
+    if counts != (len(w.trig), len(w.exps), len(w.tanhs), len(w.recips)):
         raise Unsupported("an atom inside an atom")
     g = ctx.gens()
     one = ctx.constant(1)
@@ -343,10 +395,30 @@ def build_system(
         bounds = [dz * t - t * t, *_taylor("tanh", dz, t, t, min(order, 1), one)]
         ineqs += [(f"tanh {k + 1}.{i + 1}", b) for i, b in enumerate(bounds)]
         deltas.append(("tanh", dz))
+    recips, poles = _reciprocals(w, f, full, deltas, up)
     for a, b in f:
         if any(sum(e) == 0 for e in a.monoms()) or any(sum(e) == 0 for e in b.monoms()):
             raise Unsupported("the recast field is not zero at the equilibrium")
     return RecastSystem(
         n, nz, tuple(names), ctx, tuple(full), w.d, tuple(eqs), tuple(ineqs), tuple(deltas),
-        tuple(point),
+        tuple(point), recips, poles,
     )  # fmt: skip
+
+
+def _reciprocals(w: _Walker, f: list[Pair], full: list[Pair], deltas: list, up: Any) -> tuple:
+    """R = 1/q - r0 per reciprocal atom: field rows, equalities and poles (audit's order)."""
+    n, ctx = w.n, w.ctx
+    base = n + 2 * len(w.trig) + len(w.exps) + len(w.tanhs)
+    recips, poles = [], []
+    for k, q in enumerate(w.recips):
+        terms = dict(zip(map(tuple, q.monoms()), q.coeffs(), strict=True))
+        q0 = terms[tuple([0] * n)]
+        rr = ctx.gens()[base + k] + ctx.constant(1 / q0)
+        qz = up(q)
+        da = sum((up(q.derivative(i)) * f[i][0] for i in range(n)), ctx.constant(0))
+        db = sum((up(q.derivative(i)) * f[i][1] for i in range(n)), ctx.constant(0))
+        full.append((-(rr * rr) * da, -(rr * rr) * db))
+        recips.append((f"reciprocal {k + 1}", rr * qz - ctx.constant(1)))
+        poles.append((f"denominator {k + 1}", qz if q0 > 0 else -qz))
+        deltas.append(("reciprocal", qz))
+    return tuple(recips), tuple(poles)

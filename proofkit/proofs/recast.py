@@ -6,7 +6,10 @@ Control, LNCIS 312, Springer 2005): every ``sin``/``cos``/``exp`` atom of the
 field gets new variables (``S = sin(delta)``, ``C = cos(delta) - 1``,
 ``E = exp(delta) - 1``) with their exact derivative rules along the flow, the
 equality ``S^2 + C^2 + 2C = 0`` and Taylor bounds that hold for every real
-argument; the Lyapunov conditions are then sums of squares on that
+argument; a reciprocal ``1/q`` gets ``R = 1/q - 1/q(x*)`` with ``(R + r0) q = 1``
+and obligations keeping ``sign(q(x*)) q >= eps_q`` on the sublevel set and the
+claim's set (searched without R, see :mod:`proofkit.proofs._recast_recip`);
+the Lyapunov conditions are then sums of squares on that
 semialgebraic set (free multipliers for the equalities, sum-of-squares
 multipliers for the inequalities). A field with constants in Q(sqrt d) is
 handled at both ends of a rational enclosure of sqrt d (the Lie derivative
@@ -35,7 +38,8 @@ import flint
 import numpy as np
 
 from proofkit.certificate import claim_entry, claim_scope, claim_structure, model_section
-from proofkit.proofs._recast_exact import exact_evidence, poly_json, round_poly
+from proofkit.proofs._recast_exact import exact_evidence, fraction, poly_json, round_poly
+from proofkit.proofs._recast_recip import Reduction, lift_evidence, reduce_system
 from proofkit.proofs._recast_search import Obligation, SearchData, hint_step, numeric, shape_step
 from proofkit.proofs._recast_system import RecastSystem, Unsupported, build_system
 
@@ -102,6 +106,34 @@ class _Problem:
     domain: list[tuple[flint.fmpq_mpoly, bool]]
     enclosure: tuple[Fraction, Fraction] | None
     order: int
+    reduction: Reduction | None = None  # a reciprocal atom: searched without R
+
+    def weighted_norm(self) -> flint.fmpq_mpoly:
+        """``|y|^2``, times the weight ``q^K`` of the reduced decrease obligation."""
+        return self.norm() * (self.reduction.weight if self.reduction else 1)
+
+    def eps_q(self) -> Fraction:
+        """The margin of the denominators: 1/16 of the smallest |q(x*)|."""
+        zero = tuple([0] * self.system.nz)
+        consts = [
+            fraction(dict(zip(map(tuple, q.monoms()), q.coeffs(), strict=True))[zero])
+            for _lbl, q in self.system.poles
+        ]
+        return min(consts, default=Fraction(1)) / 16
+
+    def pole_obligations(self, with_set: bool) -> list[Obligation]:
+        """``denominator k`` (and ``set denominator k``) for the search."""
+        zero = tuple([0] * self.system.nz)
+        tay = [(lbl, numeric(g)) for lbl, g in self.taylor()]
+        sets = [(f"set {i + 1}", numeric(g)) for i, (g, _st) in enumerate(self.sets)]
+        out = []
+        for label, q in self.system.poles:
+            base = numeric(q)
+            base[zero] = base.get(zero, 0.0) - float(self.eps_q())
+            out.append(Obligation(label, base, [("level", {}), *tay], extra=2))
+            if with_set:
+                out.append(Obligation(f"set {label}", dict(base), [*sets, *tay], extra=2))
+        return out
 
     def norm(self) -> flint.fmpq_mpoly:
         g = self.system.ctx.gens()
@@ -114,10 +146,12 @@ class _Problem:
         """The numerical obligations; without ``inside`` the claim's set is left to the samples."""
         s, eps = self.system, float(EPS) * 1.5
         neg_norm = {e: -eps * c for e, c in numeric(self.norm()).items()}
+        neg_wnorm = {e: -eps * c for e, c in numeric(self.weighted_norm()).items()}
         tay = [(lbl, numeric(g)) for lbl, g in self.taylor()]
         obs = [
             Obligation("positive", neg_norm, tay, v_sign=1.0),
-            Obligation("decrease", neg_norm, [("level", {}), *tay], lie=True, extra=2),
+            Obligation("decrease", neg_wnorm, [("level", {}), *tay], lie=True, extra=2),
+            *self.pole_obligations(attracts and inside),
         ]
         if attracts:
             zero = tuple([0] * s.nz)
@@ -139,12 +173,17 @@ class _Problem:
         out = {"positive": (v - eps * self.norm(), tay)}
         for label, fld in self.system.vertex_fields(self.enclosure):
             name = f"decrease {label}".strip()
-            out[name] = (-_lie(v, fld, ctx) - eps * self.norm(), [("level", gap), *tay])
+            out[name] = (-_lie(v, fld, ctx) - eps * self.weighted_norm(), [("level", gap), *tay])
+        eps_q = ctx_const(ctx, self.eps_q())
+        sets = [(f"set {i + 1}", g) for i, (g, _st) in enumerate(self.sets)]
+        for label, q in self.system.poles:
+            out[label] = (q - eps_q, [("level", gap), *tay])
         if attracts:
-            sets = [(f"set {i + 1}", g) for i, (g, _st) in enumerate(self.sets)]
             out["inside"] = (gap, [*sets, *tay])
             for j, (h, strict) in enumerate(self.domain):
                 out[f"domain {j + 1}"] = (h - eps if strict else h, [("level", gap), *tay])
+            for label, q in self.system.poles:
+                out[f"set {label}"] = (q - eps_q, [*sets, *tay])
         return out
 
 
@@ -173,12 +212,18 @@ def _problem(model: Model, claim: Claim, order: int) -> _Problem | str:
                 return f"the nominal value of {p.name} is not rational"
             nominal.append(Fraction(int(p.nominal.p), int(p.nominal.q)))
     try:
-        system = build_system(trees, [Fraction(x) for x in pt], nominal, order)
+        system = build_system(trees, [Fraction(x) for x in pt], nominal, order, reciprocal=True)
     except Unsupported as exc:
         return f"the field cannot be recast: {exc}"
+    reduction = None
+    if system.poles:
+        reduced = reduce_system(system)
+        if isinstance(reduced, str):
+            return f"the field cannot be recast: {reduced}"
+        system, reduction = reduced
     sets = [(_state_poly(system, c["g"]), c["strict"]) for c in structure.get("set") or []]
     dom = [(_state_poly(system, c["g"]), c["strict"]) for c in section.get("domain") or []]
-    return _Problem(system, sets, dom, _enclosure(system.d), order)
+    return _Problem(system, sets, dom, _enclosure(system.d), order, reduction)
 
 
 def _initial_s0(data: SearchData, scale: float) -> dict[str, dict[tuple[int, ...], float]]:
@@ -223,13 +268,26 @@ def _certify(
             continue
         sos, free, squares = out
         enc = prob.enclosure
+        v_out = v
+        if prob.reduction is not None:
+            lifted_ev = lift_evidence(prob.reduction, out, v, (_q(level), _q(EPS)), enc)
+            if isinstance(lifted_ev, str):
+                why = lifted_ev
+                say(f"recast: {why}")
+                continue
+            sos, free, squares = lifted_ev
+            full = prob.reduction.full
+            v_out = full.ctx.from_dict(
+                {(*map(int, e), 0): c for e, c in zip(v.monoms(), v.coeffs(), strict=True)}
+            )
         evidence = {
             "recast": {
                 "taylor_order": prob.order,
                 "enclosure": None if enc is None else [str(enc[0]), str(enc[1])],
             },
-            "V": poly_json(v),
-            "numbers": {"eps": str(EPS), "level": str(level)},
+            "V": poly_json(v_out),
+            "numbers": {"eps": str(EPS), "level": str(level)}
+            | ({"eps_q": str(prob.eps_q())} if prob.system.poles else {}),
             "multipliers": sos,
             "free": free,
             "squares": squares,
@@ -377,6 +435,10 @@ def attempt(model: Model, claim: Claim, progress: Callable[[str], None]) -> Proo
     if isinstance(prob, str):
         return None
     conditions = model.at_nominal().definedness
+    if prob.reduction is not None and all(
+        d.relation == "!=" and d.origin == "a denominator" for d in conditions
+    ):  # every denominator is the reciprocal atom, kept away from 0 by the certificate
+        conditions = ()
     if conditions:  # the recast certificate states the field everywhere; no such condition
         from proofkit.certificate import not_proved_entry
 
