@@ -36,13 +36,15 @@ def picture_name(pk_file: Path) -> str | None:
 
 
 def basin_picture(model: proofkit.Model, run: Any, path: Path) -> None:
-    """The portrait with the certified regions of the claims the audit accepted."""
+    """The portrait with the certified basins of the claims the audit accepted (cycle
+    claims' sets, which may cover the whole domain, are left to the document)."""
     from proofkit.analysis.surveying import survey
     from proofkit.report._portrait_data import model_portrait_data
     from proofkit.report.figures import save_portrait
 
     accepted = [c for c, v in zip(run.certificate["claims"], run.audit.claims, strict=True)
-                if v.status == "proved"]  # fmt: skip
+                if v.status == "proved" and c["claim"]["kind"] in ("attracts", "stable",
+                                                                   "unstable")]  # fmt: skip
     data = model_portrait_data(model, survey(model), {**run.certificate, "claims": accepted})
     save_portrait(data, path)
 
