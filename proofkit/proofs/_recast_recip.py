@@ -38,6 +38,8 @@ from proofkit.proofs._recast_system import RecastSystem
 
 __all__ = ["Reduction", "lift_evidence", "reduce_system"]
 
+MAX_GRAM = 120  # rows of one Gram matrix that the audit reads
+
 Gram = list[list[flint.fmpq]]
 
 
@@ -59,7 +61,8 @@ def _terms(p: Any) -> dict[tuple[int, ...], Any]:
 def _drop(p: Any, ctx: Any) -> Any:
     """A polynomial over z without R into the reduced context."""
     terms = _terms(p)
-    assert all(e[-1] == 0 for e in terms), "R where none is expected"
+    if any(e[-1] for e in terms):
+        raise ValueError("R in a polynomial of the reduced system")
     return ctx.from_dict({e[:-1]: c for e, c in terms.items()})
 
 
@@ -123,8 +126,7 @@ def _sos_gram(q: Any, n: int, ctx: Any) -> tuple[np.ndarray, Gram] | str:
     top = max((sum(e) for e in _terms(q)), default=0)
     if top % 2:
         return "the denominator (sign-normalised) is not a sum of squares (odd degree)"
-    basis = [e for e in _monomials(n, top // 2)]
-    b = np.array([e + (0,) * (ctx.nvars() - n) for e in basis], np.int64)
+    b = np.array([(*e, *[0] * (ctx.nvars() - n)) for e in _monomials(n, top // 2)], np.int64)
     m = len(b)
     g = cp.Variable((m, m), PSD=True)
     t = cp.Variable()
@@ -230,6 +232,10 @@ def lift_evidence(
     for key, item in squares.items():
         weighted = key.startswith("decrease")
         b, g = _square_z(item, red, weighted)
+        if len(b) > MAX_GRAM:
+            return (
+                f"the lifted Gram matrix of {key!r} has {len(b)} rows (the audit reads {MAX_GRAM})"
+            )
         out_sq[key] = _json_square(b, g)
         if key in sos:
             out_sos[key] = poly_json(gram_form(ctx, b, g))
