@@ -6,17 +6,19 @@ Searching with ``R`` in the Gram bases does not work: the square of every basis
 monomial containing ``R`` must be matched through ``lambda h``, whose top-degree
 terms again hold ``R^2`` (the rows of ``R`` are forced to be singular). So the
 search runs on the *reduced* system: V over the other variables only, and the
-field rows multiplied by the weight ``q^K`` (``K`` the highest power of
+field rows multiplied by the weight ``(sign(q(x*)) q)^K`` (``K`` the highest power of
 ``R + r0`` in them; ``(R + r0) -> 1/q`` makes them polynomials). The decrease
 obligation found there, ``D' = q^K (-lie(V) - eps|y|^2) = s gap + sum s_t g_t +
-sum lambda_c circle_c + b'Gb``, becomes the audit's by the factor ``W = (q (R + r0)^2)^K``,
-which equals ``q^-K`` on the recast set and is a sum of squares when ``sign(q(x*)) q``
-is one (Gram ``G_q``; then ``W`` has the Gram ``(G_q (x) [[1, r0], [r0, r0^2]])`` to
-the K-th Kronecker power): every multiplier and Gram matrix is multiplied by ``W``
-(Kronecker products, equal basis monomials merged: a congruence, PSD kept), and the
-exact remainder ``T - M`` is divided by ``h`` (the free multiplier ``decrease *
-reciprocal 1``; a nonzero remainder is a reason, never an entry). One denominator,
-``sign(q(x*)) q`` a sum of squares, is the scope here; others give a reason.
+sum lambda_c circle_c + b'Gb``, becomes the audit's by a factor ``W`` equal to
+``(sign(q(x*)) q)^-K`` on the recast set and a sum of squares: for K odd and
+``sign(q(x*)) q`` a sum of squares (Gram ``G_q``) ``W = (sigma q (R + r0)^2)^K`` (Gram
+``G_q (x) [[1, r0], [r0, r0^2]]`` to the K-th Kronecker power); otherwise K is raised
+to the next even number P and ``W = ((R + r0)^(P/2))^2`` (rank one). Every
+multiplier and Gram matrix is multiplied by ``W`` (Kronecker products, equal
+basis monomials merged: a congruence, PSD kept), and the exact remainder
+``T - M`` is divided by ``h`` (the free multiplier ``decrease * reciprocal 1``;
+a nonzero remainder is a reason, never an entry). One denominator is the scope
+here; more give a reason.
 
 Floating point only to find the Gram matrix of q (then exact: projection and LDL').
 Nothing here decides anything; the audit (``recast-*`` schemas) does.
@@ -26,6 +28,7 @@ from __future__ import annotations
 
 import json
 from dataclasses import dataclass, replace
+from math import comb
 from typing import Any
 
 import cvxpy as cp
@@ -93,6 +96,12 @@ def reduce_system(full: RecastSystem) -> tuple[RecastSystem, Reduction] | str:
     sigma = 1 if _r0(full) > 0 else -1
     rows = [[_by_u(a, full), _by_u(b, full)] for a, b in full.field[:nz]]
     power = max(max(max(part, default=0) for part in row) for row in rows)
+    gram = _sos_gram(q, full.n, ctx) if power % 2 else "an even power"
+    if isinstance(gram, str):  # W = (R + r0)^P, P even: the square of (R + r0)^(P/2)
+        power += power % 2
+        w_basis, w_gram = _w_square(full, power // 2)
+    else:
+        w_basis, w_gram = _w_gram(full, gram, power)
     field = []
     for row in rows:
         pair = []
@@ -102,10 +111,6 @@ def reduce_system(full: RecastSystem) -> tuple[RecastSystem, Reduction] | str:
                 acc = acc + ctx.from_dict(terms) * sigma**j * q ** (power - j)
             pair.append(acc)
         field.append(tuple(pair))
-    gram = _sos_gram(q, full.n, ctx)
-    if isinstance(gram, str):
-        return gram
-    w_basis, w_gram = _w_gram(full, gram, power)
     red = replace(
         full,
         nz=nz,
@@ -174,6 +179,15 @@ def _kron(b1: np.ndarray, g1: Gram, b2: np.ndarray, g2: Gram) -> tuple[np.ndarra
             if c != 0:
                 out[index[ri]][index[rj]] += c
     return np.array(keys, np.int64), out
+
+
+def _w_square(full: RecastSystem, m: int) -> tuple[np.ndarray, Gram]:
+    """``W = ((R + r0)^m)^2`` as a square over z (rank one)."""
+    r0 = _r0(full)
+    basis = np.zeros((m + 1, full.nz), np.int64)
+    basis[:, -1] = np.arange(m + 1)
+    coef = [flint.fmpq(comb(m, j)) * r0 ** (m - j) for j in range(m + 1)]
+    return basis, [[a * b for b in coef] for a in coef]
 
 
 def _w_gram(full: RecastSystem, gq: tuple[np.ndarray, Gram], power: int) -> tuple[np.ndarray, Gram]:

@@ -248,3 +248,19 @@ def test_local_stability_with_a_reciprocal_is_audited() -> None:
     assert "denominator 1" in entry["evidence"]["squares"]
     got = _audit(model, entry)
     assert got.status == "proved", got.message
+
+
+def test_a_denominator_that_changes_sign_is_proved_beside_its_pole() -> None:
+    # 1 - x is not a sum of squares: the certificate is lifted by W = (R + 1)^2 instead.
+    src = (
+        "system pole\nstate x\ndx/dt = -x - sin(x) + x^2/(1 - x)\nequilibrium rest at x = 0\n"
+        "claim rest attracts x^2 <= 1/100\n"
+    )
+    model, entry = _prove(src)
+    assert entry["status"] == "proved", entry
+    got = _audit(model, entry)
+    assert got.status == "proved", got.message
+    # computed (scipy solve_ivp): from the ends of the set the state tends to 0
+    for x0 in (-0.1, 0.1):
+        rhs = lambda _t, x: [-x[0] - np.sin(x[0]) + x[0] ** 2 / (1 - x[0])]  # noqa: E731
+        assert abs(solve_ivp(rhs, (0.0, 30.0), [x0], rtol=1e-9).y[0, -1]) < 1e-6
