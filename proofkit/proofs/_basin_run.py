@@ -226,8 +226,6 @@ def _rational_field(model: Model, name: str, say: Say) -> tuple[Model, Any] | st
             "polynomial and rational fields (for sin, cos, exp fields state an 'attracts' "
             "claim and run 'proofkit prove')"
         )
-    if any(p.is_uncertain for p in model.params):
-        return "a rational field with uncertain parameters: not supported by 'proofkit basin' yet"
     from proofkit.proofs._nonpoly_basin import reparametrized_model
     from proofkit.proofs.basin import _rational_point
 
