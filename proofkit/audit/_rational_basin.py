@@ -56,10 +56,11 @@ from proofkit.audit.schemas import (
     schema,
 )
 
-__all__ = ["lyapunov_in_domain_rational", "region_of_attraction_rational"]
+__all__ = ["at_nominal", "lyapunov_in_domain_rational", "region_of_attraction_rational"]
 
 
-def _nominal(p: Poly, model: ModelData) -> Poly:
+def at_nominal(p: Poly, model: ModelData) -> Poly:
+    """A polynomial over (states, uncertain parameters) with the parameters at nominal."""
     n = len(model.states)
     values = [{tuple(int(i == j) for j in range(n)): Num.of(1)} for i in range(n)]
     unknown = [q.name for q in model.uncertain if q.nominal is None]
@@ -84,8 +85,8 @@ def reparametrized(model: ModelData, point: list[Num]) -> tuple[ModelData, Poly]
     require(model.numerators is not None, "field", "the certificate states no vector field")
     require(model.denominators is not None, "field", "the field has no denominators")
     n = len(model.states)
-    nums = [_nominal(p, model) for p in model.numerators or ()]
-    dens = [_nominal(p, model) for p in model.denominators or ()]
+    nums = [at_nominal(p, model) for p in model.numerators or ()]
+    dens = [at_nominal(p, model) for p in model.denominators or ()]
     distinct: list[Poly] = []
     for d in dens:
         if d not in distinct:
@@ -100,7 +101,7 @@ def reparametrized(model: ModelData, point: list[Num]) -> tuple[ModelData, Poly]
         others = [d for d in distinct if d != den]
         g.append(poly_scale(poly_mul(num, _product(others, n)), sign))
     for k, (c, strict) in enumerate(model.conditions):
-        c = _nominal(c, model)
+        c = at_nominal(c, model)
         implied = strict and any(_proportional(c, poly_mul(d, d)) for d in distinct)
         require(implied, "definedness", f"condition {k + 1} is not a nonzero denominator")
     view = ModelData(

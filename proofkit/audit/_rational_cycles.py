@@ -42,13 +42,13 @@ from collections.abc import Callable
 from dataclasses import replace
 from typing import Any
 
+from proofkit.audit._rational_basin import at_nominal
 from proofkit.audit.algebra import (
     Poly,
     poly_add,
     poly_constant,
     poly_mul,
     poly_scale,
-    poly_substitute,
 )
 from proofkit.audit.cycles import annulus, dulac, index_no_equilibrium
 from proofkit.audit.numbers import Num
@@ -74,15 +74,6 @@ __all__ = [
 
 DENOMINATOR_KEYS = {"sign", "numbers", "multipliers", "squares"}
 Inner = Callable[[ModelData, ClaimData, Checks], None]
-
-
-def _nominal(p: Poly, model: ModelData) -> Poly:
-    n = len(model.states)
-    values = [{tuple(int(i == j) for j in range(n)): Num.of(1)} for i in range(n)]
-    unknown = [q.name for q in model.uncertain if q.nominal is None]
-    require(not unknown, "field", f"the nominal value of {unknown} is not rational")
-    values += [poly_constant(Num.of(q.nominal or 0), n) for q in model.uncertain]
-    return poly_substitute(p, values, n)
 
 
 def _product(ps: list[Poly], n: int) -> Poly:
@@ -119,8 +110,8 @@ def field_times_denominator(model: ModelData, sign: int) -> tuple[ModelData, Pol
     require(model.numerators is not None, "field", "the certificate states no vector field")
     require(model.denominators is not None, "field", "the field has no denominators")
     n = len(model.states)
-    nums = [_nominal(p, model) for p in model.numerators or ()]
-    dens = [_monic(_nominal(p, model)) for p in model.denominators or ()]
+    nums = [at_nominal(p, model) for p in model.numerators or ()]
+    dens = [_monic(at_nominal(p, model)) for p in model.denominators or ()]
     distinct: list[Poly] = []
     for _c, d in dens:
         if d not in distinct:
@@ -132,7 +123,7 @@ def field_times_denominator(model: ModelData, sign: int) -> tuple[ModelData, Pol
         others = [d for d in distinct if d != den]
         g.append(poly_scale(poly_mul(num, _product(others, n)), s / c))
     for k, (c, strict) in enumerate(model.conditions):
-        c = _nominal(c, model)
+        c = at_nominal(c, model)
         implied = strict and any(_positive_multiple(c, poly_mul(d, d)) for d in distinct)
         require(implied, "definedness", f"condition {k + 1} is not a nonzero denominator")
     view = ModelData(
