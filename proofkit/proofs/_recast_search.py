@@ -33,7 +33,15 @@ from proofkit.proofs._recast_lin import Affine, NumPoly, free_unknown, gram_unkn
 from proofkit.proofs._recast_nf import CircleReduction, normal_mask
 from proofkit.sos.basis import full_basis
 
-__all__ = ["Obligation", "SearchData", "hint_step", "numeric", "shape_step", "v_support"]
+__all__ = [
+    "Obligation",
+    "SearchData",
+    "hint_step",
+    "numeric",
+    "numeric_lie",
+    "shape_step",
+    "v_support",
+]
 
 
 def numeric(p: object) -> NumPoly:
@@ -89,7 +97,8 @@ def v_support(data: SearchData, degree: int) -> np.ndarray:
     return b[keep]
 
 
-def _lie(v: NumPoly, fld: list[NumPoly]) -> NumPoly:
+def numeric_lie(v: NumPoly, fld: list[NumPoly]) -> NumPoly:
+    """grad V . f for polynomials as {exponents: float} (the search side)."""
     out: NumPoly = {}
     for e, c in v.items():
         for i, fi in enumerate(fld):
@@ -118,7 +127,10 @@ def _obligation(data: SearchData, ob: Obligation, v: object, degree: int, level:
     aff = Affine(nz).add_const(ob.base)
     fixed = isinstance(v, dict)
     if ob.lie:
-        _ = aff.add_const(_lie(v, data.field), -1.0) if fixed else aff.add_lie(v, data.field, -1.0)
+        if fixed:
+            aff.add_const(numeric_lie(v, data.field), -1.0)
+        else:
+            aff.add_lie(v, data.field, -1.0)
     if ob.v_sign:
         _ = aff.add_const(v, ob.v_sign) if fixed else aff.add_product(v, one, ob.v_sign)
     mults = {}

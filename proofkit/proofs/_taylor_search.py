@@ -27,6 +27,7 @@ import cvxpy as cp
 import numpy as np
 
 from proofkit.proofs._recast_lin import Affine, NumPoly, Unknown, free_unknown, gram_unknown
+from proofkit.proofs._recast_search import numeric_lie
 from proofkit.sos.basis import full_basis
 
 __all__ = ["Hint", "TaylorSearch"]
@@ -36,20 +37,6 @@ FEASIBLE = 1e-7
 
 def _deg(p: NumPoly) -> int:
     return max((sum(e) for e in p), default=0)
-
-
-def _lie(v: NumPoly, fld: list[NumPoly]) -> NumPoly:
-    out: NumPoly = {}
-    for e, c in v.items():
-        for i, fi in enumerate(fld):
-            if e[i] == 0:
-                continue
-            de = list(e)
-            de[i] -= 1
-            for e2, c2 in fi.items():
-                k = tuple(a + b for a, b in zip(de, e2, strict=True))
-                out[k] = out.get(k, 0.0) + c * e[i] * c2
-    return out
 
 
 def _gram_poly(basis: np.ndarray, q: np.ndarray) -> NumPoly:
@@ -124,7 +111,7 @@ class TaylorSearch:
             if fld is not None:
                 aff.add_const(self.norm, -1.0)
                 if isinstance(v, dict):
-                    aff.add_const(_lie(v, fld), -1.0)
+                    aff.add_const(numeric_lie(v, fld), -1.0)
                 else:
                     aff.add_lie(v, fld, -1.0)
                 q = gram_unknown(_safe(name), full_basis(n, hq, 1))
