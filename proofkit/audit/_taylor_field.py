@@ -41,7 +41,7 @@ from itertools import product
 from math import factorial
 from typing import Any
 
-from proofkit.audit._recast_field import _Walk  # the recast's atom walk, reused as is
+from proofkit.audit._recast_field import _enclosure, _Walk  # the recast's atom walk, reused as is
 from proofkit.audit.algebra import (
     Poly,
     poly_add,
@@ -93,19 +93,6 @@ class TaylorModel:
     bounds: tuple[tuple[Poly, Fraction], ...]  # exp atoms: delta <= D must hold on the set
     d: int
     enclosure: tuple[Fraction, Fraction] | None
-
-
-def _enclosure(block: dict[str, Any], d: int, where: str) -> tuple[Fraction, Fraction] | None:
-    raw = block.get("enclosure")
-    if d == 0:
-        require(raw is None, "taylor model", "an enclosure is stated for a rational field")
-        return None
-    if not isinstance(raw, list) or len(raw) != 2:
-        raise FormatError(f"{where}.enclosure: expected [lo, hi] enclosing sqrt(d)")
-    lo, hi = (read_number(x, 0, f"{where}.enclosure[{i}]").a for i, x in enumerate(raw))
-    require(0 <= lo < hi, "enclosure", "expected 0 <= lo < hi")
-    require(lo * lo <= d <= hi * hi, "enclosure", f"[{lo}, {hi}] does not enclose sqrt({d})")
-    return lo, hi
 
 
 def _power(p: Poly, k: int, nvars: int) -> Poly:

@@ -30,7 +30,7 @@ import flint
 import numpy as np
 import sympy as sp
 
-__all__ = ["RecastSystem", "Unsupported", "build_system"]
+__all__ = ["RecastSystem", "Unsupported", "build_system", "field_inputs"]
 
 Pair = tuple[flint.fmpq_mpoly, flint.fmpq_mpoly]
 
@@ -422,3 +422,27 @@ def _reciprocals(w: _Walker, f: list[Pair], full: list[Pair], deltas: list, up: 
         poles.append((f"denominator {k + 1}", qz if q0 > 0 else -qz))
         deltas.append(("reciprocal", qz))
     return tuple(recips), tuple(poles)
+
+
+def field_inputs(
+    model: Any, claim: Any, method: str
+) -> tuple[list, list[Fraction], list[Fraction]] | str:
+    """The field's expression trees, the claim's rational point and the nominal values of
+    the uncertain parameters (as the certificate states them), or why ``method`` cannot
+    start: the inputs of every recast-family prover."""
+    from proofkit.certificate import claim_structure, model_section
+
+    trees = (model_section(model).get("expressions") or {}).get("components")
+    if not trees:
+        return "the field is polynomial or rational, or has no expression trees"
+    eq = claim_structure(model, claim).get("equilibrium") or {}
+    pt = eq.get("point")
+    if pt is None or not all(isinstance(x, str) for x in pt):
+        return f"{method} needs a rational equilibrium point"
+    nominal = []
+    for p in model.params:
+        if p.is_uncertain:
+            if not p.nominal.is_Rational:
+                return f"the nominal value of {p.name} is not rational"
+            nominal.append(Fraction(int(p.nominal.p), int(p.nominal.q)))
+    return trees, [Fraction(x) for x in pt], nominal

@@ -41,7 +41,7 @@ from proofkit.certificate import claim_entry, claim_scope, claim_structure, mode
 from proofkit.proofs._recast_exact import exact_evidence, fraction, poly_json, round_poly
 from proofkit.proofs._recast_recip import Reduction, lift_evidence, reduce_system
 from proofkit.proofs._recast_search import Obligation, SearchData, hint_step, numeric, shape_step
-from proofkit.proofs._recast_system import RecastSystem, Unsupported, build_system
+from proofkit.proofs._recast_system import RecastSystem, Unsupported, build_system, field_inputs
 
 if TYPE_CHECKING:
     from proofkit.model import Claim, Model
@@ -196,23 +196,13 @@ def _problem(model: Model, claim: Claim, order: int) -> _Problem | str:
         return "recasting proves stable and attracts claims"
     if claim_scope(model, claim) != "nominal":
         return "recasting proves claims at the nominal parameter values only"
-    section = model_section(model)
-    trees = (section.get("expressions") or {}).get("components")
-    if not trees:
-        return "the field is polynomial or rational, or has no expression trees"
-    structure = claim_structure(model, claim)
-    eq = structure.get("equilibrium") or {}
-    pt = eq.get("point")
-    if pt is None or not all(isinstance(x, str) for x in pt):
-        return "recasting needs a rational equilibrium point"
-    nominal = []
-    for p in model.params:
-        if p.is_uncertain:
-            if not p.nominal.is_Rational:
-                return f"the nominal value of {p.name} is not rational"
-            nominal.append(Fraction(int(p.nominal.p), int(p.nominal.q)))
+    inputs = field_inputs(model, claim, "recasting")
+    if isinstance(inputs, str):
+        return inputs
+    trees, pt, nominal = inputs
+    section, structure = model_section(model), claim_structure(model, claim)
     try:
-        system = build_system(trees, [Fraction(x) for x in pt], nominal, order, reciprocal=True)
+        system = build_system(trees, pt, nominal, order, reciprocal=True)
     except Unsupported as exc:
         return f"the field cannot be recast: {exc}"
     reduction = None

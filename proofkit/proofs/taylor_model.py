@@ -36,6 +36,7 @@ import flint
 import numpy as np
 
 from proofkit.certificate import claim_entry, claim_scope, claim_structure, model_section
+from proofkit.proofs._recast_system import field_inputs
 from proofkit.proofs._taylor_exact import ExactProblem, exact_evidence
 from proofkit.proofs._taylor_search import Hint, TaylorSearch
 from proofkit.proofs._taylor_system import Unsupported, taylor_system
@@ -89,21 +90,11 @@ def _problem(
         return "Taylor models prove stable and attracts claims"
     if claim_scope(model, claim) != "nominal":
         return "Taylor models prove claims at the nominal parameter values only"
+    inputs = field_inputs(model, claim, "Taylor models")
+    if isinstance(inputs, str):
+        return inputs
+    trees, point, nominal = inputs
     section = model_section(model)
-    trees = (section.get("expressions") or {}).get("components")
-    if not trees:
-        return "the field is polynomial or rational, or has no expression trees"
-    eq = claim_structure(model, claim).get("equilibrium") or {}
-    pt = eq.get("point")
-    if pt is None or not all(isinstance(x, str) for x in pt):
-        return "Taylor models need a rational equilibrium point"
-    nominal = []
-    for p in model.params:
-        if p.is_uncertain:
-            if not p.nominal.is_Rational:
-                return f"the nominal value of {p.name} is not rational"
-            nominal.append(Fraction(int(p.nominal.p), int(p.nominal.q)))
-    point = [Fraction(x) for x in pt]
     try:
         system = taylor_system(trees, point, nominal, orders, exp_bound)
     except Unsupported as exc:
